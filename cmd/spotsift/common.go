@@ -1,0 +1,88 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+	"runtime"
+
+	"spotsift/activity"
+	"spotsift/rvfit"
+)
+
+// defaultSeed is the seed used when --seed is not given; it is recorded in
+// every output, so a run can be repeated exactly.
+const defaultSeed = 1
+
+// common holds the flags shared by several subcommands.
+type common struct {
+	data    string
+	columns string
+	rvUnit  string
+	star    string
+	seed    uint64
+	workers int
+	json    bool
+	quiet   bool
+}
+
+// addData registers --data, --columns and --rv-unit.
+func (c *common) addData(fs *flag.FlagSet) {
+	fs.StringVar(&c.data, "data", "", "per-epoch `table`: CSV/TSV (header row, # comments) or FITS binary table")
+	fs.StringVar(&c.columns, "columns", "", "map the table's own column names onto ours, e.g. `rv=vrad,time=bjd`")
+	fs.StringVar(&c.rvUnit, "rv-unit", "", "unit of the table's velocities, m/s or km/s (default: from a '# units:' comment, else m/s)")
+}
+
+// addStar registers --star.
+func (c *common) addStar(fs *flag.FlagSet) {
+	fs.StringVar(&c.star, "star", "", "stellar parameters, a TOML `file` (name, B-V, mass, Teff, v sin i, rotation period, S-index calibration, air/vacuum)")
+}
+
+// addRun registers --seed, --workers, --json and --quiet.
+func (c *common) addRun(fs *flag.FlagSet) {
+	fs.Uint64Var(&c.seed, "seed", defaultSeed, "seed of every random draw; the same seed gives the same output")
+	fs.IntVar(&c.workers, "workers", runtime.NumCPU(), "number of parallel workers")
+	fs.BoolVar(&c.json, "json", false, "write machine-readable JSON to stdout")
+	fs.BoolVar(&c.quiet, "quiet", false, "no progress or warnings on stderr")
+}
+
+// loadData reads and validates the --data table, printing the reader's
+// warnings (unless --quiet). minEpochs is the fewest epochs the command can
+// work with.
+func (c *common) loadData(e *env, cmd string, minEpochs int) (*rvfit.Series, error) {
+	if c.data == "" {
+		return nil, fmt.Errorf("%s: --data is required", cmd)
+	}
+	cols, err := rvfit.ParseColumnMap(c.columns)
+	if err != nil {
+		return nil, fmt.Errorf("--columns: %w", err)
+	}
+	s, warns, err := rvfit.ReadTable(c.data, &rvfit.ReadOptions{Columns: cols, RVUnit: c.rvUnit})
+	if err != nil {
+		return nil, err
+	}
+	if !c.quiet {
+		for _, w := range warns {
+			fmt.Fprintf(e.stderr, "spotsift: warning: %s\n", w)
+		}
+	}
+	if err := s.Require(minEpochs, cmd); err != nil {
+		return nil, err
+	}
+	return s, nil
+}
+
+// loadStar reads the --star file, or returns nil when none was given.
+func (c *common) loadStar() (*activity.Star, error) {
+	if c.star == "" {
+		return nil, nil
+	}
+	return activity.ReadStar(c.star)
+}
+
+// workersOK checks --workers.
+func (c *common) workersOK() error {
+	if c.workers < 1 {
+		return fmt.Errorf("--workers must be at least 1, got %d", c.workers)
+	}
+	return nil
+}

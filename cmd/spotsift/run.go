@@ -1,0 +1,143 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"sort"
+	"strings"
+)
+
+// Exit codes of every subcommand.
+const (
+	exitOK     = 0 // success, whatever the verdict
+	exitFailed = 1 // the analysis failed
+	exitUsage  = 2 // bad usage or bad input
+)
+
+// version is the program version recorded in every output file.
+const version = "0.1.0-dev"
+
+// env is what a subcommand may touch: its output streams.
+type env struct {
+	stdout io.Writer
+	stderr io.Writer
+}
+
+// command is one subcommand.
+type command struct {
+	name    string
+	summary string
+	run     func(args []string, e *env) int
+}
+
+// commands lists every subcommand, in the order help shows them.
+var commands = []command{
+	{"demo", "simulate a demo sample and run the whole job on it", runDemo},
+	{"simulate", "write synthetic spectra and tables of spotted stars", runSimulate},
+	{"measure", "turn spectra into a per-epoch indicator table", runMeasure},
+	{"scan", "periodograms of RV and every indicator", runScan},
+	{"model", "joint Keplerian + activity-noise fit", runModel},
+	{"vet", "full diagnosis of each signal: verdict and report", runVet},
+	{"survey", "a whole stellar sample, in parallel, resumable", runSurvey},
+}
+
+// run is the whole program; main only exits with its result.
+func run(args []string, stdout, stderr io.Writer) int {
+	e := &env{stdout: stdout, stderr: stderr}
+	if len(args) == 0 {
+		usage(stderr)
+		return exitUsage
+	}
+	name := args[0]
+	switch name {
+	case "help", "-h", "-help", "--help":
+		if len(args) > 1 {
+			return run([]string{args[1], "-h"}, stdout, stderr)
+		}
+		usage(stderr)
+		return exitOK
+	case "version", "--version":
+		fmt.Fprintf(stdout, "spotsift %s\n", version)
+		return exitOK
+	}
+	for _, c := range commands {
+		if c.name == name {
+			return c.run(args[1:], e)
+		}
+	}
+	fmt.Fprintf(stderr, "spotsift: unknown command %q\n\n", name)
+	usage(stderr)
+	return exitUsage
+}
+
+func usage(w io.Writer) {
+	fmt.Fprint(w, `spotsift tells, for each periodic signal in a star's radial velocities,
+whether it tracks the star's activity or looks planetary.
+
+Usage: spotsift <command> [flags]
+
+Commands:
+`)
+	for _, c := range commands {
+		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
+	}
+	fmt.Fprint(w, `
+Run "spotsift <command> -h" for a command's flags.
+Exit status: 0 success, 1 failed analysis, 2 bad usage or bad input.
+`)
+}
+
+// newFlagSet returns a flag set for a subcommand whose usage text starts
+// with synopsis and about.
+func newFlagSet(e *env, name, synopsis, about string) *flag.FlagSet {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(e.stderr)
+	fs.Usage = func() {
+		fmt.Fprintf(e.stderr, "Usage: spotsift %s %s\n\n%s\n\nFlags:\n", name, synopsis, strings.TrimSpace(about))
+		fs.PrintDefaults()
+	}
+	return fs
+}
+
+// parseFlags parses args; it returns ok=false and the exit code when the
+// command should stop (help asked for: 0; bad flags: 2).
+func parseFlags(fs *flag.FlagSet, args []string) (code int, ok bool) {
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return exitOK, false
+		}
+		return exitUsage, false
+	}
+	if fs.NArg() > 0 {
+		fmt.Fprintf(fs.Output(), "spotsift %s: unexpected argument %q\n", fs.Name(), fs.Arg(0))
+		return exitUsage, false
+	}
+	return 0, true
+}
+
+// fail prints err once, prefixed with the program name, and returns code.
+func fail(e *env, code int, err error) int {
+	fmt.Fprintf(e.stderr, "spotsift: %v\n", err)
+	return code
+}
+
+// notBuilt reports that a command's machinery does not exist yet.
+func notBuilt(e *env, cmd, what string) int {
+	fmt.Fprintf(e.stderr, "spotsift %s: %s is not built yet in this version\n", cmd, what)
+	return exitUsage
+}
+
+// sortedKeys returns the keys of m in order.
+func sortedKeys[V any](m map[string]V) []string {
+	keys := make([]string, 0, len(m))
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	return keys
+}
+
+// errorf is fmt.Errorf, shortened for the commands.
+func errorf(format string, a ...any) error { return fmt.Errorf(format, a...) }
