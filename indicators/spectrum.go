@@ -1,5 +1,10 @@
 package indicators
 
+import (
+	"fmt"
+	"math"
+)
+
 // Spectrum is one observed (or simulated) spectrum: one or more orders of
 // wavelength and flux, and what is known about the exposure.
 //
@@ -31,6 +36,91 @@ type Order struct {
 	// Poisson noise applies); never negative or NaN in a valid spectrum.
 	Flux []float64
 	// Err holds one-sigma flux errors per pixel; nil means photon noise,
-	// sqrt(max(Flux, 0)), is assumed.
+	// sqrt(max(Flux, 1)), is assumed.
 	Err []float64
+}
+
+// Validate checks that s holds at least one order, that every order's
+// slices have equal, non-zero lengths, that wavelengths are finite, positive
+// and strictly increasing, that fluxes are finite and not negative, and that
+// errors, when given, are finite and positive.
+//
+// The returned error is a *FileError naming the order and pixel, wrapping
+// ErrNoData, ErrMismatch, ErrNotFinite, ErrNotIncreasing, ErrNegativeFlux or
+// ErrBadError.
+func (s *Spectrum) Validate() error {
+	return s.validate(false)
+}
+
+func (s *Spectrum) validate(allowNegative bool) error {
+	bad := func(o, p int, err error) error {
+		return &FileError{File: s.Name, HDU: -1, Order: o, Pixel: p, Err: err}
+	}
+	if len(s.Orders) == 0 {
+		return bad(-1, -1, ErrNoData)
+	}
+	for o := range s.Orders {
+		ord := &s.Orders[o]
+		n := len(ord.Wavelength)
+		if n == 0 {
+			return bad(o, -1, ErrNoData)
+		}
+		if len(ord.Flux) != n || (ord.Err != nil && len(ord.Err) != n) {
+			return bad(o, -1, ErrMismatch)
+		}
+		for i, w := range ord.Wavelength {
+			if math.IsNaN(w) || math.IsInf(w, 0) || w <= 0 {
+				return bad(o, i, fmt.Errorf("%w: wavelength %v", ErrNotFinite, w))
+			}
+			if i > 0 && w <= ord.Wavelength[i-1] {
+				return bad(o, i, fmt.Errorf("%w: %v after %v", ErrNotIncreasing, w, ord.Wavelength[i-1]))
+			}
+		}
+		for i, f := range ord.Flux {
+			if math.IsNaN(f) || math.IsInf(f, 0) {
+				return bad(o, i, fmt.Errorf("%w: flux %v", ErrNotFinite, f))
+			}
+			if f < 0 && !allowNegative {
+				return bad(o, i, fmt.Errorf("%w: %v", ErrNegativeFlux, f))
+			}
+		}
+		for i, e := range ord.Err {
+			if !(e > 0) || math.IsInf(e, 0) {
+				return bad(o, i, fmt.Errorf("%w: %v", ErrBadError, e))
+			}
+		}
+	}
+	return nil
+}
+
+// Clone returns a deep copy of s.
+func (s *Spectrum) Clone() *Spectrum {
+	c := *s
+	c.Orders = make([]Order, len(s.Orders))
+	for i, o := range s.Orders {
+		c.Orders[i] = Order{
+			Wavelength: append([]float64(nil), o.Wavelength...),
+			Flux:       append([]float64(nil), o.Flux...),
+		}
+		if o.Err != nil {
+			c.Orders[i].Err = append([]float64(nil), o.Err...)
+		}
+	}
+	if s.Header != nil {
+		c.Header = make(map[string]string, len(s.Header))
+		for k, v := range s.Header {
+			c.Header[k] = v
+		}
+	}
+	return &c
+}
+
+// sigma returns the one-sigma error of pixel i: Err[i] when given, else
+// the photon noise sqrt(max(Flux[i], 1)) (at least one electron, so that a
+// zero-flux pixel never gets zero weight-free variance).
+func (o *Order) sigma(i int) float64 {
+	if o.Err != nil {
+		return o.Err[i]
+	}
+	return math.Sqrt(math.Max(o.Flux[i], 1))
 }
