@@ -256,6 +256,9 @@ func (rt *rawTable) build(opts *ReadOptions) (*Series, []string, error) {
 	if err := checkRequired(s.RVErr, fn); err != nil {
 		return nil, nil, err
 	}
+	if rt.units[fn] == "" {
+		rt.units[fn] = rt.units[rvFile] // an uncertainty is in its value's unit
+	}
 	errScale, err := rvUnitFrom(fn)
 	if err != nil {
 		return nil, nil, err
@@ -339,7 +342,11 @@ func (rt *rawTable) build(opts *ReadOptions) (*Series, []string, error) {
 				return nil, nil, rt.notNumeric(errFile)
 			}
 			errs = append([]float64(nil), ev...)
-			escale, _ := unitFor(canon, rt.units[errFile])
+			eu := rt.units[errFile]
+			if eu == "" {
+				eu = rt.units[fname] // an uncertainty is in its value's unit
+			}
+			escale, _ := unitFor(canon, eu)
 			for i := range errs {
 				errs[i] *= escale
 			}
