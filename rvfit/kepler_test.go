@@ -13,10 +13,10 @@ func TestEccentricAnomalyTable(t *testing.T) {
 	// Astronomical Algorithms ch. 30 (5.554589°, from memory) and the
 	// e = 0.99, M = 2° row Meeus's high-e example (32.361007°, from memory).
 	rows := []struct {
-		name          string
-		e, Mdeg       float64
-		Edeg, nuDeg   float64
-		tolE, tolNu   float64 // degrees
+		name        string
+		e, Mdeg     float64
+		Edeg, nuDeg float64
+		tolE, tolNu float64 // degrees
 	}{
 		{"meeus e=0.1 M=5", 0.1, 5, 5.554589254, 6.139761521, 1e-9, 1e-9},
 		{"e=0.5 M=30", 0.5, 30, 52.827087168, 81.411338376, 1e-9, 1e-9},
