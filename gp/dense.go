@@ -35,13 +35,33 @@ func (s *DenseSettings) maxJitter() float64 {
 // Reference: Rasmussen & Williams 2006, Gaussian Processes for Machine
 // Learning, MIT Press, Algorithm 2.1 (from memory).
 type Dense struct {
+	denseCore
 	kernel   Kernel
 	t        []float64
 	variance []float64
-	chol     *cholesky
-	status   Status
-	jitter   float64
-	logDet   float64
+}
+
+// denseCore is a Cholesky-factorised covariance matrix with its
+// factorisation outcome.
+type denseCore struct {
+	chol   *cholesky
+	status Status
+	jitter float64
+	logDet float64
+}
+
+// newDenseCore factorises the matrix written by fill into an n×n buffer
+// (lower triangle only).
+func newDenseCore(n int, fill func(c *cholesky), s *DenseSettings) (denseCore, error) {
+	c := newCholeskyBuffer(n)
+	fill(c)
+	st, jit, err := factorWithJitter(c, s.maxJitter())
+	core := denseCore{chol: c, status: st, jitter: jit}
+	if err != nil {
+		return core, err
+	}
+	core.logDet = c.logDet()
+	return core, nil
 }
 
 // NewDense builds and factorises the covariance of kernel k at times t
@@ -77,15 +97,9 @@ func NewDense(k Kernel, t, variance []float64, s *DenseSettings) (*Dense, error)
 			row[i] = k.Cov(0) + nug + d.variance[i]
 		}
 	}
-	c := newCholeskyBuffer(n)
-	fill(c)
-	st, jit, err := factorWithJitter(c, s.maxJitter())
-	d.chol, d.status, d.jitter = c, st, jit
-	if err != nil {
-		return d, err
-	}
-	d.logDet = c.logDet()
-	return d, nil
+	var err error
+	d.denseCore, err = newDenseCore(n, fill, s)
+	return d, err
 }
 
 // factorWithJitter factorises c, retrying with jitter added to a fresh
@@ -122,19 +136,19 @@ func factorWithJitter(c *cholesky, maxRel float64) (Status, float64, error) {
 }
 
 // Len returns the number of points.
-func (d *Dense) Len() int { return len(d.t) }
+func (d *denseCore) Len() int { return d.chol.n }
 
 // Status returns the outcome of the factorisation.
-func (d *Dense) Status() Status { return d.status }
+func (d *denseCore) Status() Status { return d.status }
 
 // Jitter returns the diagonal jitter (unit of the data squared) that was
 // added to factorise the covariance; zero when none was needed.
-func (d *Dense) Jitter() float64 { return d.jitter }
+func (d *denseCore) Jitter() float64 { return d.jitter }
 
 // LogDet returns ln det K.
-func (d *Dense) LogDet() float64 { return d.logDet }
+func (d *denseCore) LogDet() float64 { return d.logDet }
 
-func (d *Dense) usable() error {
+func (d *denseCore) usable() error {
 	if d.status == NotPositiveDefinite {
 		return ErrNotPositiveDefinite
 	}
@@ -142,7 +156,7 @@ func (d *Dense) usable() error {
 }
 
 // Solve stores x = K⁻¹y in dst (allocated if nil or short) and returns it.
-func (d *Dense) Solve(dst, y []float64) ([]float64, error) {
+func (d *denseCore) Solve(dst, y []float64) ([]float64, error) {
 	if err := d.usable(); err != nil {
 		return nil, err
 	}
@@ -161,7 +175,7 @@ func (d *Dense) Solve(dst, y []float64) ([]float64, error) {
 //	ln L = −½ rᵀK⁻¹r − ½ ln det K − (N/2) ln 2π
 //
 // (Rasmussen & Williams 2006, eq. 2.30).
-func (d *Dense) LogLikelihood(r []float64) (float64, error) {
+func (d *denseCore) LogLikelihood(r []float64) (float64, error) {
 	if err := d.usable(); err != nil {
 		return math.Inf(-1), err
 	}
@@ -251,7 +265,7 @@ func crossFunc(k Kernel, deriv bool) (func(float64) float64, float64, error) {
 
 // Draw returns a draw y ~ N(0, K) from the prior, including the per-point
 // variances and white noise: y = L z with z standard normal from rnd.
-func (d *Dense) Draw(dst []float64, rnd *rand.Rand) ([]float64, error) {
+func (d *denseCore) Draw(dst []float64, rnd *rand.Rand) ([]float64, error) {
 	if err := d.usable(); err != nil {
 		return nil, err
 	}
