@@ -1,0 +1,493 @@
+package indicators
+
+import (
+	"fmt"
+	"math"
+	"sort"
+)
+
+// CCFOptions set the velocity grid and hole width of a cross-correlation.
+// A nil *CCFOptions means the zero value, whose fields are documented below.
+type CCFOptions struct {
+	// Center is the centre of the velocity search (or, when Search < 0, of
+	// the grid itself), in m/s. The zero value is 0.
+	Center float64
+	// Search is the half-width in m/s of a coarse search for the line
+	// (1 km/s steps, the 400 heaviest mask lines) that centres the grid and
+	// estimates the line width. The zero value means 200 km/s; a negative
+	// value skips the search and centres the grid on Center.
+	Search float64
+	// HalfWidth is the half-width of the grid in m/s. The zero value means
+	// max(20 km/s, 3 × the FWHM found by the coarse search), or 20 km/s
+	// without a search.
+	HalfWidth float64
+	// Step is the grid step in m/s; the zero value means 250 m/s. The grid
+	// centre is rounded to a multiple of Step, so that spectra of one star
+	// share a grid.
+	Step float64
+	// HoleWidth is the width of each mask hole in m/s, constant in
+	// velocity. The zero value means the median velocity width of the
+	// spectrum's pixels.
+	HoleWidth float64
+	// Chunks is the number of pseudo-orders, equal in ln λ, that a
+	// one-order spectrum is cut into for per-order RVs and the chromatic
+	// slope. The zero value means 10; 1 disables the split. Multi-order
+	// spectra always use their orders.
+	Chunks int
+}
+
+// CCF is a cross-correlation function of a spectrum with a weighted mask,
+//
+//	CCF(v) = Σ_orders Σ_l w_l Σ_x F_x · overlap_x,l(v),
+//
+// where overlap_x,l(v) is the fraction of pixel x's wavelength interval
+// covered by the hole [λ_l D(v)(1 − Δ/2c), λ_l D(v)(1 + Δ/2c)], D the
+// relativistic Doppler factor and Δ the hole width in velocity (Baranne et
+// al. 1996, A&AS 119, 373; Pepe et al. 2002, A&A 388, 632; from memory).
+// Only lines whose hole stays inside one order over the whole grid are used,
+// so that the continuum of the CCF is flat.
+type CCF struct {
+	// V holds the grid velocities in m/s, increasing and uniform.
+	V []float64
+	// Value holds the CCF summed over orders; Var its photon-noise variance
+	// per bin, Σ w_l² Σ_x σ_x² overlap², ignoring the correlation between
+	// bins (which the errors of Measure do take into account).
+	Value, Var []float64
+	// Segments holds the CCF of each order (or pseudo-order), bluest first.
+	Segments []SegmentCCF
+	// Lines is the number of (line, order) pairs used.
+	Lines int
+	// HoleWidth and PixelWidth are the hole width and the median pixel
+	// width, in m/s.
+	HoleWidth, PixelWidth float64
+
+	plan *ccfPlan
+}
+
+// SegmentCCF is the CCF of one order or pseudo-order.
+type SegmentCCF struct {
+	// Order is the spectral order the lines lie in.
+	Order int
+	// Wavelength is the weight-averaged rest wavelength of its lines in Å.
+	Wavelength float64
+	// Lines is the number of mask lines used.
+	Lines int
+	// Value and Var are as in CCF.
+	Value, Var []float64
+}
+
+// placement is one mask line placed in one order.
+type placement struct {
+	order, seg, start int32
+	lambda, weight    float64
+}
+
+// ccfOrder holds the pixel geometry of one order.
+type ccfOrder struct {
+	edges, invw, flux, sig2 []float64
+	offset                  int // index of pixel 0 in the global pixel numbering
+}
+
+// ccfPlan is everything needed to recompute a CCF or propagate errors
+// through it.
+type ccfPlan struct {
+	orders []ccfOrder
+	places []placement // sorted by segment
+	dk     []float64   // Doppler factors of the grid
+	h      float64     // half hole width over c
+	npix   int
+}
+
+// ComputeCCF cross-correlates s with the mask m on the grid set by opts
+// (nil: defaults). The mask is converted to the spectrum's air or vacuum
+// scale when the two differ. It returns an error wrapping ErrNoMaskLines
+// when no line of the mask falls inside the spectrum over the grid, and the
+// validation errors of Spectrum.Validate.
+func ComputeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
+	if err := s.validate(true); err != nil {
+		return nil, err
+	}
+	if m == nil || m.Len() == 0 {
+		return nil, fmt.Errorf("%s: %w", s.Name, ErrNoMaskLines)
+	}
+	var o CCFOptions
+	if opts != nil {
+		o = *opts
+	}
+	if o.Step == 0 {
+		o.Step = 250
+	}
+	if o.Chunks == 0 {
+		o.Chunks = 10
+	}
+	if !(o.Step > 0) || o.HalfWidth < 0 || o.HoleWidth < 0 || o.Chunks < 0 || math.IsNaN(o.Center) || math.IsNaN(o.Search) {
+		return nil, fmt.Errorf("%w: CCF options %+v", ErrBadParameter, o)
+	}
+	m = m.onScale(s.Vacuum)
+	orders := prepareOrders(s)
+	pixw := medianPixelWidth(s)
+	hole := o.HoleWidth
+	if hole == 0 {
+		hole = pixw
+	}
+	center := o.Center
+	half := o.HalfWidth
+	if o.Search >= 0 {
+		search := o.Search
+		if search == 0 {
+			search = 200e3
+		}
+		vc, fwhm, err := coarseSearch(orders, m, center, search, math.Max(1000, hole), hole)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", s.Name, err)
+		}
+		center = vc
+		if half == 0 {
+			half = math.Max(20e3, 3*fwhm)
+		}
+	}
+	if half == 0 {
+		half = 20e3
+	}
+	center = math.Round(center/o.Step) * o.Step
+	nhalf := int(math.Round(half / o.Step))
+	if nhalf < 3 || nhalf > 100000 {
+		return nil, fmt.Errorf("%w: grid of %d steps", ErrBadParameter, 2*nhalf+1)
+	}
+	v := make([]float64, 2*nhalf+1)
+	for k := range v {
+		v[k] = center + float64(k-nhalf)*o.Step
+	}
+	plan, err := newPlan(orders, m, v, hole, o.Chunks, len(s.Orders) == 1)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", s.Name, err)
+	}
+	c := plan.run()
+	c.V = v
+	c.HoleWidth = hole
+	c.PixelWidth = pixw
+	return c, nil
+}
+
+func prepareOrders(s *Spectrum) []ccfOrder {
+	out := make([]ccfOrder, len(s.Orders))
+	off := 0
+	var total int
+	for i := range s.Orders {
+		total += len(s.Orders[i].Wavelength)
+	}
+	sig2 := make([]float64, total)
+	for i := range s.Orders {
+		ord := &s.Orders[i]
+		wl := ord.Wavelength
+		n := len(wl)
+		e := make([]float64, n+1)
+		if n == 1 {
+			e[0], e[1] = wl[0]*(1-1e-6), wl[0]*(1+1e-6)
+		} else {
+			for x := 1; x < n; x++ {
+				e[x] = 0.5 * (wl[x-1] + wl[x])
+			}
+			e[0] = wl[0] - 0.5*(wl[1]-wl[0])
+			e[n] = wl[n-1] + 0.5*(wl[n-1]-wl[n-2])
+		}
+		iw := make([]float64, n)
+		s2 := sig2[off : off+n]
+		for x := range iw {
+			iw[x] = 1 / (e[x+1] - e[x])
+			sg := ord.sigma(x)
+			s2[x] = sg * sg
+		}
+		out[i] = ccfOrder{edges: e, invw: iw, flux: ord.Flux, sig2: s2, offset: off}
+		off += n
+	}
+	return out
+}
+
+// medianPixelWidth returns the median of c·Δλ/λ over (a sample of) pixels.
+func medianPixelWidth(s *Spectrum) float64 {
+	var w []float64
+	for _, o := range s.Orders {
+		n := len(o.Wavelength)
+		step := max(1, n/2000)
+		for x := 1; x < n; x += step {
+			w = append(w, C*(o.Wavelength[x]-o.Wavelength[x-1])/o.Wavelength[x])
+		}
+	}
+	if len(w) == 0 {
+		return 1000
+	}
+	sort.Float64s(w)
+	return w[len(w)/2]
+}
+
+// newPlan places the mask lines in the orders: a line is used in an order
+// when its hole lies inside the order at every grid velocity.
+func newPlan(orders []ccfOrder, m *Mask, v []float64, hole float64, chunks int, single bool) (*ccfPlan, error) {
+	p := &ccfPlan{orders: orders, h: hole / (2 * C)}
+	p.dk = make([]float64, len(v))
+	for k := range v {
+		p.dk[k] = DopplerFactor(v[k])
+	}
+	dlo := p.dk[0] * (1 - p.h)
+	dhi := p.dk[len(v)-1] * (1 + p.h)
+	for oi, o := range orders {
+		e := o.edges
+		lo := sort.SearchFloat64s(m.Wavelength, e[0]/dlo)
+		for l := lo; l < m.Len() && m.Wavelength[l]*dhi <= e[len(e)-1]; l++ {
+			lam := m.Wavelength[l]
+			start := sort.SearchFloat64s(e, lam*dlo) - 1
+			if start < 0 {
+				start = 0
+			}
+			p.places = append(p.places, placement{order: int32(oi), start: int32(start), lambda: lam, weight: m.Weight[l]})
+		}
+		p.npix = o.offset + len(o.flux)
+	}
+	if len(p.places) == 0 {
+		return nil, ErrNoMaskLines
+	}
+	if single && chunks > 1 {
+		lmin, lmax := math.Log(p.places[0].lambda), math.Log(p.places[len(p.places)-1].lambda)
+		for i := range p.places {
+			f := (math.Log(p.places[i].lambda) - lmin) / (lmax - lmin + 1e-300)
+			p.places[i].seg = int32(min(chunks-1, int(f*float64(chunks))))
+		}
+	} else {
+		for i := range p.places {
+			p.places[i].seg = p.places[i].order
+		}
+		sort.SliceStable(p.places, func(a, b int) bool { return p.places[a].seg < p.places[b].seg })
+	}
+	// Renumber segments densely.
+	seg, last := int32(-1), int32(-1)
+	for i := range p.places {
+		if p.places[i].seg != last {
+			last = p.places[i].seg
+			seg++
+		}
+		p.places[i].seg = seg
+	}
+	return p, nil
+}
+
+// run computes the CCF of every segment and their sum.
+func (p *ccfPlan) run() *CCF {
+	nv := len(p.dk)
+	nseg := int(p.places[len(p.places)-1].seg) + 1
+	c := &CCF{Value: make([]float64, nv), Var: make([]float64, nv), Segments: make([]SegmentCCF, nseg), Lines: len(p.places), plan: p}
+	for s := range c.Segments {
+		c.Segments[s].Value = make([]float64, nv)
+		c.Segments[s].Var = make([]float64, nv)
+	}
+	lo, hi := 1-p.h, 1+p.h
+	var wsum []float64 = make([]float64, nseg)
+	for _, pl := range p.places {
+		o := &p.orders[pl.order]
+		e, iw, f, s2 := o.edges, o.invw, o.flux, o.sig2
+		sg := &c.Segments[pl.seg]
+		sg.Order = int(pl.order)
+		sg.Lines++
+		sg.Wavelength += pl.weight * pl.lambda
+		wsum[pl.seg] += pl.weight
+		w, w2 := pl.weight, pl.weight*pl.weight
+		x0 := int(pl.start)
+		val, vr := sg.Value, sg.Var
+		for k, d := range p.dk {
+			a := pl.lambda * d * lo
+			b := pl.lambda * d * hi
+			for e[x0+1] <= a {
+				x0++
+			}
+			var sum, v2 float64
+			for x := x0; e[x] < b; x++ {
+				l, r := e[x], e[x+1]
+				if a > l {
+					l = a
+				}
+				if b < r {
+					r = b
+				}
+				ov := (r - l) * iw[x]
+				sum += f[x] * ov
+				v2 += s2[x] * ov * ov
+			}
+			val[k] += w * sum
+			vr[k] += w2 * v2
+		}
+	}
+	for s := range c.Segments {
+		c.Segments[s].Wavelength /= wsum[s]
+		for k := 0; k < nv; k++ {
+			c.Value[k] += c.Segments[s].Value[k]
+			c.Var[k] += c.Segments[s].Var[k]
+		}
+	}
+	return c
+}
+
+// propagate returns the photon-noise variances of linear functionals of the
+// CCF: quantity q has gradient g[q][k] = ∂Q/∂CCF(v_k) with respect to the
+// summed CCF, and segment s has gradient sg[s][k] with respect to its own
+// CCF (nil to skip). Because the CCF is linear in the pixel fluxes,
+//
+//	Var Q = Σ_x σ_x² (Σ_k g_k ∂CCF_k/∂F_x)²
+//
+// exactly, including the correlation between neighbouring CCF bins.
+func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
+	nq := len(g)
+	h := make([]float64, p.npix*nq)
+	var hs []float64
+	if sg != nil {
+		hs = make([]float64, p.npix)
+		vs = make([]float64, len(sg))
+	}
+	lo, hi := 1-p.h, 1+p.h
+	gk := make([]float64, len(p.dk)*nq) // gk[k*nq+q]
+	for q := range g {
+		for k := range p.dk {
+			gk[k*nq+q] = g[q][k]
+		}
+	}
+	segStart := 0
+	sig2 := p.sig2()
+	// Track the touched pixel range of each segment to accumulate and clear
+	// its scratch array.
+	touchedLo, touchedHi := math.MaxInt, -1
+	for i := 0; i <= len(p.places); i++ {
+		if sg != nil && (i == len(p.places) || (i > segStart && p.places[i].seg != p.places[i-1].seg)) {
+			s := p.places[i-1].seg
+			var sum float64
+			for x := touchedLo; x <= touchedHi; x++ {
+				if hs[x] != 0 {
+					sum += sig2[x] * hs[x] * hs[x]
+					hs[x] = 0
+				}
+			}
+			vs[s] = sum
+			touchedLo, touchedHi = math.MaxInt, -1
+			segStart = i
+		}
+		if i == len(p.places) {
+			break
+		}
+		pl := p.places[i]
+		o := &p.orders[pl.order]
+		e, iw := o.edges, o.invw
+		off := o.offset
+		w := pl.weight
+		var gs []float64
+		if sg != nil {
+			gs = sg[pl.seg]
+		}
+		x0 := int(pl.start)
+		for k, d := range p.dk {
+			a := pl.lambda * d * lo
+			b := pl.lambda * d * hi
+			for e[x0+1] <= a {
+				x0++
+			}
+			gq := gk[k*nq : k*nq+nq]
+			for x := x0; e[x] < b; x++ {
+				l, r := e[x], e[x+1]
+				if a > l {
+					l = a
+				}
+				if b < r {
+					r = b
+				}
+				t := w * (r - l) * iw[x]
+				hx := h[(off+x)*nq : (off+x)*nq+nq]
+				for q, gv := range gq {
+					hx[q] += t * gv
+				}
+				if gs != nil {
+					hs[off+x] += t * gs[k]
+					if off+x < touchedLo {
+						touchedLo = off + x
+					}
+					if off+x > touchedHi {
+						touchedHi = off + x
+					}
+				}
+			}
+		}
+	}
+	vq = make([]float64, nq)
+	for _, o := range p.orders {
+		for x, s2 := range o.sig2 {
+			hx := h[(o.offset+x)*nq : (o.offset+x)*nq+nq]
+			for q, v := range hx {
+				vq[q] += s2 * v * v
+			}
+		}
+	}
+	return vq, vs
+}
+
+// sig2 returns the pixel variances in the global pixel numbering.
+func (p *ccfPlan) sig2() []float64 {
+	last := p.orders[len(p.orders)-1]
+	all := last.sig2[:0:0]
+	if cap(p.orders[0].sig2) >= last.offset+len(last.sig2) {
+		// prepareOrders allocates all orders in one array.
+		return p.orders[0].sig2[:last.offset+len(last.sig2)]
+	}
+	for _, o := range p.orders {
+		all = append(all, o.sig2...)
+	}
+	return all
+}
+
+// coarseSearch finds the velocity of the CCF minimum on a coarse grid and
+// the FWHM of a Gaussian fitted there.
+func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64) (vc, fwhm float64, err error) {
+	// Use the heaviest lines only: the search needs the position, not
+	// precision.
+	sub := m
+	if m.Len() > 400 {
+		idx := make([]int, m.Len())
+		for i := range idx {
+			idx[i] = i
+		}
+		sort.Slice(idx, func(a, b int) bool { return m.Weight[idx[a]] > m.Weight[idx[b]] })
+		idx = idx[:400]
+		sort.Ints(idx)
+		sub = &Mask{Vacuum: m.Vacuum, Wavelength: make([]float64, len(idx)), Weight: make([]float64, len(idx))}
+		for i, j := range idx {
+			sub.Wavelength[i], sub.Weight[i] = m.Wavelength[j], m.Weight[j]
+		}
+	}
+	n := int(math.Ceil(search / step))
+	v := make([]float64, 2*n+1)
+	for k := range v {
+		v[k] = center + float64(k-n)*step
+	}
+	// The coarse grid is wide; if lines drop out at its edges, narrow it.
+	var p *ccfPlan
+	for {
+		p, err = newPlan(orders, sub, v, math.Max(hole, step), 1, true)
+		if err == nil || len(v) < 41 {
+			break
+		}
+		v = v[len(v)/8 : len(v)-len(v)/8]
+	}
+	if err != nil {
+		// Fall back to all lines.
+		if p, err = newPlan(orders, m, v, math.Max(hole, step), 1, true); err != nil {
+			return 0, 0, err
+		}
+	}
+	c := p.run()
+	res, ferr := fitGaussian(v, c.Value, nil)
+	if ferr != nil {
+		imin := 0
+		for k := range c.Value {
+			if c.Value[k] < c.Value[imin] {
+				imin = k
+			}
+		}
+		return v[imin], 10e3, nil
+	}
+	return res.theta[2], 2.3548200450309493 * res.theta[3], nil
+}

@@ -1,0 +1,371 @@
+package indicators
+
+import (
+	"errors"
+	"fmt"
+	"math"
+)
+
+// Estimate is one measured quantity: its value and one-sigma photon-noise
+// uncertainty, or the reason it could not be measured.
+type Estimate struct {
+	// Value is the measured value, NaN when Err is not nil.
+	Value float64
+	// Sigma is the one-sigma uncertainty, NaN when unknown.
+	Sigma float64
+	// Err says why the quantity could not be measured; nil on success.
+	Err error
+}
+
+func failed(err error) Estimate { return Estimate{Value: math.NaN(), Sigma: math.NaN(), Err: err} }
+
+// OK reports whether the quantity was measured.
+func (e Estimate) OK() bool { return e.Err == nil }
+
+// Options set what Measure computes. A nil *Options means the zero value,
+// whose fields are documented below.
+type Options struct {
+	// CCF sets the velocity grid; nil means the CCFOptions defaults.
+	CCF *CCFOptions
+	// Bisector sets the BIS zones; nil means 10–40 % and 60–90 %.
+	Bisector *BisectorOptions
+	// SCalibration maps the instrumental S-index to Mount Wilson; nil
+	// means S_MW = S_inst.
+	SCalibration *SIndexCalibration
+	// RHK sets the log R'HK conversion; nil (or a zero BV) leaves log R'HK
+	// unmeasured with an error saying that B−V is needed.
+	RHK *RHKOptions
+	// HAlphaWidth is the H-alpha core width in Å; zero means 1.6 Å.
+	HAlphaWidth float64
+	// NoIndices reports whether the chromospheric indices are skipped.
+	NoIndices bool
+}
+
+// Result holds every number Measure derives from one spectrum. Velocities
+// are in m/s; RV, per-order RVs and their fits are barycentric (the
+// spectrum's BERV composed relativistically with the measured velocity,
+// 1 + z = (1 + z_meas)(1 + z_BERV), BERV taken as a velocity).
+type Result struct {
+	// Name, BJD and BERV are copied from the spectrum.
+	Name      string
+	BJD, BERV float64
+
+	// CCF is the cross-correlation function (in the spectrum's frame).
+	CCF *CCF
+	// Fit is the Gaussian fit to the CCF (in the spectrum's frame).
+	Fit GaussianFit
+
+	// RV is the centre of the Gaussian fit, corrected by BERV.
+	RV Estimate
+	// FWHM is the Gaussian full width at half maximum, 2 sqrt(2 ln 2) σ.
+	FWHM Estimate
+	// Contrast is the relative depth A/C0 of the Gaussian (0–1).
+	Contrast Estimate
+	// BIS is the bisector span (Queloz et al. 2001, A&A 379, 279).
+	BIS Estimate
+	// DeltaV is the bi-Gaussian asymmetry RV_biGauss − RV_Gauss (Nardetto
+	// et al. 2006, A&A 453, 309; Figueira et al. 2013, A&A 557, A93), with
+	// left and right halves of the profile Gaussians of separate width
+	// sharing centre and depth.
+	DeltaV Estimate
+	// PhotonLimit is the CCF-domain photon-noise limit of the RV (Bouchy,
+	// Pepe & Queloz 2001, A&A 374, 733, applied to the Gaussian model of the
+	// CCF; see GaussianFit.PhotonLimit), a cross-check of RV.Sigma.
+	PhotonLimit float64
+
+	// Orders holds the RV of each order (or pseudo-order of a one-order
+	// spectrum), bluest first.
+	Orders []OrderRV
+	// Chromatic is the slope of the per-order RVs against ln λ, in m/s per
+	// unit ln λ (Zechmeister et al. 2018, A&A 609, A12).
+	Chromatic Estimate
+
+	// SIndex is the Mount Wilson S-index (after SCalibration), LogRHK
+	// log10 R'HK, HAlpha and NaD the H-alpha and Na I D indices; all are
+	// measured in the stellar rest frame.
+	SIndex, LogRHK, HAlpha, NaD Estimate
+}
+
+// OrderRV is the RV of one order or pseudo-order.
+type OrderRV struct {
+	// Order is the spectral order the lines lie in.
+	Order int
+	// Wavelength is the weight-averaged rest wavelength of its lines in Å.
+	Wavelength float64
+	// RV is the barycentric RV of this order's CCF.
+	RV Estimate
+}
+
+// Measure computes every indicator of one spectrum against the mask m: the
+// CCF (ComputeCCF), its Gaussian fit (RV, FWHM, contrast), the bisector
+// span, the bi-Gaussian ΔV, per-order RVs and their chromatic slope, and
+// the chromospheric indices (S, log R'HK, H-alpha, Na I D), which are
+// measured in the stellar rest frame given by the CCF RV.
+//
+// Uncertainties are photon noise: every CCF-based quantity is a function of
+// the CCF, which is linear in the pixel fluxes, so its variance is found by
+// propagating σ_x of each pixel exactly through the linearised fit (the
+// correlation between CCF bins included); indices propagate σ_x through the
+// band sums.
+//
+// A quantity that cannot be measured carries its own error in its Estimate
+// and the others are still returned. Measure returns an error only when the
+// spectrum is invalid or the CCF cannot be computed (e.g. ErrNoMaskLines);
+// in the latter case the indices are still measured at rest velocity
+// opts.CCF.Center and returned with the error.
+func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
+	if opts == nil {
+		opts = &Options{}
+	}
+	if err := s.validate(true); err != nil {
+		return nil, err
+	}
+	r := &Result{Name: s.Name, BJD: s.BJD, BERV: s.BERV}
+	bary := func(v float64) float64 {
+		return VelocityFromLog(LogDopplerFactor(v) + LogDopplerFactor(s.BERV))
+	}
+	ccf, err := ComputeCCF(s, m, opts.CCF)
+	restV := 0.0
+	if opts.CCF != nil {
+		restV = opts.CCF.Center
+	}
+	if err != nil {
+		e := failed(err)
+		r.RV, r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.Chromatic = e, e, e, e, e, e
+		r.PhotonLimit = math.NaN()
+	} else {
+		r.CCF = ccf
+		if v, ok := r.measureCCF(ccf, opts, bary); ok {
+			restV = v
+		}
+	}
+	if opts.NoIndices {
+		e := failed(errors.New("indicators: indices not requested"))
+		r.SIndex, r.LogRHK, r.HAlpha, r.NaD = e, e, e, e
+		return r, err
+	}
+	orders := prepareOrders(s)
+	if ccf != nil {
+		orders = ccf.plan.orders
+	}
+	est := func(v, sg float64, e error) Estimate {
+		if e != nil {
+			return failed(fmt.Errorf("%s: %w", s.Name, e))
+		}
+		return Estimate{Value: v, Sigma: sg}
+	}
+	r.SIndex = est(sIndex(s, orders, restV, opts.SCalibration))
+	switch {
+	case r.SIndex.Err != nil:
+		r.LogRHK = failed(r.SIndex.Err)
+	case opts.RHK == nil || opts.RHK.BV == 0:
+		r.LogRHK = failed(fmt.Errorf("log R'HK: %w: B-V not given", ErrBadParameter))
+	default:
+		r.LogRHK = est(LogRPrimeHK(r.SIndex.Value, r.SIndex.Sigma, *opts.RHK))
+	}
+	r.HAlpha = est(hAlpha(s, orders, restV, opts.HAlphaWidth))
+	r.NaD = est(naD(s, orders, restV))
+	return r, err
+}
+
+// measureCCF fits the CCF and fills the CCF-based quantities; it returns the
+// star's velocity in the spectrum's frame.
+func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (float64, bool) {
+	nv := len(c.V)
+	w := make([]float64, nv)
+	for k := range w {
+		w[k] = 1 / math.Max(c.Var[k], 1e-300)
+	}
+	g, err := fitGaussian(c.V, c.Value, w)
+	if err != nil {
+		e := failed(fmt.Errorf("%s: CCF Gaussian fit: %w", r.Name, err))
+		r.RV, r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.Chromatic = e, e, e, e, e, e
+		r.PhotonLimit = math.NaN()
+		return 0, false
+	}
+	th := g.theta
+	r.Fit = GaussianFit{C0: th[0], A: th[1], V0: th[2], Sigma: th[3]}
+	grads := [][]float64{g.dtheta[2], make([]float64, nv), make([]float64, nv)}
+	for k := 0; k < nv; k++ {
+		grads[1][k] = 2 * math.Sqrt(2*math.Ln2) * g.dtheta[3][k]
+		grads[2][k] = (g.dtheta[1][k]*th[0] - th[1]*g.dtheta[0][k]) / (th[0] * th[0])
+	}
+	const (
+		qRV = iota
+		qFWHM
+		qContrast
+		qBIS
+		qDV
+	)
+	var bisErr, dvErr error
+	bisVal, bisGrad, bisErr := bisGradient(c.V, c.Value, g, opts.Bisector)
+	if bisErr == nil {
+		grads = append(grads, bisGrad)
+	}
+	dvVal, dvGrad, dvErr := biGaussDV(c.V, c.Value, w, g)
+	iDV := -1
+	if dvErr == nil {
+		iDV = len(grads)
+		grads = append(grads, dvGrad)
+	}
+	// Per-segment fits, started from the total fit.
+	segGrads := make([][]float64, len(c.Segments))
+	segFit := make([]fitResult, len(c.Segments))
+	segErr := make([]error, len(c.Segments))
+	for s, sg := range c.Segments {
+		ws := make([]float64, nv)
+		for k := range ws {
+			ws[k] = 1 / math.Max(sg.Var[k], 1e-300)
+		}
+		scale := sg.Value[0] / th[0]
+		start := []float64{th[0] * scale, th[1] * scale, th[2], th[3]}
+		res, ok := lmFit(c.V, sg.Value, ws, start, gaussModel, 200)
+		switch {
+		case !ok:
+			segErr[s] = ErrFitFailed
+		case !(res.theta[1] > 0) || res.theta[2] < c.V[0] || res.theta[2] > c.V[nv-1]:
+			segErr[s] = ErrNoLine
+		default:
+			segFit[s] = res
+			segGrads[s] = res.dtheta[2]
+			continue
+		}
+		segGrads[s] = make([]float64, nv)
+	}
+	vq, vs := c.plan.propagate(grads, segGrads)
+
+	r.RV = Estimate{Value: bary(th[2]), Sigma: math.Sqrt(vq[qRV])}
+	r.FWHM = Estimate{Value: r.Fit.FWHM(), Sigma: math.Sqrt(vq[qFWHM])}
+	r.Contrast = Estimate{Value: r.Fit.Contrast(), Sigma: math.Sqrt(vq[qContrast])}
+	if bisErr == nil {
+		r.BIS = Estimate{Value: bisVal, Sigma: math.Sqrt(vq[qBIS])}
+	} else {
+		r.BIS = failed(fmt.Errorf("%s: BIS: %w", r.Name, bisErr))
+	}
+	if dvErr == nil {
+		r.DeltaV = Estimate{Value: dvVal, Sigma: math.Sqrt(vq[iDV])}
+	} else {
+		r.DeltaV = failed(fmt.Errorf("%s: bi-Gaussian: %w", r.Name, dvErr))
+	}
+	over := math.Max(1, c.PixelWidth/(c.V[1]-c.V[0]))
+	r.PhotonLimit = r.Fit.PhotonLimit(c.V, c.Var, over)
+
+	var lam, rv, sig []float64
+	for s, sg := range c.Segments {
+		o := OrderRV{Order: sg.Order, Wavelength: sg.Wavelength}
+		if segErr[s] != nil {
+			o.RV = failed(fmt.Errorf("%s: order %d: %w", r.Name, sg.Order, segErr[s]))
+		} else {
+			o.RV = Estimate{Value: bary(segFit[s].theta[2]), Sigma: math.Sqrt(vs[s])}
+			lam = append(lam, sg.Wavelength)
+			rv = append(rv, o.RV.Value)
+			sig = append(sig, o.RV.Sigma)
+		}
+		r.Orders = append(r.Orders, o)
+	}
+	if len(lam) < 3 {
+		r.Chromatic = failed(fmt.Errorf("%s: chromatic slope: %w: %d orders with an RV, need 3", r.Name, ErrNoData, len(lam)))
+	} else if cf, err := FitChromatic(lam, rv, sig, 0); err != nil {
+		r.Chromatic = failed(fmt.Errorf("%s: chromatic slope: %w", r.Name, err))
+	} else {
+		r.Chromatic = Estimate{Value: cf.Beta, Sigma: cf.BetaErr}
+	}
+	return th[2], true
+}
+
+// bisGradient returns the BIS of the CCF y (normalised by the Gaussian
+// continuum, depth A/C0 from the fit) and its gradient with respect to each
+// CCF value, including the dependence through C0 and A.
+func bisGradient(v, y []float64, g fitResult, opts *BisectorOptions) (float64, []float64, error) {
+	n := len(v)
+	f := make([]float64, n)
+	eval := func(c0, a float64) (float64, error) {
+		for k := range f {
+			f[k] = y[k] / c0
+		}
+		return BIS(v, f, a/c0, opts)
+	}
+	c0, a := g.theta[0], g.theta[1]
+	b0, err := eval(c0, a)
+	if err != nil {
+		return 0, nil, err
+	}
+	grad := make([]float64, n)
+	// ∂BIS/∂C0 and ∂BIS/∂A by central differences.
+	dc := 1e-6 * c0
+	bp, e1 := eval(c0+dc, a)
+	bm, e2 := eval(c0-dc, a)
+	var dBdC, dBdA float64
+	if e1 == nil && e2 == nil {
+		dBdC = (bp - bm) / (2 * dc)
+	}
+	da := 1e-6 * a
+	bp, e1 = eval(c0, a+da)
+	bm, e2 = eval(c0, a-da)
+	if e1 == nil && e2 == nil {
+		dBdA = (bp - bm) / (2 * da)
+	}
+	// ∂BIS/∂y_k at fixed C0, A: the piecewise-linear bisector depends only
+	// on the samples next to a crossing, so perturbing one value at a time
+	// is exact up to rounding.
+	yc := append([]float64(nil), y...)
+	for k := 0; k < n; k++ {
+		h := 1e-7 * c0
+		orig := yc[k]
+		yc[k] = orig + h
+		for j := range f {
+			f[j] = yc[j] / c0
+		}
+		bp, e1 := BIS(v, f, a/c0, opts)
+		yc[k] = orig - h
+		for j := range f {
+			f[j] = yc[j] / c0
+		}
+		bm, e2 := BIS(v, f, a/c0, opts)
+		yc[k] = orig
+		var d float64
+		if e1 == nil && e2 == nil {
+			d = (bp - bm) / (2 * h)
+		}
+		grad[k] = d + dBdC*g.dtheta[0][k] + dBdA*g.dtheta[1][k]
+	}
+	return b0, grad, nil
+}
+
+// biGaussDV fits the bi-Gaussian profile and returns ΔV = v0_bi − v0_Gauss
+// and its gradient with respect to the CCF values.
+func biGaussDV(v, y, w []float64, g fitResult) (float64, []float64, error) {
+	th := g.theta
+	start := []float64{th[0], th[1], th[2], th[3], th[3]}
+	res, ok := lmFit(v, y, w, start, biGaussModel, 200)
+	if !ok {
+		return 0, nil, ErrFitFailed
+	}
+	if !(res.theta[1] > 0) || !(res.theta[3] > 0) || !(res.theta[4] > 0) {
+		return 0, nil, ErrNoLine
+	}
+	grad := make([]float64, len(v))
+	for k := range grad {
+		grad[k] = res.dtheta[2][k] - g.dtheta[2][k]
+	}
+	return res.theta[2] - th[2], grad, nil
+}
+
+// PhotonLimit returns the photon-noise limit of the RV from the Gaussian
+// model of a CCF sampled at velocities v (m/s) with per-bin variances
+// variance (Bouchy, Pepe & Queloz 2001, A&A 374, 733, in the velocity
+// domain; common practice):
+//
+//	σ_RV = sqrt(oversampling) · [Σ_v (∂CCF/∂v)² / σ²_CCF(v)]^(−1/2),
+//
+// where oversampling (≥ 1) is the pixel width over the bin step, which
+// accounts approximately for the correlation of bins finer than a pixel.
+func (g GaussianFit) PhotonLimit(v, variance []float64, oversampling float64) float64 {
+	var s float64
+	for k := range v {
+		u := (v[k] - g.V0) / g.Sigma
+		d := g.A * u / g.Sigma * math.Exp(-0.5*u*u)
+		s += d * d / variance[k]
+	}
+	return math.Sqrt(oversampling / s)
+}
