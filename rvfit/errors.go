@@ -19,7 +19,7 @@ var (
 	ErrDuplicateColumn = errors.New("rvfit: duplicate column")
 	ErrBadUnit         = errors.New("rvfit: unknown unit")
 	ErrBadMapping      = errors.New("rvfit: bad column mapping")
-	ErrBadFormat       = errors.New("rvfit: unrecognised table format")
+	ErrBadFormat       = errors.New("rvfit: bad table format")
 	ErrMismatch        = errors.New("rvfit: mismatched lengths")
 )
 

@@ -1,6 +1,7 @@
 package rvfit
 
 import (
+	"bytes"
 	"encoding/binary"
 	"fmt"
 	"io"
@@ -48,7 +49,17 @@ func scanFITSTable(r io.Reader, name string) (rt *rawTable, err error) {
 			rt, err = nil, terr(0, "", fmt.Errorf("%w: malformed FITS file: %v", ErrBadFormat, p))
 		}
 	}()
-	f, err := fitsio.Open(r)
+	b, err := io.ReadAll(io.LimitReader(r, maxFITSBytes+1))
+	if err != nil {
+		return nil, terr(0, "", err)
+	}
+	if len(b) > maxFITSBytes {
+		return nil, terr(0, "", fmt.Errorf("%w: file larger than %d bytes", ErrBadFormat, maxFITSBytes))
+	}
+	if err := checkFITSLayout(b); err != nil {
+		return nil, terr(0, "", fmt.Errorf("%w: %v", ErrBadFormat, err))
+	}
+	f, err := fitsio.Open(bytes.NewReader(b))
 	if err != nil {
 		return nil, terr(0, "", fmt.Errorf("%w: %v", ErrBadFormat, err))
 	}
@@ -71,6 +82,9 @@ func scanFITSTable(r io.Reader, name string) (rt *rawTable, err error) {
 		return nil, terr(0, "", fmt.Errorf("%w: NAXIS2 = %d rows", ErrBadFormat, nrows))
 	}
 	cols := tbl.Cols()
+	if len(cols) == 0 {
+		return nil, terr(0, "", fmt.Errorf("%w: the table HDU has no columns", ErrBadFormat))
+	}
 	rt = &rawTable{file: name, units: map[string]string{}, num: map[string][]float64{}, empty: map[string][]bool{}, str: map[string][]string{}, bad: map[string]error{}}
 	ptrs := make([]any, len(cols))
 	seen := map[string]bool{}

@@ -60,10 +60,8 @@ func (c *common) loadData(e *env, cmd string, minEpochs int) (*rvfit.Series, err
 	if err != nil {
 		return nil, err
 	}
-	if !c.quiet {
-		for _, w := range warns {
-			fmt.Fprintf(e.stderr, "spotsift: warning: %s\n", w)
-		}
+	for _, w := range warns {
+		warnf(e, c.quiet, "%s", w)
 	}
 	if err := s.Require(minEpochs, cmd); err != nil {
 		return nil, err
