@@ -46,7 +46,7 @@ func (c *cholesky) at(i, j int) float64 { return c.a[i*c.ld+j] }
 func (c *cholesky) factor() bool {
 	n, ld, a := c.n, c.ld, c.a
 	nb := cholNB
-	var pack []float64
+	var pack, packJ []float64
 	for j0 := 0; j0 < n; j0 += nb {
 		j1 := min(j0+nb, n)
 		w := j1 - j0
@@ -68,14 +68,30 @@ func (c *cholesky) factor() bool {
 		if j1 == n {
 			break
 		}
-		// Panel: L[i, j0:j1] = A[i, j0:j1] L_JJ^-T for i ≥ j1.
-		parallelRows(j1, n, 16, func(r0, r1 int) {
-			for i := r0; i < r1; i++ {
-				ri := a[i*ld+j0 : i*ld+j1]
-				for jj := 0; jj < w; jj++ {
-					j := j0 + jj
-					rj := a[j*ld+j0 : j*ld+j]
-					ri[jj] = (ri[jj] - dot(ri[:jj], rj)) / a[j*ld+j]
+		// Panel: L[i, j0:j1] = A[i, j0:j1] L_JJ^-T for i ≥ j1, by 4-row
+		// tiles and 8-column steps: the update from earlier columns of
+		// the panel goes through the micro-kernel, leaving only 8×8
+		// triangular solves (w is a multiple of cholNR here).
+		if cap(packJ) < w*w {
+			packJ = make([]float64, w*w)
+		}
+		packJ = packJ[:w*w]
+		packPanel(packJ, a, ld, j0, j1, j0, w)
+		rowTiles := (n - j1 + cholMR - 1) / cholMR
+		parallelRows(0, rowTiles, 4, func(t0, t1 int) {
+			for t := t0; t < t1; t++ {
+				i := j1 + t*cholMR
+				for q := 0; q < w; q += cholNR {
+					if q > 0 {
+						gemmTile(q, a[i*ld+j0:], ld, packJ[q*w:], a[i*ld+j0+q:], ld)
+					}
+					for r := i; r < i+cholMR; r++ {
+						ri := a[r*ld+j0 : r*ld+j1]
+						for jj := q; jj < q+cholNR; jj++ {
+							rj := a[(j0+jj)*ld+j0 : (j0+jj)*ld+j0+jj]
+							ri[jj] = (ri[jj] - dot(ri[q:jj], rj[q:jj])) / a[(j0+jj)*ld+j0+jj]
+						}
+					}
 				}
 			}
 		})
@@ -89,7 +105,6 @@ func (c *cholesky) factor() bool {
 		}
 		pack = pack[:mp*w]
 		packPanel(pack, a, ld, j1, n, j0, w)
-		rowTiles := (m + cholMR - 1) / cholMR
 		parallelRows(0, rowTiles, 8, func(t0, t1 int) {
 			for t := t0; t < t1; t++ {
 				i := j1 + t*cholMR

@@ -1,0 +1,100 @@
+//go:build amd64 && !purego
+
+#include "textflag.h"
+
+// func gemmTileFMA(k int, a *float64, lda int, b *float64, c *float64, ldc int)
+//
+// c[i*ldc+j] -= sum_p a[i*lda+p] * b[p*8+j] for i < 4, j < 8.
+// Accumulators: Y0..Y7 (row i in Y(2i), Y(2i+1)).
+TEXT ·gemmTileFMA(SB), NOSPLIT, $0-48
+	MOVQ k+0(FP), CX
+	MOVQ a+8(FP), SI
+	MOVQ lda+16(FP), R8
+	SHLQ $3, R8
+	MOVQ b+24(FP), DI
+	MOVQ c+32(FP), DX
+	MOVQ ldc+40(FP), R9
+	SHLQ $3, R9
+	LEAQ (SI)(R8*1), R10
+	LEAQ (R10)(R8*1), R11
+	LEAQ (R11)(R8*1), R12
+	VXORPD Y0, Y0, Y0
+	VXORPD Y1, Y1, Y1
+	VXORPD Y2, Y2, Y2
+	VXORPD Y3, Y3, Y3
+	VXORPD Y4, Y4, Y4
+	VXORPD Y5, Y5, Y5
+	VXORPD Y6, Y6, Y6
+	VXORPD Y7, Y7, Y7
+
+loop:
+	VMOVUPD (DI), Y8
+	VMOVUPD 32(DI), Y9
+	VBROADCASTSD (SI), Y10
+	VFMADD231PD Y8, Y10, Y0
+	VFMADD231PD Y9, Y10, Y1
+	VBROADCASTSD (R10), Y11
+	VFMADD231PD Y8, Y11, Y2
+	VFMADD231PD Y9, Y11, Y3
+	VBROADCASTSD (R11), Y12
+	VFMADD231PD Y8, Y12, Y4
+	VFMADD231PD Y9, Y12, Y5
+	VBROADCASTSD (R12), Y13
+	VFMADD231PD Y8, Y13, Y6
+	VFMADD231PD Y9, Y13, Y7
+	ADDQ $8, SI
+	ADDQ $8, R10
+	ADDQ $8, R11
+	ADDQ $8, R12
+	ADDQ $64, DI
+	DECQ CX
+	JNZ loop
+
+	VMOVUPD (DX), Y8
+	VMOVUPD 32(DX), Y9
+	VSUBPD Y0, Y8, Y8
+	VSUBPD Y1, Y9, Y9
+	VMOVUPD Y8, (DX)
+	VMOVUPD Y9, 32(DX)
+	ADDQ R9, DX
+	VMOVUPD (DX), Y8
+	VMOVUPD 32(DX), Y9
+	VSUBPD Y2, Y8, Y8
+	VSUBPD Y3, Y9, Y9
+	VMOVUPD Y8, (DX)
+	VMOVUPD Y9, 32(DX)
+	ADDQ R9, DX
+	VMOVUPD (DX), Y8
+	VMOVUPD 32(DX), Y9
+	VSUBPD Y4, Y8, Y8
+	VSUBPD Y5, Y9, Y9
+	VMOVUPD Y8, (DX)
+	VMOVUPD Y9, 32(DX)
+	ADDQ R9, DX
+	VMOVUPD (DX), Y8
+	VMOVUPD 32(DX), Y9
+	VSUBPD Y6, Y8, Y8
+	VSUBPD Y7, Y9, Y9
+	VMOVUPD Y8, (DX)
+	VMOVUPD Y9, 32(DX)
+	VZEROUPPER
+	RET
+
+// func cpuid(eaxArg, ecxArg uint32) (eax, ebx, ecx, edx uint32)
+TEXT ·cpuid(SB), NOSPLIT, $0-24
+	MOVL eaxArg+0(FP), AX
+	MOVL ecxArg+4(FP), CX
+	CPUID
+	MOVL AX, eax+8(FP)
+	MOVL BX, ebx+12(FP)
+	MOVL CX, ecx+16(FP)
+	MOVL DX, edx+20(FP)
+	RET
+
+// func xgetbv() (eax, edx uint32)
+TEXT ·xgetbv(SB), NOSPLIT, $0-8
+	MOVL $0, CX
+	XGETBV
+	MOVL AX, eax+0(FP)
+	MOVL DX, edx+4(FP)
+	RET
