@@ -1,0 +1,509 @@
+package starsim
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+)
+
+// Scenario describes a simulated star, its planets and how it is observed.
+// Together with a seed it determines every simulated number and byte.
+//
+// A scenario file is TOML; every key is optional except those marked
+// required, and a zero (or absent) value takes the default given in each
+// field's comment (see Defaults). An unknown key is an error naming the key.
+//
+//	name = "Velmora-3"
+//	seed = 0                       # 0: use the seed given to Simulate
+//
+//	[star]
+//	teff = 5750                    # K
+//	v_eq = 2.1                     # equatorial rotation velocity, km/s (required)
+//	inclination = 90               # deg between rotation axis and line of sight
+//	rotation_period = 24.0         # equatorial rotation period, days (required)
+//
+//	[activity]
+//	emergence_rate = 0.1           # new active regions per day
+//
+//	[[planet]]
+//	period = 11.3                  # days
+//	k = 4.0                        # m/s
+//
+//	[observing]
+//	start = 2460000.7
+//	end = 2460400.7
+//
+//	[[instrument]]
+//	name = "ORCA"
+//	snr = 120
+//
+//	[spectrum]
+//	full = true                    # false: profiles and tables only
+type Scenario struct {
+	// Name labels the star in outputs (OBJECT keyword, table comments).
+	Name string `toml:"name"`
+	// Seed, when not 0, replaces the seed passed to Simulate, so that a
+	// written scenario file reproduces its run by itself.
+	Seed uint64 `toml:"seed"`
+
+	Star        Star         `toml:"star"`
+	Activity    Activity     `toml:"activity"`
+	Planets     []Planet     `toml:"planet"`
+	Observing   Observing    `toml:"observing"`
+	Instruments []Instrument `toml:"instrument"`
+	Spectrum    SpectrumPlan `toml:"spectrum"`
+	Numerics    Numerics     `toml:"numerics"`
+}
+
+// Star holds the photosphere and rotation of the simulated star.
+type Star struct {
+	// Teff is the photospheric temperature in K (default 5750); it sets the
+	// continuum shape (Planck law) and, with Activity.SpotTempDiff, the spot
+	// contrast.
+	Teff float64 `toml:"teff"`
+	// VEq is the equatorial rotation velocity in km/s (required, > 0).
+	VEq float64 `toml:"v_eq"`
+	// Inclination is the angle between the rotation axis and the line of
+	// sight in degrees, in [0, 180] (default 90, equator-on; 0 is pole-on, so
+	// an exact 0 cannot be given and means 90).
+	Inclination float64 `toml:"inclination"`
+	// RotationPeriod is the equatorial rotation period in days (required).
+	RotationPeriod float64 `toml:"rotation_period"`
+	// DiffRotation is α in Ω(θ) = Ω_eq (1 − α sin²θ), in [0, 0.9]; 0 is
+	// rigid rotation (solar α ≈ 0.2).
+	DiffRotation float64 `toml:"diff_rotation"`
+	// LimbU1 and LimbU2 are the quadratic limb-darkening coefficients
+	// (default 0.45 and 0.20, solar-like near 5500 Å, METHODS.md §13). TOML
+	// cannot tell an explicit 0 from an absent key, so a linear law is asked
+	// for with LinearLimb.
+	LimbU1 float64 `toml:"limb_u1"`
+	LimbU2 float64 `toml:"limb_u2"`
+	// LinearLimb reports whether the law is linear (u2 forced to 0).
+	LinearLimb bool `toml:"linear_limb"`
+	// LineSigma is the Gaussian σ of the local (intrinsic) line profile in
+	// km/s (default 2.0).
+	LineSigma float64 `toml:"line_sigma"`
+	// LineDepth is the central depth of the local line used for the profile
+	// measurements, in (0, 1) (default 0.6).
+	LineDepth float64 `toml:"line_depth"`
+	// ConvectiveBlueshift is the convective blueshift at disk centre in m/s
+	// (default 0, i.e. none; the Sun has ≈ 350); the local line of a quiet
+	// cell is shifted by −v_cb·μ.
+	ConvectiveBlueshift float64 `toml:"convective_blueshift"`
+	// Systemic is the star's systemic velocity in m/s, added to every
+	// spectrum and RV.
+	Systemic float64 `toml:"systemic"`
+}
+
+// Activity describes the star's active regions: the random emergence process
+// and any regions placed by hand.
+type Activity struct {
+	// EmergenceRate is the mean number of new active regions per day (a
+	// Poisson process); 0 means none emerge at random.
+	EmergenceRate float64 `toml:"emergence_rate"`
+	// LatMin and LatMax bound the emergence latitude in degrees (both
+	// hemispheres, uniform in sin θ); defaults 5 and 35.
+	LatMin float64 `toml:"lat_min"`
+	LatMax float64 `toml:"lat_max"`
+	// ActiveLongitudes, when > 0, makes regions emerge near that many
+	// longitudes evenly spaced around the star (with LongitudeSpread), instead
+	// of uniformly.
+	ActiveLongitudes int `toml:"active_longitudes"`
+	// LongitudeSpread is the Gaussian σ in degrees around an active longitude
+	// (default 15).
+	LongitudeSpread float64 `toml:"longitude_spread"`
+	// SpotArea is the mean peak spot area of a region in units of the disk
+	// area πR² (so 0.01 covers 1 % of the disk when at disk centre; default
+	// 0.005); peak areas are exponentially distributed, capped at 0.2.
+	SpotArea float64 `toml:"spot_area"`
+	// FaculaRatio is the facular area of a region over its spot area
+	// (default 3); the facula is a ring around the spot.
+	FaculaRatio float64 `toml:"facula_ratio"`
+	// Lifetime is the mean region lifetime in rotation periods (default 2);
+	// lifetimes are drawn uniformly in [0.5, 1.5] times it.
+	Lifetime float64 `toml:"lifetime"`
+	// GrowthFraction is the fraction of a lifetime spent growing, in (0, 1)
+	// (default 0.2); the rest is a linear decay of the area.
+	GrowthFraction float64 `toml:"growth_fraction"`
+	// SpotTempDiff is T_phot − T_spot in K (default 800).
+	SpotTempDiff float64 `toml:"spot_temp_diff"`
+	// FaculaContrast is c_f in I_fac/I_quiet = 1 + c_f(1 − μ) (default 0.15).
+	FaculaContrast float64 `toml:"facula_contrast"`
+	// CBSuppression is the fraction of the convective blueshift removed
+	// inside spots and faculae, in [0, 1] (default 1, all of it).
+	CBSuppression float64 `toml:"cb_suppression"`
+	// KeepCB, when true, sets CBSuppression to 0 (TOML cannot tell an
+	// explicit 0 from an absent key).
+	KeepCB bool `toml:"keep_cb"`
+	// SQuiet is the S-index of the quiet star (default 0.17, solar-like);
+	// SGain is dS per unit visible facular filling factor (default 3). They set
+	// the strength of the Ca II emission cores.
+	SQuiet float64 `toml:"s_quiet"`
+	SGain  float64 `toml:"s_gain"`
+	// Regions are active regions placed by hand, in addition to random ones.
+	Regions []Region `toml:"region"`
+}
+
+// Region is one active region: a spot core with a facular ring.
+type Region struct {
+	// Lat and Lon are the latitude and the longitude in degrees; longitude 0
+	// faces the observer's central meridian at BJD Start (at
+	// observing.start when Start is 0), and positive longitudes lie on the
+	// receding side.
+	Lat float64 `toml:"lat"`
+	Lon float64 `toml:"lon"`
+	// Start is when the region appears (BJD_TDB, days); 0 with Grow and Decay
+	// 0 means it is there from the beginning and forever.
+	Start float64 `toml:"start"`
+	// Grow and Decay are the durations of linear growth and linear decay of
+	// the areas, in days; both 0 means a region of constant size.
+	Grow  float64 `toml:"grow"`
+	Decay float64 `toml:"decay"`
+	// SpotArea and FaculaArea are the peak areas in units of the disk area
+	// πR² (a region at disk centre covers that fraction of the disk).
+	SpotArea   float64 `toml:"spot_area"`
+	FaculaArea float64 `toml:"facula_area"`
+}
+
+// Planet is one Keplerian signal.
+type Planet struct {
+	// Name labels the planet's truth column (default "b", "c", ... by order).
+	Name string `toml:"name"`
+	// Period in days (> 0), K the semi-amplitude in m/s (≥ 0).
+	Period float64 `toml:"period"`
+	K      float64 `toml:"k"`
+	// E is the eccentricity in [0, 0.95]; Omega the argument of periastron of
+	// the star's orbit in degrees.
+	E     float64 `toml:"e"`
+	Omega float64 `toml:"omega"`
+	// Tc is a time of inferior conjunction of the planet (transit), BJD_TDB.
+	Tc float64 `toml:"tc"`
+}
+
+// Observing describes when the star is observed.
+type Observing struct {
+	// Start and End bound the observations, BJD_TDB in days (required,
+	// End > Start). The fraction of a day of Start sets the sidereal time of
+	// the nightly visits.
+	Start float64 `toml:"start"`
+	End   float64 `toml:"end"`
+	// Step, when > 0, observes at a uniform cadence of Step days from Start,
+	// without seasons, weather or time jitter (for tests).
+	Step float64 `toml:"step"`
+	// SeasonLength is the number of days per year the star is observable,
+	// the first season opening at Start (default 240; 365.25 or more: no gap).
+	SeasonLength float64 `toml:"season_length"`
+	// ClearFraction is the long-run fraction of clear nights, in (0, 1]
+	// (default 0.7).
+	ClearFraction float64 `toml:"clear_fraction"`
+	// WeatherPersistence is the probability that a cloudy night is followed by
+	// another, in [0, 1) (default 0.6): bad weather comes in runs.
+	WeatherPersistence float64 `toml:"weather_persistence"`
+	// TimeJitter is the Gaussian σ of the visit time around the nightly
+	// sidereal slot, in days (default 0.02, about half an hour).
+	TimeJitter float64 `toml:"time_jitter"`
+	// MaxEpochs, when > 0, stops after that many epochs.
+	MaxEpochs int `toml:"max_epochs"`
+}
+
+// Instrument is one spectrograph.
+type Instrument struct {
+	// Name labels the epochs it takes (required, unique).
+	Name string `toml:"name"`
+	// Offset is its zero-point offset in m/s, added to its RVs.
+	Offset float64 `toml:"offset"`
+	// SNR is the signal-to-noise ratio per pixel of the continuum at 5500 Å
+	// (> 0, default 100).
+	SNR float64 `toml:"snr"`
+	// Jitter is an instrumental white noise in m/s added in quadrature to
+	// the photon noise of the tabulated RVs (default 0).
+	Jitter float64 `toml:"jitter"`
+	// Resolution is the resolving power λ/Δλ of its Gaussian instrumental
+	// profile; 0 means none (infinite resolution).
+	Resolution float64 `toml:"resolution"`
+	// From and To bound the period it is in use (BJD_TDB); 0 means no bound.
+	From float64 `toml:"from"`
+	To   float64 `toml:"to"`
+	// Weight is its share of the nights when several are in use (default 1).
+	Weight float64 `toml:"weight"`
+}
+
+// SpectrumPlan says whether and how full spectra are made.
+type SpectrumPlan struct {
+	// Full reports whether full spectra are written; false gives the
+	// profile-based tables only (fast).
+	Full bool `toml:"full"`
+	// LambdaMin and LambdaMax bound the spectrum in Å, air (defaults 3800 and
+	// 6900).
+	LambdaMin float64 `toml:"lambda_min"`
+	LambdaMax float64 `toml:"lambda_max"`
+	// Pixels is the number of pixels of the log-linear grid (default 300000).
+	Pixels int `toml:"pixels"`
+	// Lines is the number of invented absorption lines (default 3000).
+	Lines int `toml:"lines"`
+}
+
+// Numerics holds the resolution of the disk model.
+type Numerics struct {
+	// Grid is the number of cells across the stellar diameter (default 200).
+	Grid int `toml:"grid"`
+	// VelocityStep is the step of the profile's velocity grid in km/s
+	// (default 0.05).
+	VelocityStep float64 `toml:"velocity_step"`
+}
+
+// Defaults returns a copy of sc with every zero value that has a default
+// replaced by it, and planets named. It does not check anything; see Check.
+func (sc *Scenario) Defaults() *Scenario {
+	c := sc.clone()
+	def := func(p *float64, v float64) {
+		if *p == 0 {
+			*p = v
+		}
+	}
+	def(&c.Star.Teff, 5750)
+	def(&c.Star.Inclination, 90)
+	def(&c.Star.LimbU1, 0.45)
+	if c.Star.LinearLimb {
+		c.Star.LimbU2 = 0
+	} else {
+		def(&c.Star.LimbU2, 0.20)
+	}
+	def(&c.Star.LineSigma, 2.0)
+	def(&c.Star.LineDepth, 0.6)
+	a := &c.Activity
+	if a.LatMin == 0 && a.LatMax == 0 {
+		a.LatMin, a.LatMax = 5, 35
+	}
+	def(&a.LongitudeSpread, 15)
+	def(&a.SpotArea, 0.005)
+	def(&a.FaculaRatio, 3)
+	def(&a.Lifetime, 2)
+	def(&a.GrowthFraction, 0.2)
+	def(&a.SpotTempDiff, 800)
+	def(&a.FaculaContrast, 0.15)
+	if a.KeepCB {
+		a.CBSuppression = 0
+	} else {
+		def(&a.CBSuppression, 1)
+	}
+	def(&a.SQuiet, 0.17)
+	def(&a.SGain, 3)
+	for i := range c.Planets {
+		if c.Planets[i].Name == "" {
+			c.Planets[i].Name = string(rune('b' + i%25))
+		}
+	}
+	o := &c.Observing
+	def(&o.SeasonLength, 240)
+	def(&o.ClearFraction, 0.7)
+	def(&o.WeatherPersistence, 0.6)
+	def(&o.TimeJitter, 0.02)
+	if len(c.Instruments) == 0 {
+		c.Instruments = []Instrument{{Name: "SIM"}}
+	}
+	for i := range c.Instruments {
+		def(&c.Instruments[i].SNR, 100)
+		def(&c.Instruments[i].Weight, 1)
+	}
+	s := &c.Spectrum
+	def(&s.LambdaMin, 3800)
+	def(&s.LambdaMax, 6900)
+	if s.Pixels == 0 {
+		s.Pixels = 300000
+	}
+	if s.Lines == 0 {
+		s.Lines = 3000
+	}
+	if c.Numerics.Grid == 0 {
+		c.Numerics.Grid = 200
+	}
+	def(&c.Numerics.VelocityStep, 0.05)
+	return c
+}
+
+func (sc *Scenario) clone() *Scenario {
+	c := *sc
+	c.Activity.Regions = append([]Region(nil), sc.Activity.Regions...)
+	c.Planets = append([]Planet(nil), sc.Planets...)
+	c.Instruments = append([]Instrument(nil), sc.Instruments...)
+	return &c
+}
+
+// Check reports the first invalid value of a scenario (defaults applied
+// first) as a *ScenarioError naming its key: negative or zero periods,
+// an inclination outside [0, 180] degrees, S/N ≤ 0, End ≤ Start,
+// eccentricities outside [0, 0.95], and the like. file is used in the
+// message.
+func (sc *Scenario) Check(file string) error {
+	c := sc.Defaults()
+	bad := func(key string, v float64, msg string) error {
+		return &ScenarioError{File: file, Key: key, Msg: fmt.Sprintf("%v: %s", v, msg)}
+	}
+	type rng struct {
+		key       string
+		v, lo, hi float64
+		open      bool // lower bound excluded
+		msg       string
+	}
+	rows := []rng{
+		{"star.teff", c.Star.Teff, 2000, 50000, false, "must lie in [2000, 50000] K"},
+		{"star.v_eq", c.Star.VEq, 0, 500, true, "must be > 0 and at most 500 km/s"},
+		{"star.inclination", c.Star.Inclination, 0, 180, false, "must lie in [0, 180] degrees"},
+		{"star.rotation_period", c.Star.RotationPeriod, 0, 1e4, true, "must be > 0 and at most 10000 days"},
+		{"star.diff_rotation", c.Star.DiffRotation, 0, 0.9, false, "must lie in [0, 0.9]"},
+		{"star.limb_u1", c.Star.LimbU1, -1, 2, false, "must lie in [-1, 2]"},
+		{"star.limb_u2", c.Star.LimbU2, -1, 1, false, "must lie in [-1, 1]"},
+		{"star.line_sigma", c.Star.LineSigma, 0.2, 50, false, "must lie in [0.2, 50] km/s"},
+		{"star.line_depth", c.Star.LineDepth, 0, 0.99, true, "must lie in (0, 0.99]"},
+		{"star.convective_blueshift", c.Star.ConvectiveBlueshift, -3000, 3000, false, "must lie in [-3000, 3000] m/s"},
+		{"star.systemic", c.Star.Systemic, -5e5, 5e5, false, "must lie within ±500 km/s"},
+		{"activity.emergence_rate", c.Activity.EmergenceRate, 0, 20, false, "must lie in [0, 20] per day"},
+		{"activity.lat_min", c.Activity.LatMin, 0, 90, false, "must lie in [0, 90] degrees"},
+		{"activity.lat_max", c.Activity.LatMax, c.Activity.LatMin, 90, false, "must lie in [lat_min, 90] degrees"},
+		{"activity.active_longitudes", float64(c.Activity.ActiveLongitudes), 0, 12, false, "must lie in [0, 12]"},
+		{"activity.longitude_spread", c.Activity.LongitudeSpread, 0, 360, true, "must lie in (0, 360] degrees"},
+		{"activity.spot_area", c.Activity.SpotArea, 0, 0.2, true, "must lie in (0, 0.2]"},
+		{"activity.facula_ratio", c.Activity.FaculaRatio, 0, 50, false, "must lie in [0, 50]"},
+		{"activity.lifetime", c.Activity.Lifetime, 0, 1000, true, "must be > 0 rotations"},
+		{"activity.growth_fraction", c.Activity.GrowthFraction, 0, 1, true, "must lie in (0, 1)"},
+		{"activity.spot_temp_diff", c.Activity.SpotTempDiff, 0, c.Star.Teff - 1000, false, "must lie in [0, teff − 1000] K"},
+		{"activity.facula_contrast", c.Activity.FaculaContrast, 0, 2, false, "must lie in [0, 2]"},
+		{"activity.cb_suppression", c.Activity.CBSuppression, 0, 1, false, "must lie in [0, 1]"},
+		{"activity.s_quiet", c.Activity.SQuiet, 0.05, 5, false, "must lie in [0.05, 5]"},
+		{"activity.s_gain", c.Activity.SGain, 0, 100, false, "must lie in [0, 100]"},
+		{"observing.end", c.Observing.End, c.Observing.Start, math.Inf(1), true, fmt.Sprintf("must be after observing.start (%v)", c.Observing.Start)},
+		{"observing.step", c.Observing.Step, 0, 1e4, false, "must lie in [0, 10000] days"},
+		{"observing.season_length", c.Observing.SeasonLength, 0, 1e4, true, "must be > 0 days"},
+		{"observing.clear_fraction", c.Observing.ClearFraction, 0, 1, true, "must lie in (0, 1]"},
+		{"observing.weather_persistence", c.Observing.WeatherPersistence, 0, 0.999, false, "must lie in [0, 1)"},
+		{"observing.time_jitter", c.Observing.TimeJitter, 0, 0.5, false, "must lie in [0, 0.5] days"},
+		{"observing.max_epochs", float64(c.Observing.MaxEpochs), 0, 1e6, false, "must lie in [0, 1000000]"},
+		{"spectrum.lambda_min", c.Spectrum.LambdaMin, 3000, 10000, false, "must lie in [3000, 10000] Å"},
+		{"spectrum.lambda_max", c.Spectrum.LambdaMax, c.Spectrum.LambdaMin + 10, 11000, false, "must exceed lambda_min by 10 Å and be at most 11000 Å"},
+		{"spectrum.pixels", float64(c.Spectrum.Pixels), 1000, 2e7, false, "must lie in [1000, 20000000]"},
+		{"spectrum.lines", float64(c.Spectrum.Lines), 0, 1e6, false, "must lie in [0, 1000000]"},
+		{"numerics.grid", float64(c.Numerics.Grid), 20, 2000, false, "must lie in [20, 2000]"},
+		{"numerics.velocity_step", c.Numerics.VelocityStep, 0.001, 1, false, "must lie in [0.001, 1] km/s"},
+	}
+	for i, r := range c.Activity.Regions {
+		k := fmt.Sprintf("activity.region[%d].", i+1)
+		rows = append(rows,
+			rng{k + "lat", r.Lat, -90, 90, false, "must lie in [-90, 90] degrees"},
+			rng{k + "lon", r.Lon, -360, 360, false, "must lie in [-360, 360] degrees"},
+			rng{k + "grow", r.Grow, 0, 1e5, false, "must be ≥ 0 days"},
+			rng{k + "decay", r.Decay, 0, 1e5, false, "must be ≥ 0 days"},
+			rng{k + "spot_area", r.SpotArea, 0, 1, false, "must lie in [0, 1]"},
+			rng{k + "facula_area", r.FaculaArea, 0, 2, false, "must lie in [0, 2]"},
+		)
+	}
+	for i, p := range c.Planets {
+		k := fmt.Sprintf("planet[%d].", i+1)
+		rows = append(rows,
+			rng{k + "period", p.Period, 0, 1e6, true, "must be > 0 days"},
+			rng{k + "k", p.K, 0, 1e6, false, "must be ≥ 0 m/s"},
+			rng{k + "e", p.E, 0, 0.95, false, "must lie in [0, 0.95]"},
+			rng{k + "omega", p.Omega, -360, 360, false, "must lie in [-360, 360] degrees"},
+		)
+	}
+	for i, in := range c.Instruments {
+		k := fmt.Sprintf("instrument[%d].", i+1)
+		rows = append(rows,
+			rng{k + "snr", in.SNR, 0, 1e5, true, "S/N must be > 0"},
+			rng{k + "jitter", in.Jitter, 0, 1e4, false, "must be ≥ 0 m/s"},
+			rng{k + "resolution", in.Resolution, 0, 1e7, false, "must be ≥ 0"},
+			rng{k + "weight", in.Weight, 0, 1e6, true, "must be > 0"},
+			rng{k + "offset", in.Offset, -1e6, 1e6, false, "must lie within ±1000 km/s"},
+		)
+	}
+	for _, r := range rows {
+		v := r.v
+		if math.IsNaN(v) || math.IsInf(v, 0) && r.key != "observing.end" || v < r.lo || v > r.hi || (r.open && v == r.lo) {
+			return bad(r.key, v, r.msg)
+		}
+	}
+	if c.Observing.Start == 0 && c.Observing.End == 0 {
+		return &ScenarioError{File: file, Key: "observing.end", Msg: "missing: the observations need start and end"}
+	}
+	if c.Observing.ClearFraction < 1 {
+		// P(cloudy | clear) = (1 − c)(1 − p)/c must be a probability.
+		q := (1 - c.Observing.ClearFraction) * (1 - c.Observing.WeatherPersistence) / c.Observing.ClearFraction
+		if q > 1 {
+			return bad("observing.weather_persistence", c.Observing.WeatherPersistence,
+				fmt.Sprintf("too low for clear_fraction %v (a clear night would have to be followed by cloud more than always)", c.Observing.ClearFraction))
+		}
+	}
+	seen := map[string]bool{}
+	for i, in := range c.Instruments {
+		k := fmt.Sprintf("instrument[%d].name", i+1)
+		if strings.TrimSpace(in.Name) == "" {
+			return &ScenarioError{File: file, Key: k, Msg: "missing: every instrument needs a name"}
+		}
+		if strings.ContainsAny(in.Name, ",\"\n\r") {
+			return &ScenarioError{File: file, Key: k, Msg: fmt.Sprintf("%q: a name may not hold commas, quotes or line breaks", in.Name)}
+		}
+		if seen[in.Name] {
+			return &ScenarioError{File: file, Key: k, Msg: fmt.Sprintf("%q: used twice", in.Name)}
+		}
+		seen[in.Name] = true
+		if in.To != 0 && in.To <= in.From {
+			return bad(fmt.Sprintf("instrument[%d].to", i+1), in.To, "must be after from")
+		}
+	}
+	pseen := map[string]bool{}
+	for i, p := range c.Planets {
+		if strings.ContainsAny(p.Name, ",\"\n\r ") || pseen[p.Name] {
+			return &ScenarioError{File: file, Key: fmt.Sprintf("planet[%d].name", i+1), Msg: fmt.Sprintf("%q: names must be unique, without spaces, commas or quotes", p.Name)}
+		}
+		pseen[p.Name] = true
+	}
+	return nil
+}
+
+// ParseScenario parses and checks scenario text; file names it in error
+// messages. An unknown key, a value of the wrong type and every failure of
+// Check are *ScenarioError values naming the key. The result has its
+// defaults applied.
+func ParseScenario(b []byte, file string) (*Scenario, error) {
+	var sc Scenario
+	md, err := toml.NewDecoder(bytes.NewReader(b)).Decode(&sc)
+	if err != nil {
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			return nil, &ScenarioError{File: file, Line: pe.Position.Line, Msg: pe.Message}
+		}
+		return nil, &ScenarioError{File: file, Msg: err.Error()}
+	}
+	if und := md.Undecoded(); len(und) > 0 {
+		return nil, &ScenarioError{File: file, Key: und[0].String(), Msg: "unknown key"}
+	}
+	if err := sc.Check(file); err != nil {
+		return nil, err
+	}
+	return sc.Defaults(), nil
+}
+
+// ReadScenario reads and checks a scenario file (see ParseScenario).
+func ReadScenario(path string) (*Scenario, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return ParseScenario(b, path)
+}
+
+// EncodeTOML writes sc, defaults applied and with seed as its Seed, as TOML
+// that ParseScenario reads back to the same scenario. The output depends
+// only on sc and seed.
+func (sc *Scenario) EncodeTOML(w io.Writer, seed uint64) error {
+	c := sc.Defaults()
+	c.Seed = seed
+	fmt.Fprintf(w, "# spotsift simulation scenario; with its seed it determines every output byte\n\n")
+	return toml.NewEncoder(w).Encode(c)
+}

@@ -1,0 +1,174 @@
+package starsim
+
+import (
+	"bufio"
+	"bytes"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strconv"
+	"sync"
+
+	"spotsift/indicators"
+	"spotsift/rvfit"
+)
+
+// Names of the files WriteFiles writes inside its directory.
+const (
+	ScenarioFile = "scenario.toml" // the scenario, defaults applied, with its seed
+	TruthFile    = "truth.csv"     // the truth per epoch (WriteTruth)
+	TableFile    = "epochs.csv"    // the simulated measurements (Series, rvfit.WriteTable)
+	SpectraDir   = "spectra"       // one FITS file per epoch, when Spectrum.Full
+)
+
+// WriteOptions controls WriteFiles. A nil *WriteOptions uses the defaults.
+type WriteOptions struct {
+	// Workers is the number of spectra made in parallel; 0 means
+	// runtime.GOMAXPROCS(0). The files do not depend on it.
+	Workers int
+	// Progress, when not nil, is called after each spectrum is written with
+	// the number done and the total (from several goroutines, one call at a
+	// time).
+	Progress func(done, total int)
+	// Creator names the writing program in the table's comment line
+	// (default "spotsift starsim").
+	Creator string
+}
+
+// SpectrumFile returns the file name of epoch i's spectrum inside
+// SpectraDir: epoch-NNNN.fits, numbered from 1.
+func SpectrumFile(i int) string { return fmt.Sprintf("epoch-%04d.fits", i+1) }
+
+// WriteFiles writes the simulation into dir (created if needed): the
+// scenario (ScenarioFile), the truth (TruthFile), the measured table
+// (TableFile) and, when the scenario asks for full spectra, one FITS file
+// per epoch in SpectraDir (indicators.WriteFITSFile: 1-D, log-linear air
+// wavelength WCS, DATE-OBS and MJD-OBS). Each file is written to a temporary
+// file and renamed. Spectra are made and written one at a time per worker,
+// so memory stays bounded whatever the number of epochs.
+func (r *Result) WriteFiles(dir string, opts *WriteOptions) error {
+	if opts == nil {
+		opts = &WriteOptions{}
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	var buf bytes.Buffer
+	if err := r.Scenario.EncodeTOML(&buf, r.Seed); err != nil {
+		return err
+	}
+	if err := rvfit.WriteFileAtomic(filepath.Join(dir, ScenarioFile), func(w io.Writer) error {
+		_, err := w.Write(buf.Bytes())
+		return err
+	}); err != nil {
+		return err
+	}
+	if err := rvfit.WriteFileAtomic(filepath.Join(dir, TruthFile), r.WriteTruth); err != nil {
+		return err
+	}
+	creator := opts.Creator
+	if creator == "" {
+		creator = "spotsift starsim"
+	}
+	if err := rvfit.WriteTable(filepath.Join(dir, TableFile), r.Series(), &rvfit.WriteOptions{Creator: creator}); err != nil {
+		return err
+	}
+	if !r.Scenario.Spectrum.Full {
+		return nil
+	}
+	sdir := filepath.Join(dir, SpectraDir)
+	if err := os.MkdirAll(sdir, 0o755); err != nil {
+		return err
+	}
+	nw := (&Options{Workers: opts.Workers}).workers()
+	n := len(r.Epochs)
+	errs := make([]error, n)
+	next := make(chan int)
+	var mu sync.Mutex
+	done := 0
+	var wg sync.WaitGroup
+	for w := 0; w < min(nw, n); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			ws := r.s.newWorkspace()
+			flux := make([]float64, r.s.spec.n)
+			for i := range next {
+				sp := r.s.spectrum(ws, r, i, flux)
+				errs[i] = indicators.WriteFITSFile(filepath.Join(sdir, SpectrumFile(i)), sp)
+				if opts.Progress != nil {
+					mu.Lock()
+					done++
+					opts.Progress(done, n)
+					mu.Unlock()
+				}
+			}
+		}()
+	}
+	for i := 0; i < n; i++ {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+	for i, err := range errs {
+		if err != nil {
+			return fmt.Errorf("starsim: spectrum of epoch %d: %w", i+1, err)
+		}
+	}
+	return nil
+}
+
+// WriteTruth writes the truth per epoch as CSV to w. Comment lines (#) name
+// the star, the seed and each column's unit; the columns are
+//
+//	time            BJD_TDB, days
+//	instrument      spectrograph name
+//	rv_activity     activity RV, m/s (Epoch.ActivityRV)
+//	rv_<planet>     each planet's Keplerian RV, m/s, in scenario order
+//	rv_planets      their sum, m/s
+//	spot_filling    fraction of the projected disk covered by spots
+//	facula_filling  fraction covered by faculae
+//	flux            flux at RefWavelength relative to the quiet star
+//	fwhm, bis       noise-free FWHM and bisector span of the profile, m/s
+//	contrast        noise-free contrast of the profile
+//	s_index         noise-free S-index of the synthetic spectrum
+//	emission        relative strength of the chromospheric emission cores
+//
+// Numbers are written in the shortest form that reads back exactly.
+func (r *Result) WriteTruth(w io.Writer) error {
+	bw := bufio.NewWriter(w)
+	fmt.Fprintf(bw, "# truth of a spotsift simulation: star %q, seed %d\n", r.Scenario.Name, r.Seed)
+	fmt.Fprintf(bw, "# units: time=d rv_*=m/s fwhm=m/s bis=m/s; filling factors are fractions of the projected disk; flux relative to the quiet star at %g A\n", RefWavelength)
+	cols := []string{"time", "instrument", "rv_activity"}
+	for _, p := range r.Scenario.Planets {
+		cols = append(cols, "rv_"+p.Name)
+	}
+	cols = append(cols, "rv_planets", "spot_filling", "facula_filling", "flux", "fwhm", "bis", "contrast", "s_index", "emission")
+	for i, c := range cols {
+		if i > 0 {
+			bw.WriteByte(',')
+		}
+		bw.WriteString(c)
+	}
+	bw.WriteByte('\n')
+	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+	for _, e := range r.Epochs {
+		row := []string{f(e.Time), e.Instrument, f(e.ActivityRV)}
+		var sum float64
+		for _, p := range e.PlanetRV {
+			row = append(row, f(p))
+			sum += p
+		}
+		row = append(row, f(sum), f(e.SpotFilling), f(e.FaculaFilling), f(e.Flux),
+			f(e.TrueFWHM), f(e.TrueBIS), f(e.TrueContrast), f(e.TrueSIndex), f(e.Emission))
+		for i, c := range row {
+			if i > 0 {
+				bw.WriteByte(',')
+			}
+			bw.WriteString(c)
+		}
+		bw.WriteByte('\n')
+	}
+	return bw.Flush()
+}
