@@ -1,0 +1,55 @@
+package activity
+
+import (
+	"math"
+	"testing"
+)
+
+// Check values: METHODS.md §5 table [computed from the formulas there],
+// quoted to four significant figures, hence the relative tolerances.
+func TestActivityRotationRelations(t *testing.T) {
+	for _, tt := range []struct {
+		name string
+		got  float64
+		want float64
+		tol  float64 // relative
+	}{
+		{"tau_c B-V 0.50", TurnoverTime(0.50), 4.167, 2e-4},
+		{"tau_c B-V 0.65", TurnoverTime(0.65), 11.988, 1e-4},
+		{"tau_c B-V 0.653", TurnoverTime(0.653), 12.162, 1e-4},
+		{"tau_c B-V 0.80", TurnoverTime(0.80), 19.374, 1e-4},
+		{"tau_c B-V 1.00", TurnoverTime(1.00), 23.014, 1e-4},
+		{"tau_c B-V 1.20", TurnoverTime(1.20), 24.547, 1e-4},
+		{"Ro MH08 -4.906", RossbyMH08(-4.906), 1.9529, 1e-4},
+		{"P MH08 -4.906", RotationMH08(-4.906, 0.65), 23.41, 3e-4},
+		{"Ro MH08 -4.500", RossbyMH08(-4.500), 0.7487, 1e-4},
+		{"P MH08 -4.500", RotationMH08(-4.500, 0.65), 8.98, 1e-3},
+		{"Ro MH08 -4.700", RossbyMH08(-4.700), 1.3419, 1e-4},
+		{"P MH08 -4.700", RotationMH08(-4.700, 0.65), 16.09, 1e-3},
+		{"Ro Noyes -4.906", RotationNoyes(-4.906, 0.65) / TurnoverTime(0.65), 1.9178, 1e-4},
+		{"P Noyes -4.906", RotationNoyes(-4.906, 0.65), 22.99, 3e-4},
+		{"Ro Noyes -4.500", RotationNoyes(-4.500, 0.65) / TurnoverTime(0.65), 0.7720, 2e-4},
+		{"P Noyes -4.500", RotationNoyes(-4.500, 0.65), 9.25, 1e-3},
+		{"gyro Sun", RotationGyro(0.65, 4570), 26.18, 3e-4},
+	} {
+		if math.Abs(tt.got-tt.want) > tt.tol*math.Abs(tt.want) {
+			t.Errorf("%s = %.6g, want %.6g (rel tol %g)", tt.name, tt.got, tt.want, tt.tol)
+		}
+	}
+	if !math.IsNaN(RotationGyro(0.4, 1000)) {
+		t.Error("gyro relation below B-V 0.495 should be NaN")
+	}
+}
+
+func TestRelationEstimates(t *testing.T) {
+	est := RelationEstimates(-4.906, 0.65)
+	if len(est) != 2 || est[0].Note != "" || est[1].Note != "" {
+		t.Fatalf("estimates %+v, want two without notes", est)
+	}
+	if est := RelationEstimates(-4.0, 1.3); len(est) == 0 || est[0].Note == "" {
+		t.Errorf("an extrapolated estimate should carry a note: %+v", est)
+	}
+	if RelationEstimates(math.NaN(), 0.65) != nil {
+		t.Error("no log R'HK should give no estimate")
+	}
+}
