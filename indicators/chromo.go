@@ -307,7 +307,7 @@ type RHKOptions struct {
 func LogRPrimeHK(sIndex, sigmaS float64, opts RHKOptions) (value, sigma float64, err error) {
 	x := opts.BV
 	if math.IsNaN(x) || math.IsInf(x, 0) || x == 0 {
-		return math.NaN(), math.NaN(), fmt.Errorf("log R'HK: %w: B-V not given", ErrBadParameter)
+		return math.NaN(), math.NaN(), fmt.Errorf("log R'HK: %w", ErrNoColour)
 	}
 	if !opts.Extrapolate && (x < 0.44 || x > 1.20) {
 		return math.NaN(), math.NaN(), fmt.Errorf("log R'HK: %w: B-V = %.3f, calibrated for 0.44 to 1.20", ErrColourRange, x)

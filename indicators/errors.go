@@ -32,6 +32,8 @@ var (
 	ErrScaleMismatch   = errors.New("indicators: air and vacuum scales mixed")
 	ErrColourRange     = errors.New("indicators: B-V outside the calibrated range")
 	ErrParse           = errors.New("indicators: cannot parse")
+	ErrNoColour        = errors.New("indicators: B-V not given")
+	ErrNotRequested    = errors.New("indicators: not requested")
 )
 
 // FileError reports a problem at a place in a spectrum or mask file. Empty

@@ -1,7 +1,6 @@
 package indicators
 
 import (
-	"errors"
 	"fmt"
 	"math"
 )
@@ -140,7 +139,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 		}
 	}
 	if opts.NoIndices {
-		e := failed(errors.New("indicators: indices not requested"))
+		e := failed(ErrNotRequested)
 		r.SIndex, r.LogRHK, r.HAlpha, r.NaD = e, e, e, e
 		return r, err
 	}
@@ -159,7 +158,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	case r.SIndex.Err != nil:
 		r.LogRHK = failed(r.SIndex.Err)
 	case opts.RHK == nil || opts.RHK.BV == 0:
-		r.LogRHK = failed(fmt.Errorf("log R'HK: %w: B-V not given", ErrBadParameter))
+		r.LogRHK = failed(fmt.Errorf("log R'HK: %w", ErrNoColour))
 	default:
 		r.LogRHK = est(LogRPrimeHK(r.SIndex.Value, r.SIndex.Sigma, *opts.RHK))
 	}

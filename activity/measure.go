@@ -1,0 +1,290 @@
+package activity
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+	"sort"
+	"strings"
+	"sync"
+
+	"spotsift/indicators"
+	"spotsift/rvfit"
+)
+
+// MeasureOptions set how Measure turns spectra into a per-epoch series. A
+// nil *MeasureOptions means the zero value, whose fields are documented
+// below.
+type MeasureOptions struct {
+	// Read sets how files are read (air/vacuum, epoch and BERV keywords);
+	// nil means the indicators.ReadOptions defaults.
+	Read *indicators.ReadOptions
+	// Mask is the line mask. nil builds one from the spectra themselves
+	// (indicators.BuildMask with MaskOptions, on the first MaskSpectra
+	// files that can be read).
+	Mask *indicators.Mask
+	// MaskOptions set the mask builder; nil means its defaults.
+	MaskOptions *indicators.MaskOptions
+	// MaskSpectra is how many spectra are co-added to build a mask; zero
+	// means 20.
+	MaskSpectra int
+	// Indicators sets the measurement of each spectrum; nil means the
+	// indicators.Options defaults. Its SCalibration and RHK, when nil, are
+	// taken from Star.
+	Indicators *indicators.Options
+	// Star, when not nil, supplies B−V (for log R'HK) and the S-index
+	// calibration.
+	Star *Star
+	// Instrument labels every epoch; "" uses each file's INSTRUME keyword,
+	// or rvfit.DefaultInstrument.
+	Instrument string
+	// Workers bounds the number of spectra measured at once; zero means
+	// runtime.GOMAXPROCS(0).
+	Workers int
+	// Progress, when not nil, is called after each spectrum with the
+	// number done and the total (from the worker goroutines, one call at a
+	// time, in completion order).
+	Progress func(done, total int)
+	// Results, when not nil, receives the full indicators.Result of every
+	// spectrum kept in the series, in the series' (time) order.
+	Results *[]*indicators.Result
+}
+
+// MeasureFailure names a spectrum that was left out of the series, or, when
+// Partial is set, one that is in the series with some indicators missing.
+type MeasureFailure struct {
+	// Path is the file.
+	Path string
+	// Partial reports whether the spectrum is in the series with only the
+	// quantities named in Err missing.
+	Partial bool
+	// Err says what went wrong.
+	Err error
+}
+
+// Error sentinels of Measure.
+var (
+	ErrNoSpectra = errors.New("activity: no spectra measured")
+	ErrNoEpoch   = errors.New("activity: spectrum has no epoch")
+)
+
+// Indicator columns written by Measure, in order, with their units.
+var measureColumns = []struct{ name, unit string }{
+	{"fwhm", "m/s"}, {"contrast", ""}, {"bis", "m/s"}, {"delta_v", "m/s"},
+	{"s_index", ""}, {"log_rhk", "dex"}, {"halpha", ""}, {"naid", ""},
+	{"chromatic_slope", "m/s"},
+}
+
+// Measure reads and measures the spectra in paths on a bounded pool of
+// workers and assembles a per-epoch series: time (BJD_TDB from each
+// spectrum), the barycentric RV and its photon-noise error, and the
+// indicator columns fwhm, contrast, bis, delta_v (bi-Gaussian ΔV),
+// s_index, log_rhk, halpha, naid and chromatic_slope, each with its error.
+//
+// A spectrum that cannot be read, has no epoch, or yields no RV is left
+// out and named in the failures; one whose other quantities fail is kept
+// with NaN there and named with Partial set. The series is sorted by time;
+// results do not depend on the number of workers. Measure returns an error
+// only when no spectrum could be measured (wrapping ErrNoSpectra) or no
+// mask could be built.
+func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFailure, error) {
+	if opts == nil {
+		opts = &MeasureOptions{}
+	}
+	if len(paths) == 0 {
+		return nil, nil, fmt.Errorf("%w: no files given", ErrNoSpectra)
+	}
+	var failures []MeasureFailure
+	mask := opts.Mask
+	if mask == nil {
+		n := opts.MaskSpectra
+		if n == 0 {
+			n = 20
+		}
+		var specs []*indicators.Spectrum
+		for _, p := range paths {
+			if len(specs) == n {
+				break
+			}
+			s, err := indicators.ReadFile(p, opts.Read)
+			if err != nil {
+				continue // reported by the measuring pass
+			}
+			specs = append(specs, s)
+		}
+		if len(specs) == 0 {
+			return nil, nil, fmt.Errorf("%w: no spectrum could be read to build a mask", ErrNoSpectra)
+		}
+		m, err := indicators.BuildMask(specs, opts.MaskOptions)
+		if err != nil {
+			return nil, nil, fmt.Errorf("building a mask: %w", err)
+		}
+		mask = m
+	}
+	iopts := measureIndicatorOptions(opts)
+
+	workers := opts.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	type item struct {
+		res        *indicators.Result
+		instrument string
+		err        error
+	}
+	items := make([]item, len(paths))
+	jobs := make(chan int)
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	done := 0
+	for w := 0; w < min(workers, len(paths)); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range jobs {
+				s, err := indicators.ReadFile(paths[i], opts.Read)
+				if err == nil {
+					items[i].instrument = instrumentOf(s, opts.Instrument)
+					items[i].res, err = measureOne(s, mask, iopts)
+				}
+				items[i].err = err
+				if opts.Progress != nil {
+					mu.Lock()
+					done++
+					opts.Progress(done, len(paths))
+					mu.Unlock()
+				}
+			}
+		}()
+	}
+	for i := range paths {
+		jobs <- i
+	}
+	close(jobs)
+	wg.Wait()
+
+	var keep []int
+	for i, it := range items {
+		if it.err != nil {
+			failures = append(failures, MeasureFailure{Path: paths[i], Err: it.err})
+			continue
+		}
+		keep = append(keep, i)
+		if perr := partialError(it.res); perr != nil {
+			failures = append(failures, MeasureFailure{Path: paths[i], Partial: true, Err: perr})
+		}
+	}
+	if len(keep) == 0 {
+		return nil, failures, fmt.Errorf("%w: all %d spectra failed", ErrNoSpectra, len(paths))
+	}
+	sort.SliceStable(keep, func(a, b int) bool {
+		ta, tb := items[keep[a]].res.BJD, items[keep[b]].res.BJD
+		if ta != tb {
+			return ta < tb
+		}
+		return paths[keep[a]] < paths[keep[b]]
+	})
+	ser := &rvfit.Series{Name: "measured spectra"}
+	cols := make([]rvfit.Indicator, len(measureColumns))
+	for c, mc := range measureColumns {
+		cols[c] = rvfit.Indicator{Name: mc.name, Unit: mc.unit}
+	}
+	for _, i := range keep {
+		r := items[i].res
+		ser.Time = append(ser.Time, r.BJD)
+		ser.RV = append(ser.RV, r.RV.Value)
+		ser.RVErr = append(ser.RVErr, r.RV.Sigma)
+		ser.Instrument = append(ser.Instrument, items[i].instrument)
+		for c, e := range []indicators.Estimate{r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.SIndex, r.LogRHK, r.HAlpha, r.NaD, r.Chromatic} {
+			v, s := e.Value, e.Sigma
+			if e.Err != nil {
+				v, s = math.NaN(), math.NaN()
+			}
+			cols[c].Value = append(cols[c].Value, v)
+			cols[c].Err = append(cols[c].Err, s)
+		}
+		if opts.Results != nil {
+			*opts.Results = append(*opts.Results, r)
+		}
+	}
+	for _, c := range cols {
+		// Leave out columns no spectrum could measure (e.g. log R'HK
+		// without B−V).
+		if c.Count() > 0 {
+			ser.Indicators = append(ser.Indicators, c)
+		}
+	}
+	return ser, failures, nil
+}
+
+// measureIndicatorOptions merges the star's calibration into the options.
+func measureIndicatorOptions(opts *MeasureOptions) *indicators.Options {
+	var io indicators.Options
+	if opts.Indicators != nil {
+		io = *opts.Indicators
+	}
+	if opts.Star != nil {
+		if io.SCalibration == nil && (opts.Star.SIndex.A != 0 || opts.Star.SIndex.B != 0) {
+			io.SCalibration = &indicators.SIndexCalibration{A: opts.Star.SIndex.A, B: opts.Star.SIndex.B}
+		}
+		if io.RHK == nil && opts.Star.BV != 0 {
+			io.RHK = &indicators.RHKOptions{BV: opts.Star.BV}
+		}
+	}
+	return &io
+}
+
+// measureOne measures one spectrum and applies the rules for leaving it out.
+func measureOne(s *indicators.Spectrum, m *indicators.Mask, o *indicators.Options) (*indicators.Result, error) {
+	if s.BJD == 0 {
+		return nil, fmt.Errorf("%s: %w (no BJD_TDB, MJD-OBS or DATE-OBS, or the named epoch keyword)", s.Name, ErrNoEpoch)
+	}
+	r, err := indicators.Measure(s, m, o)
+	if err != nil {
+		return nil, err
+	}
+	if r.RV.Err != nil {
+		return nil, r.RV.Err
+	}
+	if !(r.RV.Sigma > 0) {
+		return nil, fmt.Errorf("%s: RV error %v is not positive", s.Name, r.RV.Sigma)
+	}
+	return r, nil
+}
+
+// partialError joins the errors of the quantities a kept spectrum lacks;
+// log R'HK without B−V is not counted (it is a choice, not a failure).
+func partialError(r *indicators.Result) error {
+	var msgs []string
+	add := func(e indicators.Estimate) {
+		if e.Err != nil {
+			msgs = append(msgs, e.Err.Error())
+		}
+	}
+	add(r.FWHM)
+	add(r.Contrast)
+	add(r.BIS)
+	add(r.DeltaV)
+	add(r.Chromatic)
+	add(r.SIndex)
+	if r.SIndex.Err == nil && !errors.Is(r.LogRHK.Err, indicators.ErrNoColour) {
+		add(r.LogRHK)
+	}
+	add(r.HAlpha)
+	add(r.NaD)
+	if len(msgs) == 0 {
+		return nil
+	}
+	return errors.New(strings.Join(msgs, "; "))
+}
+
+func instrumentOf(s *indicators.Spectrum, fixed string) string {
+	if fixed != "" {
+		return fixed
+	}
+	if v := strings.TrimSpace(s.Header["INSTRUME"]); v != "" {
+		return v
+	}
+	return rvfit.DefaultInstrument
+}
