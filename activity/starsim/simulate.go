@@ -486,9 +486,10 @@ func (s *sim) spectrum(ws *workspace, r *Result, i int, flux []float64) *indicat
 	rng := rand.New(rand.NewPCG(s.seed, streamSpectrum+uint64(i)))
 	snr2 := in.SNR * in.SNR
 	for p := range flux {
-		// The continuum is smooth: its shift to first order in ln D is exact
-		// to ~1e-14.
-		N := snr2 * m.cont[p] * (1 - lnD*m.gcont[p]) * ws.spec[p]
+		// The continuum is smooth: its shift to second order in ln D,
+		// C(λ/D) = C(λ) exp(−s g + s² g′/2), s = ln D, is exact to s³ ≈ 1e-13
+		// even at 10 km/s.
+		N := snr2 * m.cont[p] * math.Exp(lnD*(lnD*m.g2cont[p]/2-m.gcont[p])) * ws.spec[p]
 		if s.noNoise {
 			flux[p] = N
 			continue

@@ -1,0 +1,97 @@
+package starsim
+
+import (
+	"bytes"
+	"errors"
+	"reflect"
+	"strings"
+	"testing"
+)
+
+const goodScenario = `
+name = "Test-Star"
+[star]
+v_eq = 2.5
+rotation_period = 20
+inclination = 60
+[[planet]]
+period = 7.3
+k = 3
+[observing]
+start = 2460000.5
+end = 2460100.5
+[[instrument]]
+name = "A"
+snr = 80
+`
+
+func TestParseScenario(t *testing.T) {
+	for _, c := range []struct {
+		name    string
+		text    string
+		wantKey string // "" means success
+	}{
+		{"good", goodScenario, ""},
+		{"unknown key", strings.Replace(goodScenario, "inclination = 60", "inclination = 60\ncolour = 3", 1), "star.colour"},
+		{"unknown table", goodScenario + "\n[telescope]\nsize = 3\n", "telescope"},
+		{"negative planet period", strings.Replace(goodScenario, "period = 7.3", "period = -7.3", 1), "planet[1].period"},
+		{"negative rotation period", strings.Replace(goodScenario, "rotation_period = 20", "rotation_period = -20", 1), "star.rotation_period"},
+		{"inclination too large", strings.Replace(goodScenario, "inclination = 60", "inclination = 200", 1), "star.inclination"},
+		{"inclination negative", strings.Replace(goodScenario, "inclination = 60", "inclination = -5", 1), "star.inclination"},
+		{"zero snr", strings.Replace(goodScenario, "snr = 80", "snr = -1", 1), "instrument[1].snr"},
+		{"no v_eq", strings.Replace(goodScenario, "v_eq = 2.5", "", 1), "star.v_eq"},
+		{"end before start", strings.Replace(goodScenario, "end = 2460100.5", "end = 2459000.5", 1), "observing.end"},
+		{"eccentricity", strings.Replace(goodScenario, "k = 3", "k = 3\ne = 0.99", 1), "planet[1].e"},
+		{"wrong type", strings.Replace(goodScenario, "v_eq = 2.5", `v_eq = "fast"`, 1), ""},
+		{"twice the same instrument", goodScenario + "\n[[instrument]]\nname = \"A\"\n", "instrument[2].name"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			sc, err := ParseScenario([]byte(c.text), "test.toml")
+			if c.name == "wrong type" {
+				if !errors.Is(err, ErrScenario) || !strings.Contains(err.Error(), "test.toml") {
+					t.Fatalf("err = %v, want a scenario error naming the file", err)
+				}
+				return
+			}
+			if c.wantKey == "" {
+				if err != nil {
+					t.Fatal(err)
+				}
+				if sc.Star.Teff != 5750 || sc.Instruments[0].SNR != 80 || sc.Planets[0].Name != "b" {
+					t.Errorf("defaults not applied: %+v", sc.Star)
+				}
+				return
+			}
+			var se *ScenarioError
+			if !errors.As(err, &se) || !errors.Is(err, ErrScenario) {
+				t.Fatalf("err = %v, want a *ScenarioError", err)
+			}
+			if se.Key != c.wantKey || !strings.Contains(err.Error(), c.wantKey) {
+				t.Errorf("err = %v names key %q, want %q", err, se.Key, c.wantKey)
+			}
+		})
+	}
+}
+
+// TestEncodeTOMLRoundTrip checks that a written scenario reads back to the
+// same scenario, seed included.
+func TestEncodeTOMLRoundTrip(t *testing.T) {
+	sc, err := ParseScenario([]byte(goodScenario), "test.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	sc.Activity.Regions = []Region{{Lat: 12, Lon: -30, SpotArea: 0.01, FaculaArea: 0.02, Start: 2460001, Grow: 3, Decay: 9}}
+	var buf bytes.Buffer
+	if err := sc.EncodeTOML(&buf, 42); err != nil {
+		t.Fatal(err)
+	}
+	back, err := ParseScenario(buf.Bytes(), "written.toml")
+	if err != nil {
+		t.Fatalf("%v\n%s", err, buf.String())
+	}
+	want := sc.Defaults()
+	want.Seed = 42
+	if !reflect.DeepEqual(back, want) {
+		t.Errorf("round trip differs:\n got %+v\nwant %+v", back, want)
+	}
+}
