@@ -1,0 +1,152 @@
+package activity
+
+import (
+	"encoding/json"
+	"math"
+	"strconv"
+)
+
+// Verdicts of a signal.
+const (
+	PlanetLike   = "planet-like"
+	ActivityLike = "activity-like"
+	Inconclusive = "inconclusive"
+)
+
+// Which way an evidence item points.
+const (
+	TowardPlanet   = "planet"
+	TowardActivity = "activity"
+	TowardNeither  = "neither"
+)
+
+// Caution is the sentence every verdict output carries.
+const Caution = "This verdict is a statistical diagnosis of the data given; it informs, and does not replace, the team's scientific judgement."
+
+// Num is a float64 that is written to JSON as null when it is NaN or
+// infinite (JSON has no such numbers).
+type Num float64
+
+// MarshalJSON writes the number, or null.
+func (x Num) MarshalJSON() ([]byte, error) {
+	f := float64(x)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return []byte("null"), nil
+	}
+	return strconv.AppendFloat(nil, f, 'g', -1, 64), nil
+}
+
+// UnmarshalJSON reads a number, or null as NaN.
+func (x *Num) UnmarshalJSON(b []byte) error {
+	if string(b) == "null" {
+		*x = Num(math.NaN())
+		return nil
+	}
+	var f float64
+	if err := json.Unmarshal(b, &f); err != nil {
+		return err
+	}
+	*x = Num(f)
+	return nil
+}
+
+// Evidence is one test of a signal: a number, the threshold it is judged
+// against, the side it points to, its signed contribution to the score and
+// a one-line reason.
+type Evidence struct {
+	// Name identifies the test, e.g. "rotation_match" or
+	// "indicator_power:fwhm".
+	Name string `json:"name"`
+	// Value is the test's statistic (its meaning is in Reason), Threshold
+	// the value at which the test changes side.
+	Value     Num `json:"value"`
+	Threshold Num `json:"threshold"`
+	// Points is TowardPlanet, TowardActivity or TowardNeither.
+	Points string `json:"points"`
+	// Weight is the contribution to the score: positive toward activity,
+	// negative toward a planet, zero for items shown for information.
+	Weight float64 `json:"weight"`
+	// Reason says in one line what the test found.
+	Reason string `json:"reason"`
+}
+
+// Skipped names a test that could not be run on a signal, and why.
+type Skipped struct {
+	Name string `json:"name"`
+	Why  string `json:"why"`
+}
+
+// Signal is one periodic RV signal with its verdict.
+type Signal struct {
+	// Period in days and frequency in c/d.
+	Period Num `json:"period"`
+	Freq   Num `json:"freq"`
+	// Source is "given" (named by the user) or "periodogram" (found by
+	// iterative prewhitening).
+	Source string `json:"source"`
+	// Power is the GLS power of the signal in the periodogram it was found
+	// in; FAP its false-alarm probability (Baluev 2008 for a found peak,
+	// the single-frequency value for a given period).
+	Power Num `json:"power"`
+	FAP   Num `json:"fap"`
+	// Amplitude is the fitted semi-amplitude in m/s and AmplitudeErr its
+	// one-sigma error.
+	Amplitude    Num `json:"amplitude"`
+	AmplitudeErr Num `json:"amplitude_err"`
+	// Verdict is PlanetLike, ActivityLike or Inconclusive.
+	Verdict string `json:"verdict"`
+	// Score lies in [−1, 1]: the weighted evidence, positive toward
+	// activity, divided by the weight of every test spotsift knows (tests
+	// that could not run count as zero, so missing data pull the score
+	// toward 0).
+	Score float64 `json:"score"`
+	// Coverage is the fraction of the total test weight that could run.
+	Coverage float64 `json:"coverage"`
+	// Summary is the one-line reason for the verdict.
+	Summary  string     `json:"summary"`
+	Evidence []Evidence `json:"evidence"`
+	Skipped  []Skipped  `json:"skipped,omitempty"`
+}
+
+// Rotation is the star's rotation period as spotsift adopted it, with
+// every estimate behind it.
+type Rotation struct {
+	// Period and Err in days; Period is NaN when nothing could be
+	// estimated.
+	Period Num `json:"period"`
+	Err    Num `json:"err"`
+	// Source is the Method of the adopted estimate.
+	Source    string             `json:"source"`
+	Estimates []RotationEstimate `json:"estimates"`
+	// Agreement says whether the estimates agree (directly or as
+	// harmonics).
+	Agreement string `json:"agreement"`
+}
+
+// Provenance records what a diagnosis was computed from.
+type Provenance struct {
+	Version string      `json:"version"`
+	Seed    uint64      `json:"seed"`
+	Command string      `json:"command,omitempty"`
+	Inputs  []InputHash `json:"inputs,omitempty"`
+}
+
+// InputHash is the SHA-256 of one input file.
+type InputHash struct {
+	Path   string `json:"path"`
+	SHA256 string `json:"sha256"`
+}
+
+// Diagnosis is the verdict on every signal of one star.
+type Diagnosis struct {
+	Star     string   `json:"star"`
+	NEpochs  int      `json:"n_epochs"`
+	Baseline Num      `json:"baseline"`
+	Rotation Rotation `json:"rotation"`
+	Signals  []Signal `json:"signals"`
+	// Notes are warnings about the diagnosis as a whole (tests that could
+	// not run for any signal, too few epochs for a test...).
+	Notes      []string   `json:"notes,omitempty"`
+	Caution    string     `json:"caution"`
+	Provenance Provenance `json:"provenance"`
+}
