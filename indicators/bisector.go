@@ -173,3 +173,91 @@ func crossing(v, f []float64, i int, y float64) float64 {
 	// v is uniform (or nearly); interpolate it linearly in t.
 	return v[i] + t*(v[i+1]-v[i])
 }
+
+// crossingGrad is crossing with derivatives: it returns the crossing
+// velocity, the index j0 of the first of the four samples it depends on,
+// ∂v/∂f[j0+m] for m = 0…3 and ∂v/∂y (implicit differentiation of
+// p(t) = y).
+func crossingGrad(v, f []float64, i int, y float64) (vc float64, j0 int, df [4]float64, dy float64) {
+	dv := v[i+1] - v[i]
+	if i == 0 || i+2 >= len(f) {
+		t := (y - f[i]) / (f[i+1] - f[i])
+		d := f[i+1] - f[i]
+		// v = v_i + t·dv, t = (y − f_i)/(f_{i+1} − f_i).
+		df[0] = dv * (-(1 - t) / d)
+		df[1] = dv * (-t / d)
+		return v[i] + t*dv, i, df, dv / d
+	}
+	vc = crossing(v, f, i, y)
+	t := (vc - v[i]) / dv
+	p0, p1, p2, p3 := f[i-1], f[i], f[i+1], f[i+2]
+	a := -p0/6 + p1/2 - p2/2 + p3/6
+	b := p0/2 - p1 + p2/2
+	c := -p0/3 - p1/2 + p2 - p3/6
+	der := (3*a*t+2*b)*t + c
+	l := [4]float64{
+		-t * (t - 1) * (t - 2) / 6,
+		(t + 1) * (t - 1) * (t - 2) / 2,
+		-(t + 1) * t * (t - 2) / 2,
+		(t + 1) * t * (t - 1) / 6,
+	}
+	for m := range l {
+		df[m] = -dv * l[m] / der
+	}
+	return vc, i - 1, df, dv / der
+}
+
+// bisGrad returns BIS (as BIS does), its gradient with respect to each
+// value of the normalised profile f, and its derivative with respect to the
+// depth D (through the levels 1 − d·D).
+func bisGrad(v, f []float64, depth float64, opts *BisectorOptions) (float64, []float64, float64, error) {
+	o, err := opts.withDefaults()
+	if err != nil {
+		return 0, nil, 0, err
+	}
+	if len(v) != len(f) || len(v) < 3 || !(depth > 0) {
+		return 0, nil, 0, fmt.Errorf("%w: profile of %d points, depth %v", ErrNoLine, len(v), depth)
+	}
+	core := 0
+	for i := range f {
+		if f[i] < f[core] {
+			core = i
+		}
+	}
+	gf := make([]float64, len(f))
+	var bis, dD float64
+	for z, zone := range [][]float64{zoneLevels(o.TopLo, o.TopHi, o.Step), zoneLevels(o.BottomLo, o.BottomHi, o.Step)} {
+		sign := 1.0
+		if z == 1 {
+			sign = -1
+		}
+		coef := sign * 0.5 / float64(len(zone))
+		for _, dj := range zone {
+			y := 1 - dj*depth
+			l := core
+			for l > 0 && f[l] < y {
+				l--
+			}
+			r := core
+			for r < len(f)-1 && f[r] < y {
+				r++
+			}
+			if f[l] < y || f[r] < y || l == core || r == core {
+				return 0, nil, 0, fmt.Errorf("%w: depth level %.3g not crossed on both sides", ErrNoLine, dj)
+			}
+			vl, jl, dfl, dyl := crossingGrad(v, f, l, y)
+			vr, jr, dfr, dyr := crossingGrad(v, f, r-1, y)
+			bis += coef * (vl + vr)
+			for m := 0; m < 4; m++ {
+				if jl+m >= 0 && jl+m < len(f) {
+					gf[jl+m] += coef * dfl[m]
+				}
+				if jr+m >= 0 && jr+m < len(f) {
+					gf[jr+m] += coef * dfr[m]
+				}
+			}
+			dD += coef * (dyl + dyr) * (-dj)
+		}
+	}
+	return bis, gf, dD, nil
+}

@@ -165,3 +165,33 @@ func TestFitChromatic(t *testing.T) {
 		t.Error("zero error: want an error")
 	}
 }
+
+func TestBisGradFiniteDifference(t *testing.T) {
+	// The analytic gradient of BIS agrees with central differences.
+	v := grid(-20e3, 20e3, 250)
+	f := halfGaussian(v, 123, 0.5, 3000, 3400)
+	b0, gf, dD, err := bisGrad(v, f, 0.5, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b1, _ := BIS(v, f, 0.5, nil); math.Abs(b1-b0) > 1e-9 {
+		t.Fatalf("bisGrad value %v, BIS %v", b0, b1)
+	}
+	const h = 1e-7
+	for k := range f {
+		orig := f[k]
+		f[k] = orig + h
+		bp, _ := BIS(v, f, 0.5, nil)
+		f[k] = orig - h
+		bm, _ := BIS(v, f, 0.5, nil)
+		f[k] = orig
+		if d := (bp - bm) / (2 * h); math.Abs(d-gf[k]) > 1e-4*math.Max(1, math.Abs(d)) {
+			t.Errorf("∂BIS/∂f[%d] = %v, finite difference %v", k, gf[k], d)
+		}
+	}
+	bp, _ := BIS(v, f, 0.5+h, nil)
+	bm, _ := BIS(v, f, 0.5-h, nil)
+	if d := (bp - bm) / (2 * h); math.Abs(d-dD) > 1e-4*math.Max(1, math.Abs(d)) {
+		t.Errorf("∂BIS/∂D = %v, finite difference %v", dD, d)
+	}
+}

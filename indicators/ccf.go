@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"sync"
 )
 
 // CCFOptions set the velocity grid and hole width of a cross-correlation.
@@ -13,7 +14,7 @@ type CCFOptions struct {
 	// the grid itself), in m/s. The zero value is 0.
 	Center float64
 	// Search is the half-width in m/s of a coarse search for the line
-	// (1 km/s steps, the 400 heaviest mask lines) that centres the grid and
+	// (2 km/s steps, the 200 heaviest mask lines) that centres the grid and
 	// estimates the line width. The zero value means 200 km/s; a negative
 	// value skips the search and centres the grid on Center.
 	Search float64
@@ -107,6 +108,11 @@ func ComputeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 	if err := s.validate(true); err != nil {
 		return nil, err
 	}
+	return computeCCF(s, m, opts)
+}
+
+// computeCCF is ComputeCCF for a validated spectrum.
+func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 	if m == nil || m.Len() == 0 {
 		return nil, fmt.Errorf("%s: %w", s.Name, ErrNoMaskLines)
 	}
@@ -137,7 +143,7 @@ func ComputeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 		if search == 0 {
 			search = 200e3
 		}
-		vc, fwhm, err := coarseSearch(orders, m, center, search, math.Max(1000, hole), hole)
+		vc, fwhm, err := coarseSearch(orders, m, center, search, math.Max(2000, hole), hole)
 		if err != nil {
 			return nil, fmt.Errorf("%s: %w", s.Name, err)
 		}
@@ -195,8 +201,11 @@ func prepareOrders(s *Spectrum) []ccfOrder {
 		s2 := sig2[off : off+n]
 		for x := range iw {
 			iw[x] = 1 / (e[x+1] - e[x])
-			sg := ord.sigma(x)
-			s2[x] = sg * sg
+			if ord.Err != nil {
+				s2[x] = ord.Err[x] * ord.Err[x]
+			} else {
+				s2[x] = math.Max(ord.Flux[x], 1)
+			}
 		}
 		out[i] = ccfOrder{edges: e, invw: iw, flux: ord.Flux, sig2: s2, offset: off}
 		off += n
@@ -329,57 +338,81 @@ func (p *ccfPlan) run() *CCF {
 // propagate returns the photon-noise variances of linear functionals of the
 // CCF: quantity q has gradient g[q][k] = ∂Q/∂CCF(v_k) with respect to the
 // summed CCF, and segment s has gradient sg[s][k] with respect to its own
-// CCF (nil to skip). Because the CCF is linear in the pixel fluxes,
+// CCF. Because the CCF is linear in the pixel fluxes,
 //
 //	Var Q = Σ_x σ_x² (Σ_k g_k ∂CCF_k/∂F_x)²
 //
-// exactly, including the correlation between neighbouring CCF bins.
+// exactly, including the correlation between neighbouring CCF bins. It
+// needs exactly propQ quantities.
+//
+// Lines are visited in increasing pixel order, so a pixel below the first
+// pixel a line can touch is final: it is squared, summed and cleared as the
+// walk moves on, and the scratch array is clean again at the end.
 func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
-	nq := len(g)
-	h := make([]float64, p.npix*nq)
-	var hs []float64
-	if sg != nil {
-		hs = make([]float64, p.npix)
-		vs = make([]float64, len(sg))
+	if len(g) != propQ {
+		panic("indicators: propagate needs propQ gradients")
 	}
-	lo, hi := 1-p.h, 1+p.h
-	gk := make([]float64, len(p.dk)*nq) // gk[k*nq+q]
-	for q := range g {
-		for k := range p.dk {
-			gk[k*nq+q] = g[q][k]
-		}
+	const nq = propQ + 1 // the last slot is the current segment's
+	buf := scratchPool.Get().(*[]float64)
+	if len(*buf) < p.npix*nq {
+		*buf = make([]float64, p.npix*nq)
 	}
-	segStart := 0
+	h := (*buf)[:p.npix*nq]
 	sig2 := p.sig2()
-	// Track the touched pixel range of each segment to accumulate and clear
-	// its scratch array.
-	touchedLo, touchedHi := math.MaxInt, -1
-	for i := 0; i <= len(p.places); i++ {
-		if sg != nil && (i == len(p.places) || (i > segStart && p.places[i].seg != p.places[i-1].seg)) {
-			s := p.places[i-1].seg
-			var sum float64
-			for x := touchedLo; x <= touchedHi; x++ {
-				if hs[x] != 0 {
-					sum += sig2[x] * hs[x] * hs[x]
-					hs[x] = 0
-				}
+	vs = make([]float64, len(sg))
+	var acc [propQ]float64
+	lo, hi := 1-p.h, 1+p.h
+	nk := len(p.dk)
+	gk := make([]float64, nk*nq)
+	low := 0 // pixels below low are flushed
+	flushTo := func(x1 int, seg int) {
+		for x := low; x < x1; x++ {
+			hx := (*[nq]float64)(h[x*nq : x*nq+nq])
+			s2 := sig2[x]
+			for q := 0; q < propQ; q++ {
+				acc[q] += s2 * hx[q] * hx[q]
 			}
-			vs[s] = sum
-			touchedLo, touchedHi = math.MaxInt, -1
-			segStart = i
+			if seg >= 0 {
+				vs[seg] += s2 * hx[propQ] * hx[propQ]
+			}
+			*hx = [nq]float64{}
 		}
-		if i == len(p.places) {
-			break
+		if x1 > low {
+			low = x1
 		}
-		pl := p.places[i]
+	}
+	// flushSeg squares and clears the segment slot over [from, to).
+	flushSeg := func(from, to, seg int) {
+		for x := max(from, low); x < to; x++ {
+			v := h[x*nq+propQ]
+			vs[seg] += sig2[x] * v * v
+			h[x*nq+propQ] = 0
+		}
+	}
+	curSeg := -1
+	segLo, segHi := 0, 0
+	for _, pl := range p.places {
 		o := &p.orders[pl.order]
 		e, iw := o.edges, o.invw
 		off := o.offset
-		w := pl.weight
-		var gs []float64
-		if sg != nil {
-			gs = sg[pl.seg]
+		if int(pl.seg) != curSeg {
+			if curSeg >= 0 {
+				flushSeg(segLo, segHi, curSeg)
+			}
+			curSeg = int(pl.seg)
+			for k := 0; k < nk; k++ {
+				for q := 0; q < propQ; q++ {
+					gk[k*nq+q] = g[q][k]
+				}
+				gk[k*nq+propQ] = sg[curSeg][k]
+			}
+			segLo, segHi = off+int(pl.start), off+int(pl.start)
 		}
+		flushTo(off+int(pl.start), curSeg)
+		if off+int(pl.start) > segLo {
+			segLo = off + int(pl.start)
+		}
+		w := pl.weight
 		x0 := int(pl.start)
 		for k, d := range p.dk {
 			a := pl.lambda * d * lo
@@ -387,8 +420,9 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 			for e[x0+1] <= a {
 				x0++
 			}
-			gq := gk[k*nq : k*nq+nq]
-			for x := x0; e[x] < b; x++ {
+			gq := (*[nq]float64)(gk[k*nq : k*nq+nq])
+			x := x0
+			for ; e[x] < b; x++ {
 				l, r := e[x], e[x+1]
 				if a > l {
 					l = a
@@ -397,33 +431,31 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 					r = b
 				}
 				t := w * (r - l) * iw[x]
-				hx := h[(off+x)*nq : (off+x)*nq+nq]
-				for q, gv := range gq {
-					hx[q] += t * gv
-				}
-				if gs != nil {
-					hs[off+x] += t * gs[k]
-					if off+x < touchedLo {
-						touchedLo = off + x
-					}
-					if off+x > touchedHi {
-						touchedHi = off + x
-					}
-				}
+				hx := (*[nq]float64)(h[(off+x)*nq : (off+x)*nq+nq])
+				hx[0] += t * gq[0]
+				hx[1] += t * gq[1]
+				hx[2] += t * gq[2]
+				hx[3] += t * gq[3]
+				hx[4] += t * gq[4]
+				hx[5] += t * gq[5]
+			}
+			if off+x > segHi {
+				segHi = off + x
 			}
 		}
 	}
-	vq = make([]float64, nq)
-	for _, o := range p.orders {
-		for x, s2 := range o.sig2 {
-			hx := h[(o.offset+x)*nq : (o.offset+x)*nq+nq]
-			for q, v := range hx {
-				vq[q] += s2 * v * v
-			}
-		}
+	if curSeg >= 0 {
+		flushSeg(segLo, segHi, curSeg)
 	}
-	return vq, vs
+	flushTo(p.npix, -1)
+	scratchPool.Put(buf)
+	return acc[:], vs
 }
+
+// propQ is the number of CCF quantities whose errors propagate computes.
+const propQ = 5
+
+var scratchPool = sync.Pool{New: func() any { return new([]float64) }}
 
 // sig2 returns the pixel variances in the global pixel numbering.
 func (p *ccfPlan) sig2() []float64 {
@@ -445,13 +477,13 @@ func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64
 	// Use the heaviest lines only: the search needs the position, not
 	// precision.
 	sub := m
-	if m.Len() > 400 {
+	if m.Len() > 200 {
 		idx := make([]int, m.Len())
 		for i := range idx {
 			idx[i] = i
 		}
 		sort.Slice(idx, func(a, b int) bool { return m.Weight[idx[a]] > m.Weight[idx[b]] })
-		idx = idx[:400]
+		idx = idx[:200]
 		sort.Ints(idx)
 		sub = &Mask{Vacuum: m.Vacuum, Wavelength: make([]float64, len(idx)), Weight: make([]float64, len(idx))}
 		for i, j := range idx {

@@ -123,7 +123,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	bary := func(v float64) float64 {
 		return VelocityFromLog(LogDopplerFactor(v) + LogDopplerFactor(s.BERV))
 	}
-	ccf, err := ComputeCCF(s, m, opts.CCF)
+	ccf, err := computeCCF(s, m, opts.CCF)
 	restV := 0.0
 	if opts.CCF != nil {
 		restV = opts.CCF.Center
@@ -184,11 +184,6 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 	}
 	th := g.theta
 	r.Fit = GaussianFit{C0: th[0], A: th[1], V0: th[2], Sigma: th[3]}
-	grads := [][]float64{g.dtheta[2], make([]float64, nv), make([]float64, nv)}
-	for k := 0; k < nv; k++ {
-		grads[1][k] = 2 * math.Sqrt(2*math.Ln2) * g.dtheta[3][k]
-		grads[2][k] = (g.dtheta[1][k]*th[0] - th[1]*g.dtheta[0][k]) / (th[0] * th[0])
-	}
 	const (
 		qRV = iota
 		qFWHM
@@ -196,17 +191,24 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 		qBIS
 		qDV
 	)
-	var bisErr, dvErr error
+	grads := make([][]float64, propQ)
+	grads[qRV] = g.dtheta[2]
+	grads[qFWHM] = make([]float64, nv)
+	grads[qContrast] = make([]float64, nv)
+	for k := 0; k < nv; k++ {
+		grads[qFWHM][k] = 2 * math.Sqrt(2*math.Ln2) * g.dtheta[3][k]
+		grads[qContrast][k] = (g.dtheta[1][k]*th[0] - th[1]*g.dtheta[0][k]) / (th[0] * th[0])
+	}
 	bisVal, bisGrad, bisErr := bisGradient(c.V, c.Value, g, opts.Bisector)
-	if bisErr == nil {
-		grads = append(grads, bisGrad)
+	if bisErr != nil {
+		bisGrad = make([]float64, nv)
 	}
+	grads[qBIS] = bisGrad
 	dvVal, dvGrad, dvErr := biGaussDV(c.V, c.Value, w, g)
-	iDV := -1
-	if dvErr == nil {
-		iDV = len(grads)
-		grads = append(grads, dvGrad)
+	if dvErr != nil {
+		dvGrad = make([]float64, nv)
 	}
+	grads[qDV] = dvGrad
 	// Per-segment fits, started from the total fit.
 	segGrads := make([][]float64, len(c.Segments))
 	segFit := make([]fitResult, len(c.Segments))
@@ -242,7 +244,7 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 		r.BIS = failed(fmt.Errorf("%s: BIS: %w", r.Name, bisErr))
 	}
 	if dvErr == nil {
-		r.DeltaV = Estimate{Value: dvVal, Sigma: math.Sqrt(vq[iDV])}
+		r.DeltaV = Estimate{Value: dvVal, Sigma: math.Sqrt(vq[qDV])}
 	} else {
 		r.DeltaV = failed(fmt.Errorf("%s: bi-Gaussian: %w", r.Name, dvErr))
 	}
@@ -273,62 +275,33 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 }
 
 // bisGradient returns the BIS of the CCF y (normalised by the Gaussian
-// continuum, depth A/C0 from the fit) and its gradient with respect to each
-// CCF value, including the dependence through C0 and A.
+// continuum C0, depth A/C0 from the fit) and its gradient with respect to
+// each CCF value, including the dependence through C0 and A:
+//
+//	∂BIS/∂y_k = g_k/C0 − (Σ_j g_j y_j/C0²)·∂C0/∂y_k + ∂BIS/∂D·∂D/∂y_k
+//
+// with g the gradient with respect to the normalised profile.
 func bisGradient(v, y []float64, g fitResult, opts *BisectorOptions) (float64, []float64, error) {
-	n := len(v)
-	f := make([]float64, n)
-	eval := func(c0, a float64) (float64, error) {
-		for k := range f {
-			f[k] = y[k] / c0
-		}
-		return BIS(v, f, a/c0, opts)
-	}
 	c0, a := g.theta[0], g.theta[1]
-	b0, err := eval(c0, a)
+	f := make([]float64, len(y))
+	for k := range f {
+		f[k] = y[k] / c0
+	}
+	b, gf, dD, err := bisGrad(v, f, a/c0, opts)
 	if err != nil {
 		return 0, nil, err
 	}
-	grad := make([]float64, n)
-	// ∂BIS/∂C0 and ∂BIS/∂A by central differences.
-	dc := 1e-6 * c0
-	bp, e1 := eval(c0+dc, a)
-	bm, e2 := eval(c0-dc, a)
-	var dBdC, dBdA float64
-	if e1 == nil && e2 == nil {
-		dBdC = (bp - bm) / (2 * dc)
+	var sy float64
+	for j := range gf {
+		sy += gf[j] * y[j]
 	}
-	da := 1e-6 * a
-	bp, e1 = eval(c0, a+da)
-	bm, e2 = eval(c0, a-da)
-	if e1 == nil && e2 == nil {
-		dBdA = (bp - bm) / (2 * da)
+	sy /= c0 * c0
+	grad := make([]float64, len(y))
+	for k := range grad {
+		dc0, da := g.dtheta[0][k], g.dtheta[1][k]
+		grad[k] = gf[k]/c0 - sy*dc0 + dD*(da/c0-a*dc0/(c0*c0))
 	}
-	// ∂BIS/∂y_k at fixed C0, A: the piecewise-linear bisector depends only
-	// on the samples next to a crossing, so perturbing one value at a time
-	// is exact up to rounding.
-	yc := append([]float64(nil), y...)
-	for k := 0; k < n; k++ {
-		h := 1e-7 * c0
-		orig := yc[k]
-		yc[k] = orig + h
-		for j := range f {
-			f[j] = yc[j] / c0
-		}
-		bp, e1 := BIS(v, f, a/c0, opts)
-		yc[k] = orig - h
-		for j := range f {
-			f[j] = yc[j] / c0
-		}
-		bm, e2 := BIS(v, f, a/c0, opts)
-		yc[k] = orig
-		var d float64
-		if e1 == nil && e2 == nil {
-			d = (bp - bm) / (2 * h)
-		}
-		grad[k] = d + dBdC*g.dtheta[0][k] + dBdA*g.dtheta[1][k]
-	}
-	return b0, grad, nil
+	return b, grad, nil
 }
 
 // biGaussDV fits the bi-Gaussian profile and returns ΔV = v0_bi − v0_Gauss
