@@ -55,6 +55,12 @@ type glsData struct {
 }
 
 func newGLSData(t, y, sigma []float64, instrument []string) (*glsData, error) {
+	return newGLSDataMin(t, y, sigma, instrument, -1)
+}
+
+// newGLSDataMin validates like newGLSData but requires only minN epochs
+// (−1 means the periodogram's 3 + number of instruments).
+func newGLSDataMin(t, y, sigma []float64, instrument []string, minN int) (*glsData, error) {
 	n := len(t)
 	if len(y) != n || len(sigma) != n || (instrument != nil && len(instrument) != n) {
 		return nil, fmt.Errorf("%w: %d times, %d values, %d errors, %d instruments", ErrMismatch, n, len(y), len(sigma), len(instrument))
@@ -109,7 +115,7 @@ func newGLSData(t, y, sigma []float64, instrument []string) (*glsData, error) {
 		d.inst[i] = j
 	}
 	d.nInst = len(d.names)
-	if n < d.nInst+3 {
+	if minN < 0 && n < d.nInst+3 {
 		return nil, fmt.Errorf("%w: a periodogram with %d offsets needs at least %d epochs, have %d", ErrTooFewEpochs, d.nInst, d.nInst+3, n)
 	}
 	return d, nil
