@@ -206,7 +206,7 @@ type Observing struct {
 	// another, in [0, 1) (default 0.6): bad weather comes in runs.
 	WeatherPersistence float64 `toml:"weather_persistence"`
 	// TimeJitter is the Gaussian σ of the visit time around the nightly
-	// sidereal slot, in days (default 0.02, about half an hour).
+	// sidereal slot, in days (default 0.04, about an hour).
 	TimeJitter float64 `toml:"time_jitter"`
 	// MaxEpochs, when > 0, stops after that many epochs.
 	MaxEpochs int `toml:"max_epochs"`
@@ -304,7 +304,7 @@ func (sc *Scenario) Defaults() *Scenario {
 	def(&o.SeasonLength, 240)
 	def(&o.ClearFraction, 0.7)
 	def(&o.WeatherPersistence, 0.6)
-	def(&o.TimeJitter, 0.02)
+	def(&o.TimeJitter, 0.04)
 	if len(c.Instruments) == 0 {
 		c.Instruments = []Instrument{{Name: "SIM"}}
 	}

@@ -81,12 +81,36 @@ func (r *Result) WriteFiles(dir string, opts *WriteOptions) error {
 	if err := os.MkdirAll(sdir, 0o755); err != nil {
 		return err
 	}
-	nw := (&Options{Workers: opts.Workers}).workers()
+	var mu sync.Mutex
+	done := 0
+	return r.EachSpectrum(opts.Workers, func(i int, sp *indicators.Spectrum) error {
+		if err := indicators.WriteFITSFile(filepath.Join(sdir, SpectrumFile(i)), sp); err != nil {
+			return err
+		}
+		if opts.Progress != nil {
+			mu.Lock()
+			done++
+			opts.Progress(done, len(r.Epochs))
+			mu.Unlock()
+		}
+		return nil
+	})
+}
+
+// EachSpectrum makes the spectrum of every epoch (as Result.Spectrum does)
+// and hands it to fn, on workers goroutines (0: runtime.GOMAXPROCS(0)), so
+// fn must be safe for concurrent use. Each worker reuses one flux buffer:
+// the spectrum passed to fn is valid only until fn returns (Clone it to keep
+// it). Memory stays bounded by the number of workers, whatever the number of
+// epochs. The first error from fn stops the remaining epochs and is
+// returned, wrapped with the epoch number.
+func (r *Result) EachSpectrum(workers int, fn func(i int, s *indicators.Spectrum) error) error {
+	nw := (&Options{Workers: workers}).workers()
 	n := len(r.Epochs)
 	errs := make([]error, n)
 	next := make(chan int)
-	var mu sync.Mutex
-	done := 0
+	stop := make(chan struct{})
+	var once sync.Once
 	var wg sync.WaitGroup
 	for w := 0; w < min(nw, n); w++ {
 		wg.Add(1)
@@ -95,19 +119,19 @@ func (r *Result) WriteFiles(dir string, opts *WriteOptions) error {
 			ws := r.s.newWorkspace()
 			flux := make([]float64, r.s.spec.n)
 			for i := range next {
-				sp := r.s.spectrum(ws, r, i, flux)
-				errs[i] = indicators.WriteFITSFile(filepath.Join(sdir, SpectrumFile(i)), sp)
-				if opts.Progress != nil {
-					mu.Lock()
-					done++
-					opts.Progress(done, n)
-					mu.Unlock()
+				if errs[i] = fn(i, r.s.spectrum(ws, r, i, flux)); errs[i] != nil {
+					once.Do(func() { close(stop) })
 				}
 			}
 		}()
 	}
+feed:
 	for i := 0; i < n; i++ {
-		next <- i
+		select {
+		case next <- i:
+		case <-stop:
+			break feed
+		}
 	}
 	close(next)
 	wg.Wait()
@@ -135,7 +159,8 @@ func (r *Result) WriteFiles(dir string, opts *WriteOptions) error {
 //	s_index         noise-free S-index of the synthetic spectrum
 //	emission        relative strength of the chromospheric emission cores
 //
-// Numbers are written in the shortest form that reads back exactly.
+// Numbers are written in the shortest form that reads back exactly (times
+// without an exponent).
 func (r *Result) WriteTruth(w io.Writer) error {
 	bw := bufio.NewWriter(w)
 	fmt.Fprintf(bw, "# truth of a spotsift simulation: star %q, seed %d\n", r.Scenario.Name, r.Seed)
@@ -154,7 +179,7 @@ func (r *Result) WriteTruth(w io.Writer) error {
 	bw.WriteByte('\n')
 	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 	for _, e := range r.Epochs {
-		row := []string{f(e.Time), e.Instrument, f(e.ActivityRV)}
+		row := []string{strconv.FormatFloat(e.Time, 'f', -1, 64), e.Instrument, f(e.ActivityRV)}
 		var sum float64
 		for _, p := range e.PlanetRV {
 			row = append(row, f(p))
