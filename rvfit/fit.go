@@ -543,7 +543,6 @@ func BIC(logL float64, k, n int) float64 {
 	return float64(k)*math.Log(float64(n)) - 2*logL
 }
 
-
 // nFree counts the coordinates laplaceAt does not hold fixed.
 func nFree(x []float64, logp func([]float64) float64, sc []float64) int {
 	th := append([]float64(nil), x...)
