@@ -378,7 +378,8 @@ func (sc *Scenario) Check(file string) error {
 		{"activity.cb_suppression", c.Activity.CBSuppression, 0, 1, false, "must lie in [0, 1]"},
 		{"activity.s_quiet", c.Activity.SQuiet, 0.05, 5, false, "must lie in [0.05, 5]"},
 		{"activity.s_gain", c.Activity.SGain, 0, 100, false, "must lie in [0, 100]"},
-		{"observing.end", c.Observing.End, c.Observing.Start, math.Inf(1), true, fmt.Sprintf("must be after observing.start (%v)", c.Observing.Start)},
+		{"observing.start", c.Observing.Start, -1e7, 1e8, false, "must be a BJD_TDB in days"},
+		{"observing.end", c.Observing.End, c.Observing.Start, 1e8, true, fmt.Sprintf("must be after observing.start (%v)", c.Observing.Start)},
 		{"observing.step", c.Observing.Step, 0, 1e4, false, "must lie in [0, 10000] days"},
 		{"observing.season_length", c.Observing.SeasonLength, 0, 1e4, true, "must be > 0 days"},
 		{"observing.clear_fraction", c.Observing.ClearFraction, 0, 1, true, "must lie in (0, 1]"},
@@ -424,12 +425,17 @@ func (sc *Scenario) Check(file string) error {
 	}
 	for _, r := range rows {
 		v := r.v
-		if math.IsNaN(v) || math.IsInf(v, 0) && r.key != "observing.end" || v < r.lo || v > r.hi || (r.open && v == r.lo) {
+		if math.IsNaN(v) || math.IsInf(v, 0) || v < r.lo || v > r.hi || (r.open && v == r.lo) {
 			return bad(r.key, v, r.msg)
 		}
 	}
 	if c.Observing.Start == 0 && c.Observing.End == 0 {
 		return &ScenarioError{File: file, Key: "observing.end", Msg: "missing: the observations need start and end"}
+	}
+	if span := c.Observing.End - c.Observing.Start; span > 36525 {
+		return bad("observing.end", c.Observing.End, "observations may span at most 100 years")
+	} else if c.Observing.Step > 0 && span/c.Observing.Step > 1e6 {
+		return bad("observing.step", c.Observing.Step, "gives more than 1000000 epochs")
 	}
 	if c.Observing.ClearFraction < 1 {
 		// P(cloudy | clear) = (1 − c)(1 − p)/c must be a probability.

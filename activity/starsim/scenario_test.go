@@ -95,3 +95,23 @@ func TestEncodeTOMLRoundTrip(t *testing.T) {
 		t.Errorf("round trip differs:\n got %+v\nwant %+v", back, want)
 	}
 }
+
+// FuzzParseScenario checks that no scenario text makes ParseScenario panic,
+// and that whatever it accepts simulates or fails with an error.
+func FuzzParseScenario(f *testing.F) {
+	f.Add([]byte(goodScenario))
+	f.Add([]byte("[star]\nv_eq = 1e308\nrotation_period = 1e-300\n"))
+	f.Add([]byte("[[planet]]\nperiod = nan\n"))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		sc, err := ParseScenario(b, "fuzz.toml")
+		if err != nil {
+			if !errors.Is(err, ErrScenario) {
+				t.Fatalf("error %v does not wrap ErrScenario", err)
+			}
+			return
+		}
+		if sc.Star.VEq <= 0 || sc.Star.RotationPeriod <= 0 {
+			t.Fatalf("accepted a star with v_eq %v, period %v", sc.Star.VEq, sc.Star.RotationPeriod)
+		}
+	})
+}

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"sort"
 	"strconv"
 	"sync"
 
@@ -67,7 +68,9 @@ type Epoch struct {
 	// Emission is the relative strength of the chromospheric emission cores.
 	Emission float64
 	// TrueFWHM, TrueBIS (m/s), TrueContrast and TrueSIndex are the noise-free
-	// values measured on the profile and on the synthetic Ca II spectrum.
+	// values measured on the profile and on the synthetic Ca II spectrum
+	// (TrueSIndex and SIndex are NaN when the spectral range lacks the Ca II
+	// bands).
 	TrueFWHM, TrueBIS, TrueContrast, TrueSIndex float64
 
 	// RV is the measured velocity: systemic + instrument offset + ActivityRV
@@ -114,6 +117,7 @@ type sim struct {
 	e0, e1  float64 // chromospheric emission: e = e0 + e1·facular filling
 	caLo    int     // pixel range of the Ca II window
 	caHi    int
+	hasCa   bool // the spectrum holds the S-index bands
 	workers int
 	noNoise bool
 }
@@ -161,8 +165,9 @@ func Simulate(sc *Scenario, seed uint64, opts *Options) (*Result, error) {
 	s.g = newVelGrid(s.d.vmax+8*sigEff+1, c.Numerics.VelocityStep)
 	s.quietH = s.d.quietHistogram(s.g)
 	s.spec = newSpecModel(c, rand.New(rand.NewPCG(seed, streamLines)))
-	s.caLo = max(0, int((math.Log(sBandV0-5)-s.spec.lnl0)/s.spec.dl))
-	s.caHi = min(s.spec.n, int((math.Log(sBandR1+5)-s.spec.lnl0)/s.spec.dl)+1)
+	s.caLo = int((math.Log(sBandV0-5) - s.spec.lnl0) / s.spec.dl)
+	s.caHi = int((math.Log(sBandR1+5)-s.spec.lnl0)/s.spec.dl) + 1
+	s.hasCa = s.caLo >= 0 && s.caHi <= s.spec.n
 
 	ws := s.newWorkspace()
 	var quiet coverage
@@ -372,6 +377,12 @@ func (s *sim) sIndex(spec []float64, snr float64) (S, sErr float64) {
 // quiet star has S = SQuiet and dS/df_fac = SGain. S is linear in e because
 // the emission cores lie inside the H and K bands only.
 func (s *sim) calibrateEmission(ws *workspace, quiet *coverage) error {
+	if !s.hasCa {
+		// Without the Ca II window the S-index is not measured; the
+		// emission cores of the other lines follow a unit law.
+		s.e0, s.e1 = 0.1, 1
+		return nil
+	}
 	s.buildKernels(ws, quiet, 0)
 	m := s.spec
 	m.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, 0)
@@ -410,10 +421,13 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 		planets += rv
 	}
 	ep.Emission = s.e0 + s.e1*ep.FaculaFilling
-	s.buildKernels(ws, &ws.cv, v.inst)
-	s.spec.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, ep.Emission)
-	var sErr float64
-	ep.TrueSIndex, sErr = s.sIndex(ws.spec, in.SNR)
+	sErr := math.NaN()
+	ep.TrueSIndex = math.NaN()
+	if s.hasCa {
+		s.buildKernels(ws, &ws.cv, v.inst)
+		s.spec.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, ep.Emission)
+		ep.TrueSIndex, sErr = s.sIndex(ws.spec, in.SNR)
+	}
 
 	rng := rand.New(rand.NewPCG(s.seed, streamTable+uint64(i)))
 	gauss := rng.NormFloat64
@@ -433,6 +447,23 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 	ep.SIndErr = sErr
 	ep.SIndex = ep.TrueSIndex + sErr*gauss()
 	return ep, nil
+}
+
+// LineList returns the rest wavelengths (Å, air) of the invented weak
+// absorption lines of the full spectra, in increasing order, with their
+// local central depths: a ready-made line mask for cross-correlation.
+func (r *Result) LineList() (wavelength, depth []float64) {
+	m := r.s.spec
+	idx := make([]int, len(m.lpix))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.Slice(idx, func(a, b int) bool { return m.lpix[idx[a]] < m.lpix[idx[b]] })
+	for _, i := range idx {
+		wavelength = append(wavelength, math.Exp(m.lnl0+m.lpix[i]*m.dl))
+		depth = append(depth, m.ldepth[i])
+	}
+	return wavelength, depth
 }
 
 // Len returns the number of epochs.
@@ -514,8 +545,8 @@ func (s *sim) spectrum(ws *workspace, r *Result, i int, flux []float64) *indicat
 
 // Series returns the simulated measurements as a per-epoch series: time,
 // rv, rv_err, instrument and the indicators fwhm, bis (m/s, with errors)
-// and s_index (with its error), in time order. Each call returns a new
-// Series.
+// and s_index (with its error; left out when the spectral range lacks the
+// Ca II bands), in time order. Each call returns a new Series.
 func (r *Result) Series() *rvfit.Series {
 	n := len(r.Epochs)
 	s := &rvfit.Series{Name: r.Scenario.Name}
@@ -531,6 +562,9 @@ func (r *Result) Series() *rvfit.Series {
 		bis.Value[i], bis.Err[i] = e.BIS, e.BISErr
 		sind.Value[i], sind.Err[i] = e.SIndex, e.SIndErr
 	}
-	s.Indicators = []rvfit.Indicator{fwhm, bis, sind}
+	s.Indicators = []rvfit.Indicator{fwhm, bis}
+	if r.s.hasCa {
+		s.Indicators = append(s.Indicators, sind)
+	}
 	return s
 }
