@@ -37,11 +37,26 @@
 // A Scenario (read from TOML by ParseScenario or ReadScenario, or taken from
 // DemoScenarios) and a seed determine everything:
 //
-//	sc, err := starsim.ReadScenario("star.toml")
+//	sc, err := starsim.ReadScenario("star.toml") // or DemoScenario("quiet-planet")
 //	res, err := starsim.Simulate(sc, seed, nil)
-//	series := res.Series()          // measured per-epoch table
+//	series := res.Series()          // measured per-epoch table (rvfit.Series)
+//	prof, err := res.Profile(i)     // noise-free disk-integrated profile of epoch i
 //	spec, err := res.Spectrum(i)    // full spectrum of epoch i, made on demand
-//	err = res.WriteFiles(dir, nil)  // scenario, truth table, FITS spectra
+//	err = res.EachSpectrum(0, fn)   // every spectrum, streamed in parallel
+//	wl, depth := res.LineList()     // the invented lines, a ready CCF mask
+//	err = res.WriteFiles(dir, nil)  // scenario, truth, table, FITS spectra
 //
-// Spectra are made lazily, one epoch at a time, so memory stays bounded.
+// res.Epochs holds the truth of every epoch (activity RV, each planet's RV,
+// filling factors, flux, noise-free indicators) next to the simulated
+// measurements. Spectra are made lazily, one epoch at a time per worker, so
+// memory stays bounded whatever the number of epochs.
+//
+// # Conventions
+//
+// Times are BJD_TDB in days, velocities m/s (km/s inside the disk model),
+// wavelengths Å in air. Spectra are in the barycentric frame (no BERV is
+// simulated). Random draws come from PCG streams of the seed, one stream per
+// concern (schedule, regions, line list, each epoch's table noise, each
+// epoch's spectrum noise), so the same scenario and seed give the same
+// bytes, whatever the number of workers.
 package starsim

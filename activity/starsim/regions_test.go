@@ -193,3 +193,71 @@ func TestFaculaeAndChromosphere(t *testing.T) {
 		t.Errorf("r(facular filling, S) = %.3f, want > 0.99", r)
 	}
 }
+
+// TestChromaticSpot checks that a cool spot's RV is larger in the blue than
+// in the red, because its Planck contrast is (METHODS.md §10, §13): the
+// ratio of the kernels' RVs at the spectrum's bluest and reddest nodes
+// equals the ratio of (1 − contrast) to 10 %, since the RV of a small spot
+// scales with the flux it removes.
+func TestChromaticSpot(t *testing.T) {
+	sc := oneSpot(5, 0.01, 8)
+	sc.Spectrum = SpectrumPlan{Pixels: 50000, LambdaMin: 3800, LambdaMax: 6900, Lines: 10}
+	sc.Activity.SpotTempDiff = 1000
+	res := mustSimulate(t, sc, 1, nil)
+	s := res.s
+	ws := s.newWorkspace()
+	s.d.cover(&ws.cv, s.regs, res.Epochs[1].Time) // spot 45° from the centre
+	s.buildKernels(ws, &ws.cv, 0)
+	var quiet coverage
+	wq := s.newWorkspace()
+	s.buildKernels(wq, &quiet, 0)
+	rvAt := func(k *kernels, j int) float64 {
+		p := &Profile{Velocity: make([]float64, len(k.A[j])), Flux: make([]float64, len(k.A[j]))}
+		for i := range p.Velocity {
+			p.Velocity[i] = k.g.at(i)
+			p.Flux[i] = 1 - 0.6*k.A[j][i]
+		}
+		g, err := FitGaussian(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return g.V0
+	}
+	last := len(s.spec.nodes) - 1
+	blue := rvAt(&ws.k, 0) - rvAt(&wq.k, 0)
+	red := rvAt(&ws.k, last) - rvAt(&wq.k, last)
+	T, dT := sc.Star.Teff, sc.Activity.SpotTempDiff
+	if T == 0 {
+		T = 5750
+	}
+	want := (1 - SpotContrast(s.spec.nodes[0], T, dT)) / (1 - SpotContrast(s.spec.nodes[last], T, dT))
+	if r := blue / red; math.Abs(r/want-1) > 0.1 {
+		t.Errorf("RV(%.0f Å)/RV(%.0f Å) = %.3f (%.2f/%.2f m/s), want %.3f from the contrasts", s.spec.nodes[0], s.spec.nodes[last], r, blue*1000, red*1000, want)
+	}
+	if math.Abs(blue) <= math.Abs(red) {
+		t.Errorf("blue RV %.3f m/s not larger than red %.3f m/s", blue*1000, red*1000)
+	}
+}
+
+// TestDifferentialRotation checks that a spot at latitude 50° on a star with
+// shear α = 0.2 rotates with Ω(θ) = Ω_eq (1 − α sin²θ) (METHODS.md §13): the
+// RV periodogram peaks at P_eq/(1 − 0.2 sin² 50°) or its half, within 2 %.
+func TestDifferentialRotation(t *testing.T) {
+	sc := oneSpot(5, 0.02, 2)
+	sc.Star.DiffRotation = 0.2
+	sc.Star.Inclination = 60
+	sc.Activity.Regions[0].Lat = 50
+	sc.Observing = Observing{Start: 100, End: 180, Step: 0.37}
+	res := mustSimulate(t, sc, 1, nil)
+	var tt, y []float64
+	for _, e := range res.Epochs {
+		tt = append(tt, e.Time)
+		y = append(y, e.ActivityRV)
+	}
+	s := math.Sin(50 * math.Pi / 180)
+	P := 10 / (1 - 0.2*s*s)
+	f := glsPeak(tt, y, 1/30.0, 1.0)
+	if math.Abs(f*P-1) > 0.02 && math.Abs(f*P-2) > 0.04 {
+		t.Errorf("peak at %.3f d, want %.3f d (or half)", 1/f, P)
+	}
+}

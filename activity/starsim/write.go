@@ -34,6 +34,10 @@ type WriteOptions struct {
 	// Creator names the writing program in the table's comment line
 	// (default "spotsift starsim").
 	Creator string
+	// Float32 reports whether spectra are written with 32-bit float flux
+	// (half the size; 7 significant digits, ample for photon counts) instead
+	// of 64-bit.
+	Float32 bool
 }
 
 // SpectrumFile returns the file name of epoch i's spectrum inside
@@ -43,8 +47,9 @@ func SpectrumFile(i int) string { return fmt.Sprintf("epoch-%04d.fits", i+1) }
 // WriteFiles writes the simulation into dir (created if needed): the
 // scenario (ScenarioFile), the truth (TruthFile), the measured table
 // (TableFile) and, when the scenario asks for full spectra, one FITS file
-// per epoch in SpectraDir (indicators.WriteFITSFile: 1-D, log-linear air
-// wavelength WCS, DATE-OBS and MJD-OBS). Each file is written to a temporary
+// per epoch in SpectraDir (indicators.FITSEncoder: 1-D, log-linear air
+// wavelength WCS, DATE-OBS and MJD-OBS, and the keywords OBJECT, INSTRUME,
+// ORIGIN, SIMSEED, SIMEPOCH, SNR5500, EXPTYPE). Each file is written to a temporary
 // file and renamed. Spectra are made and written one at a time per worker,
 // so memory stays bounded whatever the number of epochs.
 func (r *Result) WriteFiles(dir string, opts *WriteOptions) error {
@@ -83,8 +88,9 @@ func (r *Result) WriteFiles(dir string, opts *WriteOptions) error {
 	}
 	var mu sync.Mutex
 	done := 0
+	enc := &indicators.FITSEncoder{Float32: opts.Float32}
 	return r.EachSpectrum(opts.Workers, func(i int, sp *indicators.Spectrum) error {
-		if err := indicators.WriteFITSFile(filepath.Join(sdir, SpectrumFile(i)), sp); err != nil {
+		if err := enc.EncodeFile(filepath.Join(sdir, SpectrumFile(i)), sp); err != nil {
 			return err
 		}
 		if opts.Progress != nil {
