@@ -78,6 +78,11 @@ func NewModel(s *Series, nPlanets int, noise NoiseModel, opts *ModelOptions) (*M
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", s.Name, err)
 	}
+	for i, nm := range d.names {
+		if nm == "" {
+			d.names[i] = DefaultInstrument
+		}
+	}
 	m := &Model{nPlanets: nPlanets, instr: d.names, emax: o.MaxEccentricity, ecc: o.Eccentricity}
 	if m.emax == 0 {
 		m.emax = 0.95

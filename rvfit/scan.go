@@ -220,7 +220,9 @@ func Scan(s *Series, opts *ScanOptions) (*ScanResult, error) {
 					e = ind.Err[k]
 				}
 				ee = append(ee, e)
-				ins = append(ins, s.Instrument[k])
+				if s.Instrument != nil {
+					ins = append(ins, s.Instrument[k])
+				}
 			}
 			di, err := newGLSData(tt, yy, ee, ins)
 			if err != nil {
