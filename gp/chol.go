@@ -45,6 +45,12 @@ func (c *cholesky) at(i, j int) float64 { return c.a[i*c.ld+j] }
 // overwritten.
 func (c *cholesky) factor() bool {
 	n, ld, a := c.n, c.ld, c.a
+	// Below this size goroutines cost more than they save, and callers
+	// (fits, Monte Carlo loops) are often parallel already.
+	par := parallelRows
+	if n < cholParallelMin {
+		par = serialRows
+	}
 	nb := cholNB
 	var pack, packJ []float64
 	for j0 := 0; j0 < n; j0 += nb {
@@ -78,7 +84,7 @@ func (c *cholesky) factor() bool {
 		packJ = packJ[:w*w]
 		packPanel(packJ, a, ld, j0, j1, j0, w)
 		rowTiles := (n - j1 + cholMR - 1) / cholMR
-		parallelRows(0, rowTiles, 4, func(t0, t1 int) {
+		par(0, rowTiles, 4, func(t0, t1 int) {
 			for t := t0; t < t1; t++ {
 				i := j1 + t*cholMR
 				for q := 0; q < w; q += cholNR {
@@ -105,7 +111,7 @@ func (c *cholesky) factor() bool {
 		}
 		pack = pack[:mp*w]
 		packPanel(pack, a, ld, j1, n, j0, w)
-		parallelRows(0, rowTiles, 8, func(t0, t1 int) {
+		par(0, rowTiles, 8, func(t0, t1 int) {
 			for t := t0; t < t1; t++ {
 				i := j1 + t*cholMR
 				// Columns up to the tile's last row.
@@ -169,6 +175,11 @@ func gemmTileGo(k int, a []float64, lda int, b []float64, c []float64, ldc int) 
 		}
 	}
 }
+
+// cholParallelMin is the smallest matrix factorised on several goroutines.
+const cholParallelMin = 320
+
+func serialRows(lo, hi, _ int, f func(a, b int)) { f(lo, hi) }
 
 // parallelRows splits [lo, hi) into chunks for up to GOMAXPROCS
 // goroutines when the range is at least minChunk×2 long.

@@ -68,10 +68,13 @@ func (k QuasiPeriodic) Cov(tau float64) float64 {
 // (Rajpaul et al. 2015; derivatives as in METHODS.md §8.)
 func (k QuasiPeriodic) CovDeriv(tau float64) (c, dc, d2c float64) {
 	p, lp, le := k.Rajpaul()
-	c = k.Cov(tau)
-	s2, c2 := math.Sincos(2 * math.Pi * tau / p)
-	g1 := -math.Pi/(2*p*lp*lp)*s2 - tau/(le*le)
-	g2 := -math.Pi*math.Pi/(p*p*lp*lp)*c2 - 1/(le*le)
+	// One Sincos serves all three: sin 2x = 2 sin x cos x, cos 2x = 1 − 2 sin²x.
+	s, co := math.Sincos(math.Pi * tau / p)
+	il2 := 1 / (lp * lp)
+	ie2 := 1 / (le * le)
+	c = k.Eta1 * k.Eta1 * math.Exp(-0.5*s*s*il2-0.5*tau*tau*ie2)
+	g1 := -math.Pi/p*il2*s*co - tau*ie2
+	g2 := -math.Pi*math.Pi/(p*p)*il2*(1-2*s*s) - ie2
 	return c, c * g1, c * (g1*g1 + g2)
 }
 
