@@ -93,7 +93,7 @@ func TestInjectionRecoveryMulti(t *testing.T) {
 	const pTrue = 25.0
 	truth := NewRajpaul(NewQuasiPeriodicRajpaul(1, pTrue, 0.5, 50), 2, 15, 0.8, -1.5, 8)
 	fixed := make([]bool, truth.NumParams())
-	fixed[0] = true // latent amplitude: degenerate with the coefficients
+	fixed[0] = true              // latent amplitude: degenerate with the coefficients
 	fixed[4+2*OutIndex+1] = true // the index has no dG/dt term (Rajpaul et al. 2015)
 	type outcome struct {
 		p, sp  float64
