@@ -192,7 +192,11 @@ func (m *specModel) synth(dst, absorb []float64, i0, i1 int, k *kernels, lnD, e 
 	for i := i0; i < i1; i++ {
 		// Depths add linearly (the local line model is linear); a floor keeps
 		// rare deep blends physical.
-		dst[i] = math.Max(1-absorb[i], 0.005)
+		if v := 1 - absorb[i]; v > 0.005 {
+			dst[i] = v
+		} else {
+			dst[i] = 0.005
+		}
 	}
 	invD := math.Exp(-lnD)
 	for s := range StrongLines {
