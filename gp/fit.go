@@ -211,6 +211,13 @@ func FitMulti(m Multi, series []Series, y [][]float64, s *FitSettings) (Multi, *
 	if _, err := NewMultiDense(m, series, nil); err != nil {
 		return Multi{}, nil, err
 	}
+	var all []float64
+	for _, s := range series {
+		all = append(all, s.T...)
+	}
+	if err := checkKernelPeriods(m.Latent, all); err != nil {
+		return Multi{}, nil, err
+	}
 	p0 := m.Params(nil)
 	pos := make([]bool, len(p0))
 	for i := 0; i < m.Latent.NumParams(); i++ {

@@ -126,9 +126,13 @@ func (m *Noise) diagonal(t, variance []float64, inst []int) ([]float64, error) {
 
 // Factor builds and factorises the covariance at times t with variances σ²
 // (nil means zero) and instrument labels inst (nil means instrument 0 for
-// every point).
+// every point). A kernel period shorter than the cadence allows (see
+// CheckPeriod) gives an error wrapping ErrPeriodTooShort.
 func (m *Noise) Factor(t, variance []float64, inst []int) (Solver, error) {
 	if err := m.validate(); err != nil {
+		return nil, err
+	}
+	if err := checkKernelPeriods(m.Kernel, t); err != nil {
 		return nil, err
 	}
 	diag, err := m.diagonal(t, variance, inst)
@@ -195,6 +199,9 @@ func (m *Noise) LogLikelihoodGrad(dst, t, r, variance []float64, inst []int) (fl
 		return math.Inf(-1), fmt.Errorf("%w: %T", ErrNoGradient, m.Kernel)
 	}
 	if err := m.validate(); err != nil {
+		return math.Inf(-1), err
+	}
+	if err := checkKernelPeriods(m.Kernel, t); err != nil {
 		return math.Inf(-1), err
 	}
 	diag, err := m.diagonal(t, variance, inst)

@@ -112,6 +112,9 @@ func TestNoiseBadInput(t *testing.T) {
 		{"negative variance", m, []float64{1, -1, 1}, nil, ErrNegativeVariance},
 		{"negative jitter", Noise{Kernel: m.Kernel, Jitter: []float64{-1}}, nil, nil, ErrBadParam},
 		{"semisep for QP", Noise{Kernel: m.Kernel, Solver: SemisepSolver}, nil, nil, ErrNotSemiseparable},
+		// Epochs 1 d apart: periods below 2 d are beyond the cadence.
+		{"period below cadence", Noise{Kernel: QuasiPeriodic{2, 30, 1.5, 0.9}}, nil, nil, ErrPeriodTooShort},
+		{"rotation period below cadence", Noise{Kernel: Sum{White{1}, RotationTerm{1, 1, 10, 0.5}}}, nil, nil, ErrPeriodTooShort},
 	} {
 		t.Run(row.name, func(t *testing.T) {
 			if _, err := row.m.LogLikelihood(ts, r, row.v, row.inst); !errors.Is(err, row.wantErr) {
