@@ -12,7 +12,6 @@ import (
 	"strings"
 	"time"
 
-	"github.com/astrogo/fitsio"
 )
 
 // Scale declares whether the wavelengths of an input are in air or vacuum.
@@ -128,6 +127,9 @@ type hduSpan struct {
 	bitpix             int
 	axes               []int
 	pcount, gcount     int
+	xtension           string // "" for the primary HDU
+	cards              map[string]any
+	keys               []string // in header order
 }
 
 // walkFITS checks the block structure of a FITS file: every header ends,
@@ -154,9 +156,11 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 			}
 			return nil, fileErr(name, h, "XTENSION", fmt.Errorf("%w: extension does not start with XTENSION", ErrNotFITS))
 		}
-		sp := hduSpan{gcount: 1, hdrStart: pos}
+		sp := hduSpan{gcount: 1, hdrStart: pos, cards: map[string]any{}}
+		lastKey := ""
 		naxis := -1
 		ended := false
+		seen := map[string]bool{}
 		for !ended {
 			if len(data)-pos < block {
 				return nil, fileErr(name, h, "END", fmt.Errorf("%w: header has no END card", ErrTruncated))
@@ -168,8 +172,40 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 					ended = true
 					break
 				}
+				if key == "HIERARCH" {
+					// ESO convention: HIERARCH A B C = value.
+					k, v, ok := strings.Cut(string(line[9:]), "=")
+					k = strings.TrimSpace(k)
+					if !ok || k == "" {
+						continue
+					}
+					if structural(k) {
+						return nil, fileErr(name, h, k, fmt.Errorf("%w: structural keyword in HIERARCH form", ErrBadKeyword))
+					}
+					sp.setCard(k, parseValue(v))
+					lastKey = k
+					continue
+				}
+				if key == "CONTINUE" {
+					// Long-string convention: append to the previous string.
+					if prev, ok := sp.cards[lastKey].(string); ok && strings.HasSuffix(prev, "&") {
+						if more, ok := parseValue(string(line[8:])).(string); ok {
+							sp.cards[lastKey] = prev[:len(prev)-1] + more
+						}
+					}
+					continue
+				}
 				if !bytes.Equal(line[8:10], []byte("= ")) {
 					continue
+				}
+				sp.setCard(key, parseValue(string(line[10:])))
+				lastKey = key
+				if structural(key) {
+					// Readers disagree on which of two copies counts.
+					if seen[key] {
+						return nil, fileErr(name, h, key, fmt.Errorf("%w: keyword given twice", ErrBadKeyword))
+					}
+					seen[key] = true
 				}
 				ival := func() (int, error) {
 					v := string(line[10:])
@@ -207,12 +243,22 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 					sp.pcount, err = ival()
 				case key == "GCOUNT":
 					sp.gcount, err = ival()
+				case key == "TFIELDS" || key == "THEAP":
+					// Both size allocations in fitsio; bound them here.
+					var n int
+					if n, err = ival(); err == nil && (key == "TFIELDS" && n > 999 || key == "THEAP" && n > len(data)) {
+						err = fileErr(name, h, key, fmt.Errorf("%w: %d", ErrBadKeyword, n))
+					}
 				}
 				if err != nil {
 					return nil, err
 				}
 			}
 			pos += block
+		}
+		if h > 0 {
+			x, _ := sp.cards["XTENSION"].(string)
+			sp.xtension = strings.ToUpper(strings.TrimSpace(x))
 		}
 		switch sp.bitpix {
 		case 8, 16, 32, 64, -32, -64:
@@ -228,26 +274,31 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 		for len(sp.axes) < naxis {
 			return nil, fileErr(name, h, fmt.Sprintf("NAXIS%d", len(sp.axes)+1), ErrMissingKeyword)
 		}
+		// Sizes in float64 first: the integers of a damaged header may
+		// overflow int arithmetic.
+		fn := 0.0
+		if naxis > 0 {
+			fn = 1
+			for _, a := range sp.axes {
+				fn *= float64(a)
+			}
+		}
+		size := abs(sp.bitpix) / 8
+		fbytes := float64(size) * float64(sp.gcount) * (float64(sp.pcount) + fn)
+		if fbytes > float64(len(data)-pos) {
+			return nil, fileErr(name, h, "", fmt.Errorf("%w: data needs %.0f bytes, file holds %d", ErrTruncated, fbytes, len(data)-pos))
+		}
 		n := 0
 		if naxis > 0 {
 			n = 1
 			for _, a := range sp.axes {
-				if a > 0 && n > (1<<40)/a {
-					return nil, fileErr(name, h, "NAXIS", fmt.Errorf("%w: data size overflows", ErrBadKeyword))
-				}
 				n *= a
 			}
 		}
-		size := abs(sp.bitpix) / 8
 		nbytes := size * sp.gcount * (sp.pcount + n)
-		if sp.gcount > 1<<20 || sp.pcount > 1<<40 || nbytes < 0 {
-			return nil, fileErr(name, h, "PCOUNT", fmt.Errorf("%w: data size overflows", ErrBadKeyword))
-		}
 		sp.dataStart = pos
 		sp.dataLen = nbytes
-		if len(data)-pos < nbytes {
-			return nil, fileErr(name, h, "", fmt.Errorf("%w: data needs %d bytes, file holds %d", ErrTruncated, nbytes, len(data)-pos))
-		}
+
 		pos += (nbytes + block - 1) / block * block
 		spans = append(spans, sp)
 		if pos > len(data) {
@@ -256,6 +307,16 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 		}
 	}
 	return spans, nil
+}
+
+// structural reports whether k is a keyword that fixes the size or layout
+// of an HDU.
+func structural(k string) bool {
+	switch k {
+	case "SIMPLE", "XTENSION", "BITPIX", "NAXIS", "PCOUNT", "GCOUNT", "TFIELDS", "THEAP", "EXTEND":
+		return true
+	}
+	return strings.HasPrefix(k, "NAXIS") || strings.HasPrefix(k, "TFORM")
 }
 
 func allPadding(b []byte) bool {
@@ -274,47 +335,78 @@ func abs(i int) int {
 	return i
 }
 
-// openFITS parses the headers with fitsio, turning a panic inside it into an
-// error, and checks that it found the same HDUs as walkFITS.
-func openFITS(data []byte, name string, spans []hduSpan) (hdus []fitsio.HDU, err error) {
-	defer func() {
-		if r := recover(); r != nil {
-			hdus, err = nil, fileErr(name, -1, "", fmt.Errorf("%w: %v", ErrNotFITS, r))
+// setCard records a keyword value; a later copy of a keyword replaces an
+// earlier one (structural keywords may not repeat, see walkFITS).
+func (sp *hduSpan) setCard(k string, v any) {
+	if _, ok := sp.cards[k]; !ok {
+		sp.keys = append(sp.keys, k)
+	}
+	sp.cards[k] = v
+}
+
+// parseValue parses the value field of a header card (after "= "): a
+// quoted string (with '' for a quote), T or F, an integer or a float (D
+// exponents allowed); anything else, or an empty field, is nil. A comment
+// after '/' is dropped.
+func parseValue(v string) any {
+	v = strings.TrimLeft(v, " ")
+	if v == "" {
+		return nil
+	}
+	if v[0] == '\'' {
+		var b strings.Builder
+		for i := 1; i < len(v); i++ {
+			if v[i] == '\'' {
+				if i+1 < len(v) && v[i+1] == '\'' {
+					b.WriteByte('\'')
+					i++
+					continue
+				}
+				return strings.TrimRight(b.String(), " ")
+			}
+			b.WriteByte(v[i])
 		}
-	}()
-	// fitsio wants every data array padded; pad the copy it reads.
-	padded := data
-	if len(data)%2880 != 0 {
-		padded = make([]byte, (len(data)+2879)/2880*2880)
-		copy(padded, data)
+		return nil // unterminated string
 	}
-	f, err := fitsio.Open(bytes.NewReader(padded))
-	if err != nil {
-		return nil, fileErr(name, -1, "", fmt.Errorf("%w: %v", ErrNotFITS, err))
+	if i := strings.IndexByte(v, '/'); i >= 0 {
+		v = v[:i]
 	}
-	hdus = f.HDUs()
-	if len(hdus) != len(spans) {
-		return nil, fileErr(name, -1, "", fmt.Errorf("%w: found %d HDUs, expected %d", ErrNotFITS, len(hdus), len(spans)))
+	v = strings.TrimSpace(v)
+	switch v {
+	case "":
+		return nil
+	case "T":
+		return true
+	case "F":
+		return false
 	}
-	return hdus, nil
+	if !strings.ContainsAny(v, ".EeDd") {
+		if n, err := strconv.ParseInt(v, 10, 64); err == nil {
+			return int(n)
+		}
+	}
+	if f, err := strconv.ParseFloat(strings.NewReplacer("D", "E", "d", "e").Replace(v), 64); err == nil {
+		return f
+	}
+	return nil
 }
 
 // header is a parsed FITS header with typed look-ups.
 type header struct {
 	file string
 	hdu  int
-	h    *fitsio.Header
+	sp   *hduSpan
 }
 
-func (h header) has(k string) bool { return h.h.Get(k) != nil && h.h.Get(k).Value != nil }
+func (h header) has(k string) bool { return h.sp.cards[k] != nil }
 
 func (h header) float(k string) (float64, error) {
-	c := h.h.Get(k)
-	if c == nil || c.Value == nil {
+	val := h.sp.cards[k]
+	if val == nil {
 		return 0, fileErr(h.file, h.hdu, k, ErrMissingKeyword)
 	}
 	var v float64
-	switch x := c.Value.(type) {
+	switch x := val.(type) {
 	case float64:
 		v = x
 	case int:
@@ -326,7 +418,7 @@ func (h header) float(k string) (float64, error) {
 		}
 		v = f
 	default:
-		return 0, fileErr(h.file, h.hdu, k, fmt.Errorf("%w: %v is not a number", ErrBadKeyword, c.Value))
+		return 0, fileErr(h.file, h.hdu, k, fmt.Errorf("%w: %v is not a number", ErrBadKeyword, val))
 	}
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return 0, fileErr(h.file, h.hdu, k, fmt.Errorf("%w: %v", ErrNotFinite, v))
@@ -335,24 +427,21 @@ func (h header) float(k string) (float64, error) {
 }
 
 func (h header) str(k string) string {
-	c := h.h.Get(k)
-	if c == nil || c.Value == nil {
+	val := h.sp.cards[k]
+	if val == nil {
 		return ""
 	}
-	if s, ok := c.Value.(string); ok {
+	if s, ok := val.(string); ok {
 		return strings.TrimSpace(s)
 	}
-	return fmt.Sprint(c.Value)
+	return fmt.Sprint(val)
 }
 
 // strings returns all keyword values as strings, keyed by name.
 func (h header) strings(dst map[string]string) {
-	for _, k := range h.h.Keys() {
-		c := h.h.Get(k)
-		if c == nil || k == "" || k == "END" {
-			continue
-		}
-		switch x := c.Value.(type) {
+	for _, k := range h.sp.keys {
+		switch x := h.sp.cards[k].(type) {
+		case nil:
 		case string:
 			dst[k] = x
 		case float64:
@@ -373,15 +462,13 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 	if err != nil {
 		return nil, err
 	}
-	hdus, err := openFITS(data, name, spans)
-	if err != nil {
-		return nil, err
-	}
+	hdus := spans
+	hdr := func(i int) header { return header{file: name, hdu: i, sp: &spans[i]} }
 	extname := func(i int) string {
 		if i == 0 {
 			return "PRIMARY"
 		}
-		return strings.ToUpper(strings.TrimSpace(header{h: hdus[i].Header()}.str("EXTNAME")))
+		return strings.ToUpper(hdr(i).str("EXTNAME"))
 	}
 	find := func(names ...string) int {
 		for i := 1; i < len(hdus); i++ {
@@ -393,7 +480,7 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 		}
 		return -1
 	}
-	isImage := func(i int) bool { return hdus[i].Type() == fitsio.IMAGE_HDU && len(spans[i].axes) > 0 }
+	isImage := func(i int) bool { return (i == 0 || spans[i].xtension == "IMAGE") && len(spans[i].axes) > 0 }
 
 	// Choose the HDU holding the flux.
 	fluxHDU := -1
@@ -413,7 +500,7 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 			fluxHDU = 0
 		}
 		for i := 1; i < len(hdus) && fluxHDU < 0; i++ {
-			if hdus[i].Type() == fitsio.BINARY_TBL {
+			if spans[i].xtension == "BINTABLE" {
 				fluxHDU = i
 			}
 		}
@@ -427,8 +514,8 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 		}
 	}
 
-	prim := header{file: name, hdu: 0, h: hdus[0].Header()}
-	fh := header{file: name, hdu: fluxHDU, h: hdus[fluxHDU].Header()}
+	prim := hdr(0)
+	fh := hdr(fluxHDU)
 	s := &Spectrum{Name: name, Header: map[string]string{}}
 	prim.strings(s.Header)
 	commentary(data, spans[0], s.Header)
@@ -445,12 +532,16 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 	}
 
 	var unitSrc string
-	switch hdus[fluxHDU].Type() {
-	case fitsio.BINARY_TBL:
+	kind := spans[fluxHDU].xtension
+	if fluxHDU == 0 {
+		kind = "IMAGE"
+	}
+	switch kind {
+	case "BINTABLE":
 		if unitSrc, err = readTable(s, data, spans[fluxHDU], fh, opts); err != nil {
 			return nil, err
 		}
-	case fitsio.IMAGE_HDU:
+	case "IMAGE":
 		sp := spans[fluxHDU]
 		if len(sp.axes) != 1 && len(sp.axes) != 2 {
 			return nil, fileErr(name, fluxHDU, "NAXIS", fmt.Errorf("%w: %d axes, want 1 (one spectrum) or 2 (pixels × orders)", ErrBadRank, len(sp.axes)))
@@ -464,7 +555,7 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 			s.Orders[o].Flux = flux[o]
 		}
 		if w := find("WAVE", "WAVELENGTH"); w >= 0 {
-			wh := header{file: name, hdu: w, h: hdus[w].Header()}
+			wh := hdr(w)
 			if !shapeEqual(spans[w].axes, sp.axes) {
 				return nil, fileErr(name, w, "NAXIS", fmt.Errorf("%w: wavelength image %v, flux image %v", ErrMismatch, spans[w].axes, sp.axes))
 			}
@@ -492,7 +583,7 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 			unitSrc = look("CUNIT1").str("CUNIT1")
 		}
 		if e := find("ERR", "ERROR", "SIGMA"); e >= 0 {
-			eh := header{file: name, hdu: e, h: hdus[e].Header()}
+			eh := hdr(e)
 			if !shapeEqual(spans[e].axes, sp.axes) {
 				return nil, fileErr(name, e, "NAXIS", fmt.Errorf("%w: error image %v, flux image %v", ErrMismatch, spans[e].axes, sp.axes))
 			}
@@ -505,7 +596,7 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 			}
 		}
 	default:
-		return nil, fileErr(name, fluxHDU, "XTENSION", fmt.Errorf("%w: HDU type %v", ErrNoSpectrum, hdus[fluxHDU].Type()))
+		return nil, fileErr(name, fluxHDU, "XTENSION", fmt.Errorf("%w: HDU type %q", ErrNoSpectrum, kind))
 	}
 
 	// Wavelength unit.
