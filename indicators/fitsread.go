@@ -11,7 +11,6 @@ import (
 	"strconv"
 	"strings"
 	"time"
-
 )
 
 // Scale declares whether the wavelengths of an input are in air or vacuum.
@@ -244,7 +243,7 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 				case key == "GCOUNT":
 					sp.gcount, err = ival()
 				case key == "TFIELDS" || key == "THEAP":
-					// Both size allocations in fitsio; bound them here.
+					// Both size allocations; bound them here.
 					var n int
 					if n, err = ival(); err == nil && (key == "TFIELDS" && n > 999 || key == "THEAP" && n > len(data)) {
 						err = fileErr(name, h, key, fmt.Errorf("%w: %d", ErrBadKeyword, n))
@@ -345,7 +344,7 @@ func (sp *hduSpan) setCard(k string, v any) {
 }
 
 // parseValue parses the value field of a header card (after "= "): a
-// quoted string (with '' for a quote), T or F, an integer or a float (D
+// quoted string (with ” for a quote), T or F, an integer or a float (D
 // exponents allowed); anything else, or an empty field, is nil. A comment
 // after '/' is dropped.
 func parseValue(v string) any {
