@@ -139,3 +139,36 @@ func BenchmarkMultiLogLikelihood(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkMultiFit times a full MAP fit (with Laplace uncertainties) of
+// the Rajpaul et al. (2015) model to three series of 300 epochs drawn
+// from it, starting 5% off the truth.
+func BenchmarkMultiFit(b *testing.B) {
+	n := 300
+	rnd := rand.New(rand.NewPCG(1, 1))
+	truth := NewRajpaul(NewQuasiPeriodicRajpaul(1, 25, 0.5, 50), 2, 15, 0.8, -1.5, 8)
+	var series []Series
+	for o := 0; o < 3; o++ {
+		s := Series{Output: o, T: make([]float64, n), Variance: make([]float64, n)}
+		for i := range s.T {
+			s.T[i] = 300 * rnd.Float64()
+			s.Variance[i] = 0.25
+		}
+		series = append(series, s)
+	}
+	md, err := NewMultiDense(truth, series, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	y, _ := md.DrawSeries(rnd)
+	fixed := make([]bool, truth.NumParams())
+	fixed[0], fixed[4+2*OutIndex+1] = true, true
+	start, _ := truth.WithParams(perturb(truth.Params(nil), fixed, 0.05, rnd))
+	b.Run("series=3,n=300", func(b *testing.B) {
+		for b.Loop() {
+			if _, _, err := FitMulti(start, series, y, &FitSettings{Fixed: fixed}); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+}

@@ -270,3 +270,28 @@ func b2f(b bool) float64 {
 	}
 	return 0
 }
+
+// TestGemmTile checks the dispatched micro-kernel (assembly where
+// available) against the portable Go one.
+func TestGemmTile(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 1))
+	for _, k := range []int{1, 2, 7, 8, 48} {
+		lda, ldc := k+3, 13
+		a := make([]float64, 4*lda)
+		b := make([]float64, k*cholNR)
+		c1 := make([]float64, 4*ldc)
+		for _, s := range [][]float64{a, b, c1} {
+			for i := range s {
+				s[i] = rnd.NormFloat64()
+			}
+		}
+		c2 := append([]float64(nil), c1...)
+		gemmTile(k, a, lda, b, c1, ldc)
+		gemmTileGo(k, a, lda, b, c2, ldc)
+		for i := range c1 {
+			if math.Abs(c1[i]-c2[i]) > 1e-13*float64(k) {
+				t.Fatalf("k=%d: c[%d] = %.17g, Go %.17g (fast kernel: %v)", k, i, c1[i], c2[i], hasFastKernel)
+			}
+		}
+	}
+}
