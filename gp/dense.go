@@ -55,7 +55,7 @@ type denseCore struct {
 func newDenseCore(n int, fill func(c *cholesky), s *DenseSettings) (denseCore, error) {
 	c := newCholeskyBuffer(n)
 	fill(c)
-	st, jit, err := factorWithJitter(c, s.maxJitter())
+	st, jit, err := factorWithJitter(c, fill, s.maxJitter())
 	core := denseCore{chol: c, status: st, jitter: jit}
 	if err != nil {
 		return core, err
@@ -87,27 +87,32 @@ func NewDense(k Kernel, t, variance []float64, s *DenseSettings) (*Dense, error)
 		d.variance = make([]float64, n)
 	}
 	nug := nuggetOf(k)
+	k0 := k.Cov(0)
 	fill := func(c *cholesky) {
-		for i := 0; i < n; i++ {
-			row := c.a[i*c.ld : i*c.ld+i+1]
-			ti := d.t[i]
-			for j := 0; j < i; j++ {
-				row[j] = k.Cov(ti - d.t[j])
+		fillRows(n, func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				row := c.a[i*c.ld : i*c.ld+i+1]
+				ti := d.t[i]
+				for j := 0; j < i; j++ {
+					row[j] = k.Cov(ti - d.t[j])
+				}
+				row[i] = k0 + nug + d.variance[i]
 			}
-			row[i] = k.Cov(0) + nug + d.variance[i]
-		}
+		})
 	}
 	var err error
 	d.denseCore, err = newDenseCore(n, fill, s)
 	return d, err
 }
 
-// factorWithJitter factorises c, retrying with jitter added to a fresh
-// copy of the diagonal when it fails.
-func factorWithJitter(c *cholesky, maxRel float64) (Status, float64, error) {
+// factorWithJitter factorises c, refilling it with fill and adding jitter
+// to the diagonal in decades when the factorisation fails.
+func factorWithJitter(c *cholesky, fill func(c *cholesky), maxRel float64) (Status, float64, error) {
 	n := c.n
-	orig := make([]float64, n*c.ld)
-	copy(orig, c.a)
+	diag := make([]float64, n)
+	for i := range diag {
+		diag[i] = c.a[i*c.ld+i]
+	}
 	if c.factor() {
 		return Factorized, 0, nil
 	}
@@ -115,8 +120,8 @@ func factorWithJitter(c *cholesky, maxRel float64) (Status, float64, error) {
 		return NotPositiveDefinite, 0, fmt.Errorf("%w: no jitter allowed", ErrNotPositiveDefinite)
 	}
 	var mean float64
-	for i := 0; i < n; i++ {
-		mean += orig[i*c.ld+i]
+	for _, v := range diag {
+		mean += v
 	}
 	mean /= float64(n)
 	if !(mean > 0) {
@@ -124,7 +129,7 @@ func factorWithJitter(c *cholesky, maxRel float64) (Status, float64, error) {
 	}
 	for rel := 1e-12; rel <= maxRel*(1+1e-9); rel *= 10 {
 		jit := rel * mean
-		copy(c.a, orig)
+		fill(c)
 		for i := 0; i < n; i++ {
 			c.a[i*c.ld+i] += jit
 		}
@@ -276,6 +281,16 @@ func (d *denseCore) Draw(dst []float64, rnd *rand.Rand) ([]float64, error) {
 	dst = resize(dst, d.Len())
 	d.chol.mulLower(dst, z)
 	return dst, nil
+}
+
+// fillRows runs f over row ranges of an n-row lower triangle, on several
+// goroutines for large n.
+func fillRows(n int, f func(i0, i1 int)) {
+	if n < cholParallelMin {
+		f(0, n)
+		return
+	}
+	parallelRows(0, n, 32, f)
 }
 
 func resize(dst []float64, n int) []float64 {

@@ -167,11 +167,20 @@ func NewMultiDense(m Multi, series []Series, s *DenseSettings) (*MultiDense, err
 		md.offset[i+1] = md.offset[i] + len(sr.T)
 	}
 	n := md.offset[len(series)]
+	// Row i belongs to series seriesOf[i].
+	seriesOf := make([]int, n)
+	for a := range md.series {
+		for i := md.offset[a]; i < md.offset[a+1]; i++ {
+			seriesOf[i] = a
+		}
+	}
 	fill := func(c *cholesky) {
-		for a, sa := range md.series {
-			oa := m.Outputs[sa.Output]
-			for ii, ti := range sa.T {
-				i := md.offset[a] + ii
+		fillRows(n, func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				a := seriesOf[i]
+				sa := md.series[a]
+				oa := m.Outputs[sa.Output]
+				ti := sa.T[i-md.offset[a]]
 				row := c.a[i*c.ld:]
 				for b := 0; b <= a; b++ {
 					sb := md.series[b]
@@ -184,9 +193,9 @@ func NewMultiDense(m Multi, series []Series, s *DenseSettings) (*MultiDense, err
 						row[j] = Cross(m.Latent, oa, ob, ti, tj)
 					}
 				}
-				row[i] += sa.Variance[ii]
+				row[i] += sa.Variance[i-md.offset[a]]
 			}
-		}
+		})
 	}
 	var err error
 	md.denseCore, err = newDenseCore(n, fill, s)
