@@ -262,6 +262,19 @@ func (m *Model) startVector(s *Series, cands [][]seedPeak, st int, rng *rand.Ran
 			h, k = math.Sqrt(e)*math.Cos(w), math.Sqrt(e)*math.Sin(w)
 			P *= 1 + 1e-3*rng.NormFloat64()/(1+float64(len(m.t)))
 		}
+		// Keep the start's eccentricity inside the prior's support.
+		if elo, ehi := m.ecc.Support(); elo > 0 || ehi < m.emax {
+			e := h*h + k*k
+			lo, hi := math.Max(elo, 0), math.Min(ehi, m.emax)
+			if e <= lo || e >= hi {
+				e2 := lo + (hi-lo)*(0.1+0.8*rng.Float64())
+				r := math.Sqrt(e2 / math.Max(e, 1e-12))
+				if e == 0 {
+					h, k, r = 1, 0, math.Sqrt(e2)
+				}
+				h, k = h*r, k*r
+			}
+		}
 		q := x[5*p : 5*p+5]
 		q[0], q[1], q[2], q[3], q[4] = P, K, h, k, m.wrapTc(tc, P)
 	}

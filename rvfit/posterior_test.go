@@ -82,7 +82,7 @@ func TestInjectionRecoveryCoverage(t *testing.T) {
 				// near-degenerate; like most surveys, search and prior
 				// start at 2 d.
 				fit, err := FitModel(s, 1, nil, &FitOptions{Seed: uint64(i), Starts: 4, Workers: 1,
-					Grid: &GridOptions{PMin: 2}, Model: &ModelOptions{PMin: 2}})
+					Grid: &GridOptions{PMin: 2}, Model: &ModelOptions{PMin: 2, Eccentricity: Uniform{0.1, 0.5}}})
 				if err != nil {
 					continue
 				}

@@ -1,0 +1,76 @@
+// Package rvgp plugs the Gaussian-process noise models of package gp into
+// rvfit's Keplerian models: Noise adapts a gp.Noise (a kernel plus white
+// jitter per instrument) to rvfit.NoiseModel. It lives apart from rvfit so
+// that rvfit's core builds and tests without gp.
+package rvgp
+
+import (
+	"fmt"
+
+	"spotsift/gp"
+	"spotsift/rvfit"
+)
+
+// Noise is a Gaussian-process noise model for rvfit.Model. For residuals r
+// it evaluates gp.Noise's
+//
+//	ln L = −½ rᵀK⁻¹r − ½ ln det K − (N/2) ln 2π,
+//	K_ij = k(t_i − t_j) + δ_ij (σ_i² + s_inst(i)²)
+//
+// with the parameter vector laid out as gp.Noise does: the kernel's
+// hyperparameters, then one jitter per instrument (m/s).
+type Noise struct {
+	base   *gp.Noise
+	names  []string
+	instrs []string
+}
+
+var _ rvfit.NoiseModel = (*Noise)(nil)
+
+// New returns the GP noise model with kernel k, whose hyperparameters are
+// named kernelNames (one per parameter, e.g. "gp_B", "gp_C", "gp_L",
+// "gp_P" for gp.RotationTerm; nil means "gp_0", "gp_1", …), and one jitter
+// per instrument, named "jitter_<instrument>", in the order of
+// Model.Instruments (the order of first appearance in the series; use
+// DefaultInstrument for a series without labels). solver selects gp's
+// solver (zero value: automatic).
+func New(k gp.Kernel, kernelNames, instruments []string, solver gp.SolverKind) (*Noise, error) {
+	if k == nil {
+		return nil, fmt.Errorf("%w: no kernel", rvfit.ErrBadOption)
+	}
+	nk := k.NumParams()
+	if kernelNames == nil {
+		for i := 0; i < nk; i++ {
+			kernelNames = append(kernelNames, fmt.Sprintf("gp_%d", i))
+		}
+	}
+	if len(kernelNames) != nk {
+		return nil, fmt.Errorf("%w: %d names for %d kernel parameters", rvfit.ErrBadOption, len(kernelNames), nk)
+	}
+	n := &Noise{
+		base:   &gp.Noise{Kernel: k, Jitter: make([]float64, len(instruments)), Solver: solver},
+		names:  append([]string(nil), kernelNames...),
+		instrs: append([]string(nil), instruments...),
+	}
+	for _, in := range instruments {
+		n.names = append(n.names, "jitter_"+in)
+	}
+	return n, nil
+}
+
+// NumParams returns the number of kernel parameters plus jitters.
+func (n *Noise) NumParams() int { return len(n.names) }
+
+// ParamNames returns the kernel parameter names, then "jitter_<instrument>".
+func (n *Noise) ParamNames() []string { return append([]string(nil), n.names...) }
+
+// LogLikelihood implements rvfit.NoiseModel. Parameters gp rejects (a
+// negative amplitude, a matrix that is not positive definite) come back
+// as errors, which rvfit.Model turns into zero posterior probability.
+func (n *Noise) LogLikelihood(t, resid, variance []float64, inst []int, params []float64) (float64, error) {
+	m, err := n.base.WithParams(params)
+	if err != nil {
+		return 0, err
+	}
+	return m.LogLikelihood(t, resid, variance, inst)
+}
