@@ -75,14 +75,9 @@ type ReadOptions struct {
 // ReadFile reads the spectrum in the file at path: a FITS file when it
 // starts with "SIMPLE  =", else a text file (see ReadText).
 func ReadFile(path string, opts *ReadOptions) (*Spectrum, error) {
-	f, err := os.Open(path)
+	data, err := os.ReadFile(path)
 	if err != nil {
 		return nil, err
-	}
-	defer f.Close()
-	data, err := io.ReadAll(f)
-	if err != nil {
-		return nil, fileErr(path, -1, "", err)
 	}
 	if bytes.HasPrefix(data, []byte("SIMPLE  =")) {
 		return readFITSBytes(data, path, opts)
@@ -767,8 +762,15 @@ func wcsWavelengths(fh, prim header, n int) ([]float64, error) {
 		if crval <= 0 {
 			return nil, fileErr(fh.file, fh.hdu, "CRVAL1", fmt.Errorf("%w: logarithmic axis needs CRVAL1 > 0", ErrBadKeyword))
 		}
+		// exp once per block of 256 pixels, then the constant ratio: the
+		// rounding error stays below 256 ulp (1e-13, 0.03 mm/s).
+		r := math.Exp(delt / crval)
 		for i := range wl {
-			wl[i] = crval * math.Exp(delt*(float64(i+1)-crpix)/crval)
+			if i%256 == 0 {
+				wl[i] = crval * math.Exp(delt*(float64(i+1)-crpix)/crval)
+			} else {
+				wl[i] = wl[i-1] * r
+			}
 		}
 	case dcflag == 1:
 		for i := range wl {

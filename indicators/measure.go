@@ -141,6 +141,9 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	if opts.NoIndices {
 		e := failed(ErrNotRequested)
 		r.SIndex, r.LogRHK, r.HAlpha, r.NaD = e, e, e, e
+		if ccf != nil {
+			ccf.plan = nil
+		}
 		return r, err
 	}
 	orders := prepareOrders(s)
@@ -164,6 +167,11 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	}
 	r.HAlpha = est(hAlpha(s, orders, restV, opts.HAlphaWidth))
 	r.NaD = est(naD(s, orders, restV))
+	if ccf != nil {
+		// The plan holds pixel-sized arrays; do not keep them alive with
+		// the result.
+		ccf.plan = nil
+	}
 	return r, err
 }
 
