@@ -1,10 +1,12 @@
 package starsim_test
 
 import (
+	"bytes"
 	"fmt"
 	"math"
 	"testing"
 
+	"spotsift/activity"
 	"spotsift/activity/starsim"
 	"spotsift/indicators"
 )
@@ -82,5 +84,31 @@ func TestMeasuredByIndicators(t *testing.T) {
 		if r := m.RV.Sigma / e.RVErr; r < 0.8 || r > 1.25 {
 			t.Errorf("epoch %d: indicators σ_RV %.3f m/s, simulator %.3f m/s", i, m.RV.Sigma, e.RVErr)
 		}
+	}
+}
+
+// TestStarFileReadsBack checks that the star file a simulation writes is
+// read by the activity package, with the simulated v sin i and period.
+func TestStarFileReadsBack(t *testing.T) {
+	sc, err := starsim.DemoScenario("active-no-planet")
+	if err != nil {
+		t.Fatal(err)
+	}
+	sc.Observing.End = sc.Observing.Start + 20
+	res, err := starsim.Simulate(sc, 1, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := res.WriteStar(&buf); err != nil {
+		t.Fatal(err)
+	}
+	st, err := activity.ParseStar(buf.Bytes(), "star.toml")
+	if err != nil {
+		t.Fatalf("%v\n%s", err, buf.String())
+	}
+	want := sc.Star.VEq * math.Sin(sc.Star.Inclination*math.Pi/180)
+	if st.Name != sc.Name || math.Abs(st.VSinI-want) > 1e-12 || st.RotationPeriod != sc.Star.RotationPeriod || st.Vacuum || st.BV != res.Scenario.Star.BV {
+		t.Errorf("star file read back as %+v", st)
 	}
 }

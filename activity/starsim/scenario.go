@@ -67,6 +67,10 @@ type Star struct {
 	// continuum shape (Planck law) and, with Activity.SpotTempDiff, the spot
 	// contrast.
 	Teff float64 `toml:"teff"`
+	// BV is the B−V colour index in mag, written to the star file for the
+	// diagnosis (log R'HK); 0 means the value that goes with Teff by the
+	// relation of Ballesteros (2012), see BVFromTeff.
+	BV float64 `toml:"b_v"`
 	// VEq is the equatorial rotation velocity in km/s (required, > 0).
 	VEq float64 `toml:"v_eq"`
 	// Inclination is the angle between the rotation axis and the line of
@@ -269,6 +273,7 @@ func (sc *Scenario) Defaults() *Scenario {
 	}
 	def(&c.Star.Teff, 5750)
 	def(&c.Star.Inclination, 90)
+	def(&c.Star.BV, BVFromTeff(c.Star.Teff))
 	def(&c.Star.LimbU1, 0.45)
 	if c.Star.LinearLimb {
 		c.Star.LimbU2 = 0
@@ -354,6 +359,7 @@ func (sc *Scenario) Check(file string) error {
 	}
 	rows := []rng{
 		{"star.teff", c.Star.Teff, 2000, 50000, false, "must lie in [2000, 50000] K"},
+		{"star.b_v", c.Star.BV, -0.4, 2.5, false, "must lie in [-0.4, 2.5] mag"},
 		{"star.v_eq", c.Star.VEq, 0, 500, true, "must be > 0 and at most 500 km/s"},
 		{"star.inclination", c.Star.Inclination, 0, 180, false, "must lie in [0, 180] degrees"},
 		{"star.rotation_period", c.Star.RotationPeriod, 0, 1e4, true, "must be > 0 and at most 10000 days"},
@@ -512,4 +518,32 @@ func (sc *Scenario) EncodeTOML(w io.Writer, seed uint64) error {
 	c.Seed = seed
 	fmt.Fprintf(w, "# spotsift simulation scenario; with its seed it determines every output byte\n\n")
 	return toml.NewEncoder(w).Encode(c)
+}
+
+// BVFromTeff returns the B−V colour (mag) of a main-sequence star of
+// effective temperature teff (K) by inverting the black-body-based relation
+// of Ballesteros (2012, EPL 97, 34008; from memory)
+//
+//	T = 4600 K [1/(0.92(B−V) + 1.7) + 1/(0.92(B−V) + 0.62)]
+//
+// by bisection on [−0.4, 2.5]. It gives 0.65 for 5778 K. Temperatures
+// outside the relation's range return the nearest end of the interval.
+func BVFromTeff(teff float64) float64 {
+	T := func(bv float64) float64 { return 4600 * (1/(0.92*bv+1.7) + 1/(0.92*bv+0.62)) }
+	lo, hi := -0.4, 2.5
+	if teff >= T(lo) {
+		return lo
+	}
+	if teff <= T(hi) {
+		return hi
+	}
+	for i := 0; i < 60; i++ {
+		mid := (lo + hi) / 2
+		if T(mid) > teff {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return (lo + hi) / 2
 }

@@ -5,9 +5,11 @@ import (
 	"bytes"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"sync"
 
 	"spotsift/indicators"
@@ -19,6 +21,7 @@ const (
 	ScenarioFile = "scenario.toml" // the scenario, defaults applied, with its seed
 	TruthFile    = "truth.csv"     // the truth per epoch (WriteTruth)
 	TableFile    = "epochs.csv"    // the simulated measurements (Series, rvfit.WriteTable)
+	StarFile     = "star.toml"     // the star's parameters in the activity package's star-file format
 	SpectraDir   = "spectra"       // one FITS file per epoch, when Spectrum.Full
 )
 
@@ -45,8 +48,8 @@ type WriteOptions struct {
 func SpectrumFile(i int) string { return fmt.Sprintf("epoch-%04d.fits", i+1) }
 
 // WriteFiles writes the simulation into dir (created if needed): the
-// scenario (ScenarioFile), the truth (TruthFile), the measured table
-// (TableFile) and, when the scenario asks for full spectra, one FITS file
+// scenario (ScenarioFile), the truth (TruthFile), the star file
+// (StarFile), the measured table (TableFile) and, when the scenario asks for full spectra, one FITS file
 // per epoch in SpectraDir (indicators.FITSEncoder: 1-D, log-linear air
 // wavelength WCS, DATE-OBS and MJD-OBS, and the keywords OBJECT, INSTRUME,
 // ORIGIN, SIMSEED, SIMEPOCH, SNR5500, EXPTYPE). Each file is written to a temporary
@@ -70,6 +73,9 @@ func (r *Result) WriteFiles(dir string, opts *WriteOptions) error {
 		return err
 	}
 	if err := rvfit.WriteFileAtomic(filepath.Join(dir, TruthFile), r.WriteTruth); err != nil {
+		return err
+	}
+	if err := rvfit.WriteFileAtomic(filepath.Join(dir, StarFile), r.WriteStar); err != nil {
 		return err
 	}
 	creator := opts.Creator
@@ -202,4 +208,27 @@ func (r *Result) WriteTruth(w io.Writer) error {
 		bw.WriteByte('\n')
 	}
 	return bw.Flush()
+}
+
+// WriteStar writes the simulated star's parameters to w as a star file of
+// the activity package (TOML: name, b_v, teff, vsini in km/s, the equatorial
+// rotation_period in days, vacuum = false since the spectra are in air, and
+// the S-index calibration a = 1, b = 0, since the simulated S-index is
+// already on the Mount Wilson-like scale).
+func (r *Result) WriteStar(w io.Writer) error {
+	st := &r.Scenario.Star
+	vsini := st.VEq * math.Sin(st.Inclination*math.Pi/180)
+	_, err := fmt.Fprintf(w, "# star file of a spotsift simulation (seed %d)\nname = %q\nb_v = %s\nteff = %s\nvsini = %s\nrotation_period = %s\nvacuum = false\n\n[s_index]\na = 1.0\nb = 0.0\n",
+		r.Seed, r.Scenario.Name, fmtG(st.BV), fmtG(st.Teff), fmtG(vsini), fmtG(st.RotationPeriod))
+	return err
+}
+
+// fmtG formats x in the shortest form that reads back exactly, with a
+// decimal point so that TOML reads a float.
+func fmtG(x float64) string {
+	s := strconv.FormatFloat(x, 'g', -1, 64)
+	if !strings.ContainsAny(s, ".eE") {
+		s += ".0"
+	}
+	return s
 }

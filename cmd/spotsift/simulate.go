@@ -21,7 +21,8 @@ the truth.
 Files written in DIR: scenario.toml (the scenario with every default filled
 in and the seed: it reproduces the run by itself), truth.csv (per epoch: the
 activity RV, each planet's RV, spot and facular filling factors, noise-free
-indicators), epochs.csv (the simulated measurements: time, rv, rv_err,
+indicators), star.toml (the star's parameters as a --star file for the
+other commands), epochs.csv (the simulated measurements: time, rv, rv_err,
 instrument, fwhm, bis, s_index with errors) and, when the scenario asks for
 them (spectrum.full) or --spectra is given, spectra/epoch-NNNN.fits (1-D,
 log-linear air wavelengths, flux in photo-electrons).`)
@@ -80,7 +81,7 @@ log-linear air wavelengths, flux in photo-electrons).`)
 	if err != nil {
 		return fail(e, exitFailed, err)
 	}
-	files := []string{starsim.ScenarioFile, starsim.TruthFile, starsim.TableFile}
+	files := []string{starsim.ScenarioFile, starsim.TruthFile, starsim.StarFile, starsim.TableFile}
 	if res.Scenario.Spectrum.Full {
 		files = append(files, filepath.Join(starsim.SpectraDir, "epoch-*.fits"))
 	}
