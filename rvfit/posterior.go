@@ -113,12 +113,11 @@ func SampleModel(fit *FitResult, opts *SampleOptions) (*Posterior, error) {
 		ok := false
 		for try := 0; try < 1000 && !ok; try++ {
 			x := make([]float64, d)
+			// Parameters held on a prior bound at the MAP (zero Laplace
+			// error) use their natural scale; draws outside the support
+			// are rejected.
 			for i := range x {
 				x[i] = fit.Params[i] + o.InitScale*sc[i]*rng.NormFloat64()
-				// A MAP on a bound (zero jitter): start on its inner side.
-				if fit.Errors[i] == 0 && fit.HessianOK {
-					x[i] = fit.Params[i] + o.InitScale*sc[i]*math.Abs(rng.NormFloat64())
-				}
 			}
 			if lp := m.LogPosterior(x); !math.IsInf(lp, 0) && !math.IsNaN(lp) {
 				init[w], ok = x, true
