@@ -112,3 +112,37 @@ func TestStarFileReadsBack(t *testing.T) {
 		t.Errorf("star file read back as %+v", st)
 	}
 }
+
+// TestSIndexMatchesIndicators checks the simulator's S-index against the
+// indicators package measuring the same noise-free spectra: indicators
+// returns the instrumental (H + K)/(R + V), which times SIndexScale (19.2)
+// must equal the tabulated S to 0.1 % (it does to 2e-4), and both must follow the facular
+// coverage.
+func TestSIndexMatchesIndicators(t *testing.T) {
+	sc := &starsim.Scenario{
+		Name:        "chromo",
+		Star:        starsim.Star{VEq: 3, RotationPeriod: 10, ConvectiveBlueshift: 300},
+		Activity:    starsim.Activity{Regions: []starsim.Region{{Lat: 15, SpotArea: 0.01, FaculaArea: 0.06}}},
+		Observing:   starsim.Observing{Start: 2460000, End: 2460009, Step: 1.5},
+		Instruments: []starsim.Instrument{{Name: "A", SNR: 150, Resolution: 100000}},
+		Spectrum:    starsim.SpectrumPlan{Full: true, Pixels: 30000, LambdaMin: 3850, LambdaMax: 4100, Lines: 60},
+	}
+	res, err := starsim.Simulate(sc, 2, &starsim.Options{NoNoise: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, e := range res.Epochs {
+		sp, err := res.Spectrum(i)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s, _, err := indicators.SIndex(sp, 0, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		t.Logf("epoch %d: S %.5f vs %.5f, f_fac %.4f", i, s*starsim.SIndexScale, e.TrueSIndex, e.FaculaFilling)
+		if got := s * starsim.SIndexScale; math.Abs(got/e.TrueSIndex-1) > 0.001 {
+			t.Errorf("epoch %d: indicators S × 19.2 = %.5f, simulator %.5f (facular filling %.4f)", i, got, e.TrueSIndex, e.FaculaFilling)
+		}
+	}
+}

@@ -213,8 +213,11 @@ func (r *Result) WriteTruth(w io.Writer) error {
 // WriteStar writes the simulated star's parameters to w as a star file of
 // the activity package (TOML: name, b_v, teff, vsini in km/s, the equatorial
 // rotation_period in days, vacuum = false since the spectra are in air, and
-// the S-index calibration a = 1, b = 0, since the simulated S-index is
-// already on the Mount Wilson-like scale).
+// the S-index calibration a = 1, b = 0, since the tabulated s_index is
+// already on the Mount Wilson-like scale). Note that an S-index measured on
+// the simulated spectra in the spectrograph form (H + K)/(R + V), as
+// indicators.SIndex does, must be multiplied by SIndexScale to match the
+// table.
 func (r *Result) WriteStar(w io.Writer) error {
 	st := &r.Scenario.Star
 	vsini := st.VEq * math.Sin(st.Inclination*math.Pi/180)
