@@ -101,6 +101,8 @@ type instModel struct {
 	sigInst  float64 // instrumental Gaussian σ, km/s
 	quietV0  float64 // Gaussian-fit centre of the quiet profile, km/s
 	rvPhoton float64 // photon-noise RV precision, m/s
+	rFWHM    float64 // σ(FWHM)/σ(RV) of the profile measurements
+	rBIS     float64 // σ(BIS)/σ(RV)
 }
 
 // sim is the fixed part of a simulation.
@@ -180,6 +182,7 @@ func Simulate(sc *Scenario, seed uint64, opts *Options) (*Result, error) {
 			return nil, fmt.Errorf("starsim: quiet star: %w", err)
 		}
 		s.inst[i].quietV0 = fit.V0
+		s.inst[i].rFWHM, s.inst[i].rBIS = errorRatios(&ws.prof, fit)
 		s.inst[i].rvPhoton = s.photonRV(ws, &quiet, i)
 	}
 
@@ -437,11 +440,10 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 	ph := s.inst[v.inst].rvPhoton
 	ep.RVErr = math.Hypot(ph, in.Jitter)
 	ep.RV = sc.Star.Systemic + in.Offset + ep.ActivityRV + planets + ep.RVErr*gauss()
-	// Approximate errors of the line-shape indicators from the RV photon
-	// noise: σ(FWHM) ≈ 2√(2 ln 2)/√2 σ_RV for a Gaussian fit, σ(BIS) ≈ 2 σ_RV
-	// (common practice).
-	ep.FWHMErr = fwhmSig / math.Sqrt2 * ph
-	ep.BISErr = 2 * ph
+	// Errors of the line-shape indicators scale with the RV photon noise by
+	// the ratios found for this instrument's quiet profile (errorRatios).
+	ep.FWHMErr = s.inst[v.inst].rFWHM * ph
+	ep.BISErr = s.inst[v.inst].rBIS * ph
 	ep.FWHM = ep.TrueFWHM + ep.FWHMErr*gauss()
 	ep.BIS = ep.TrueBIS + ep.BISErr*gauss()
 	ep.SIndErr = sErr
@@ -464,6 +466,50 @@ func (r *Result) LineList() (wavelength, depth []float64) {
 		depth = append(depth, m.ldepth[i])
 	}
 	return wavelength, depth
+}
+
+// errorRatios returns σ(FWHM)/σ(RV) and σ(BIS)/σ(RV) for measurements on
+// profile p with white noise of equal variance in every velocity bin (the
+// photon-noise regime of a shallow CCF): σ(RV) and σ(FWHM) from the
+// covariance (JᵀJ)⁻¹ of the four-parameter Gaussian fit g, σ(BIS) by
+// propagating the noise through the bisector span with its numerical
+// gradient with respect to every bin.
+func errorRatios(p *Profile, g GaussFit) (rFWHM, rBIS float64) {
+	var JtJ [4][4]float64
+	for _, v := range p.Velocity {
+		u := (v - g.V0) / g.Sigma
+		e := math.Exp(-0.5 * u * u)
+		J := [4]float64{1, -e, -g.A * e * u / g.Sigma, -g.A * e * u * u / g.Sigma}
+		for a := 0; a < 4; a++ {
+			for b := 0; b < 4; b++ {
+				JtJ[a][b] += J[a] * J[b]
+			}
+		}
+	}
+	var col [4][4]float64
+	for k := 0; k < 4; k++ {
+		var e [4]float64
+		e[k] = 1
+		x, ok := solve4(JtJ, e)
+		if !ok {
+			return math.NaN(), math.NaN()
+		}
+		col[k] = x
+	}
+	sRV := math.Sqrt(col[2][2])
+	rFWHM = fwhmSig * math.Sqrt(col[3][3]) / sRV
+	q := &Profile{Velocity: p.Velocity, Flux: append([]float64(nil), p.Flux...)}
+	b0 := q.BIS()
+	const h = 1e-6
+	var vb float64
+	for j := range q.Flux {
+		f := q.Flux[j]
+		q.Flux[j] = f + h
+		d := (q.BIS() - b0) / h
+		q.Flux[j] = f
+		vb += d * d
+	}
+	return rFWHM, math.Sqrt(vb) / sRV
 }
 
 // Len returns the number of epochs.
