@@ -138,8 +138,9 @@ type LaggedCorrelation struct {
 //
 // (the measurement-error term of the original is left out: it assumes the
 // errors are known better than the scatter). The p-value comes from nPerm
-// permutations of y over its epochs, drawn from rng; bins with fewer than
-// minPairs pairs are ignored. It returns P = 1 when no bin has enough pairs.
+// permutations of y over its epochs, drawn from rng (so it cannot be below
+// 1/(nPerm+1)); bins with fewer than minPairs pairs are ignored. It returns
+// P = 1 when no bin has enough pairs.
 func DiscreteCorrelation(t, x, y []float64, maxLag, binWidth float64, minPairs, nPerm int, rng *rand.Rand) LaggedCorrelation {
 	var ts, xs, ys []float64
 	for i := range t {

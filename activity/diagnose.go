@@ -286,26 +286,36 @@ func refinePeak(pg *rvfit.Periodogram, k int) float64 {
 }
 
 // harmonicsOf lists the rotation period's harmonics and their aliases:
-// frequencies n/P (n = 1, 2, 3), and each shifted by ±1 sidereal day and
-// ±1 year (METHODS.md §6, common practice).
-func harmonicsOf(prot float64) []harmonic {
+// frequencies n/P (n = 1 … 4), and each shifted by ±1 sidereal day and
+// ±1 year (METHODS.md §6, common practice). When the period was estimated
+// from the data rather than known (estimated), twice the period is added:
+// a star with spots on opposite hemispheres shows its strongest indicator
+// signal at P_rot/2, so the estimate may itself be a harmonic.
+func harmonicsOf(prot float64, estimated bool) []harmonic {
 	const sidereal = 1.0027379 // c/d, METHODS.md §0 [memory]
 	const year = 1 / 365.25    // c/d
 	var out []harmonic
-	for n := 1; n <= 3; n++ {
-		name := "P_rot"
-		if n > 1 {
-			name = fmt.Sprintf("P_rot/%d", n)
+	ns := []float64{1, 2, 3, 4}
+	if estimated {
+		ns = append(ns, 0.5)
+	}
+	for _, n := range ns {
+		name := "the rotation period"
+		switch {
+		case n == 0.5:
+			name = "2 P_rot (the estimate may be a harmonic)"
+		case n > 1:
+			name = fmt.Sprintf("P_rot/%d", int(n))
 		}
-		f := float64(n) / prot
-		out = append(out, harmonic{name, f, n})
+		f := n / prot
+		out = append(out, harmonic{name, f, n, false})
 		for _, a := range []struct {
 			label string
 			df    float64
 		}{{"1-day alias", sidereal}, {"1-year alias", year}} {
 			for _, sgn := range []float64{-1, 1} {
 				if g := math.Abs(f + sgn*a.df); g > 0 {
-					out = append(out, harmonic{fmt.Sprintf("%s of %s", a.label, name), g, n})
+					out = append(out, harmonic{fmt.Sprintf("%s of %s", a.label, name), g, n, true})
 				}
 			}
 		}
@@ -316,8 +326,12 @@ func harmonicsOf(prot float64) []harmonic {
 type harmonic struct {
 	label string
 	freq  float64
-	n     int
+	n     float64
+	alias bool
 }
+
+// strong reports whether h is P_rot or P_rot/2 itself (not an alias).
+func (h harmonic) strong() bool { return !h.alias && (h.n == 1 || h.n == 2) }
 
 // trial holds one signal under test.
 type trial struct {
@@ -329,6 +343,8 @@ type trial struct {
 	ampErr float64
 	rot    Rotation
 	rng    *rand.Rand
+	// strongRotation reports whether the period sits at P_rot or P_rot/2.
+	strongRotation bool
 	ev     []Evidence
 	skip   []Skipped
 }
@@ -382,22 +398,29 @@ func (tr *trial) rotationMatch() {
 	}
 	res := 1 / tr.d.T
 	best, bestD := harmonic{}, math.Inf(1)
-	for _, h := range harmonicsOf(prot) {
+	for _, h := range harmonicsOf(prot, tr.rot.Source != "star file") {
 		// Uncertainty of the harmonic's frequency n/P from that of P.
-		df := float64(h.n) * perr / (prot * prot)
+		df := h.n * perr / (prot * prot)
 		tol := math.Hypot(res, df)
 		if dist := math.Abs(tr.f-h.freq) / tol; dist < bestD {
 			best, bestD = h, dist
 		}
 	}
 	e := Evidence{Name: "rotation_match", Value: Num(bestD), Threshold: 1}
-	if bestD <= 1 {
+	switch {
+	case bestD <= 1 && best.strong():
 		e.Points, e.Weight = TowardActivity, Weights.RotationMatch
-		e.Reason = fmt.Sprintf("the period %.4g d sits at the %s (%.4g d; P_rot = %.4g ± %.2g d), %.2f tolerance widths away", 1/tr.f, best.label, 1/best.freq, prot, perr, bestD)
-	} else {
+		e.Reason = fmt.Sprintf("the period %.4g d sits at %s (%.4g d; P_rot = %.4g ± %.2g d), %.2f tolerance widths away", 1/tr.f, best.label, 1/best.freq, prot, perr, bestD)
+	case bestD <= 1:
+		// A higher harmonic or an alias is a weaker match: such frequencies
+		// cover much of the frequency axis between them.
+		e.Points, e.Weight = TowardActivity, Weights.RotationMatchWeak
+		e.Reason = fmt.Sprintf("the period %.4g d sits at the %s (%.4g d; P_rot = %.4g ± %.2g d), %.2f tolerance widths away: a weaker match than P_rot or P_rot/2", 1/tr.f, best.label, 1/best.freq, prot, perr, bestD)
+	default:
 		e.Points, e.Weight = TowardPlanet, -Weights.RotationMismatch
 		e.Reason = fmt.Sprintf("the period %.4g d is %.1f tolerance widths from the nearest rotation harmonic or alias (%s, %.4g d)", 1/tr.f, bestD, best.label, 1/best.freq)
 	}
+	tr.strongRotation = bestD <= 1 && best.strong()
 	tr.add(e)
 }
 
@@ -515,9 +538,18 @@ func (tr *trial) indicatorTests() {
 	group("indicator_correlation", hc, Weights.IndicatorCorrelation, func(k int, r res, p float64, sig bool) Evidence {
 		return Evidence{Reason: fmt.Sprintf("%s against the fitted signal: r = %.2f (Holm-corrected p = %.2g, %d epochs; against the signal's own RVs r = %.2f)", r.name, r.corr.R, p, r.corr.N, r.raw.R)}
 	})
-	group("lagged_correlation", hl, Weights.LaggedCorrelation, func(k int, r res, p float64, sig bool) Evidence {
-		return Evidence{Reason: fmt.Sprintf("strongest discrete correlation of %s with the signal's RVs: %.2f at a lag of %.3g d (Holm-corrected permutation p = %.2g)", r.name, r.lag.DCF, r.lag.Lag, p)}
-	})
+	// The lagged correlation uses the signal's own RVs, which keep whatever
+	// activity the other sinusoids did not remove, so it is not specific to
+	// the signal: it is shown, with no weight.
+	for k, r := range rs {
+		if !r.ok {
+			continue
+		}
+		_ = k
+		tr.add(Evidence{Name: "lagged_correlation:" + r.name, Value: Num(r.lag.P), Threshold: alpha, Points: TowardNeither,
+			Reason: fmt.Sprintf("for information: strongest discrete correlation of %s with the signal's RVs is %.2f at a lag of %.3g d (permutation p = %.2g before correction)", r.name, r.lag.DCF, r.lag.Lag, r.lag.P)})
+	}
+	_ = hl
 }
 
 // indicatorErrors returns an indicator's errors, or, without an error

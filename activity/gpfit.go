@@ -3,7 +3,6 @@ package activity
 import (
 	"math"
 
-	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/optimize"
 
@@ -199,16 +198,19 @@ func (m *gpModel) fit(starts [][]float64) gpResult {
 	best.ok = ok
 	best.period = math.Exp(best.theta[1])
 	best.periodE = math.NaN()
-	// Curvature of −ln posterior at the MAP: the Laplace approximation of
-	// the period's posterior (common practice).
-	h := mat.NewSymDense(len(best.theta), nil)
-	fd.Hessian(h, obj, best.theta, &fd.Settings{Step: 1e-3})
-	var ch mat.Cholesky
-	if ch.Factorize(h) {
-		var inv mat.SymDense
-		if ch.InverseTo(&inv) == nil && inv.At(1, 1) > 0 {
-			best.periodE = best.period * math.Sqrt(inv.At(1, 1))
-		}
+	// Curvature of −ln posterior in ln P at the MAP, the other parameters
+	// held at their MAP values: the Laplace approximation of the period's
+	// conditional posterior (common practice; the full Hessian is often
+	// unusable with parameters at their bounds).
+	const h = 1e-3
+	f0 := obj(best.theta)
+	th := append([]float64(nil), best.theta...)
+	th[1] = best.theta[1] + h
+	fp := obj(th)
+	th[1] = best.theta[1] - h
+	fm := obj(th)
+	if c := (fp - 2*f0 + fm) / (h * h); c > 0 && fp < 1e299 && fm < 1e299 {
+		best.periodE = best.period / math.Sqrt(c)
 	}
 	return best
 }

@@ -82,16 +82,18 @@ func (d *data) estimateRotation(rng *rand.Rand) Rotation {
 				Note: fmt.Sprintf("false-alarm probability %.2g", p.fap)})
 		}
 	}
+	var rel []RotationEstimate
+	if star != nil && star.BV > 0 {
+		if lr, ok := d.meanLogRHK(star); ok {
+			rel = RelationEstimates(lr, star.BV)
+		}
+	}
 	if !d.opts.SkipModels && len(peaks) > 0 && peaks[0].fap < peakFAP {
-		if e, ok := d.gpRotation(peaks[0]); ok {
+		if e, ok := d.gpRotation(peaks[0], rel); ok {
 			est = append(est, e)
 		}
 	}
-	if star != nil && star.BV > 0 {
-		if lr, ok := d.meanLogRHK(star); ok {
-			est = append(est, RelationEstimates(lr, star.BV)...)
-		}
-	}
+	est = append(est, rel...)
 	rot := Rotation{Period: Num(math.NaN()), Err: Num(math.NaN()), Estimates: est}
 	pick := func(prefix string) bool {
 		for _, e := range est {
@@ -112,8 +114,12 @@ func (d *data) estimateRotation(rng *rand.Rand) Rotation {
 	return rot
 }
 
-// gpRotation fits the rotation kernel to one indicator.
-func (d *data) gpRotation(p indicatorPeak) (RotationEstimate, bool) {
+// gpRotation fits the rotation kernel to one indicator. When the
+// activity–rotation relations give estimates, their mean sets a log-normal
+// prior on the GP's period, no narrower than 0.25 in ln P: it settles the
+// choice between a period and its double, which the periodogram of an
+// indicator with two spotted hemispheres cannot make (common practice).
+func (d *data) gpRotation(p indicatorPeak, rel []RotationEstimate) (RotationEstimate, bool) {
 	ind := d.s.Indicator(p.name)
 	sigma := indicatorErrors(ind)
 	var t, y, e []float64
@@ -124,6 +130,14 @@ func (d *data) gpRotation(p indicatorPeak) (RotationEstimate, bool) {
 	}
 	g, ng := groupIndex(in)
 	m := &gpModel{t: t, y: y, sigma: e, inst: g, ninst: ng, t0: d.t0, pLo: 1.5, pHi: math.Max(3, d.T/2), scale: math.Max(stddev(y), 1e-12)}
+	if len(rel) > 0 {
+		lm, le := 0.0, 0.0
+		for _, r := range rel {
+			lm += math.Log(r.Period)
+			le = math.Max(le, r.Err/r.Period)
+		}
+		m.lnPMu, m.lnPSigma = lm/float64(len(rel)), math.Max(le, 0.25)
+	}
 	var starts [][]float64
 	for _, f := range []float64{1, 2} {
 		if q := f * p.period; q > m.pLo && q < m.pHi {
@@ -137,10 +151,15 @@ func (d *data) gpRotation(p indicatorPeak) (RotationEstimate, bool) {
 	if !r.ok {
 		return RotationEstimate{}, false
 	}
-	out := RotationEstimate{Method: "gp fit to " + p.name, Period: r.period, Err: r.periodE}
+	// A floor of 2% on the error: differential rotation and spot evolution
+	// blur any single rotation period at that level (common practice).
+	out := RotationEstimate{Method: "gp fit to " + p.name, Period: r.period, Err: math.Max(r.periodE, 0.02*r.period)}
+	if m.lnPSigma > 0 {
+		out.Note = "period prior from the activity-rotation relations"
+	}
 	if math.IsNaN(r.periodE) {
 		out.Err = 0.1 * r.period
-		out.Note = "the posterior's curvature was not usable; a 10% error is assumed"
+		out.Note = strings.TrimPrefix(out.Note+"; the posterior's curvature was not usable, a 10% error is assumed", "; ")
 	}
 	return out, true
 }
@@ -218,6 +237,16 @@ func (tr *trial) modelComparison() {
 		tr.skipped("model_comparison", "no rotation period to anchor the activity model")
 		return
 	}
+	atRotation := tr.strongRotation
+	// Indicators varying at the period mean the star itself varies there: a
+	// Keplerian that survives the GP then models activity the GP's two
+	// modes (P_rot, P_rot/2) do not reach, not an orbit.
+	indicatorsVary := false
+	for _, e := range tr.ev {
+		if family(e.Name) == "indicator_power" && e.Points == TowardActivity {
+			indicatorsVary = true
+		}
+	}
 	// The GP's period: a Gaussian prior in ln P about the adopted rotation
 	// period, no narrower than 10% (spot evolution and differential
 	// rotation blur it; common practice).
@@ -257,6 +286,14 @@ func (tr *trial) modelComparison() {
 	// memory); an amplitude under 3σ is not a detection (common practice).
 	e := Evidence{Name: "model_comparison", Value: Num(dBIC), Threshold: -10}
 	switch {
+	case dBIC <= -10 && snr >= 3 && indicatorsVary:
+		e.Points = TowardNeither
+		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, K = %.2f ± %.2f m/s), but the indicators vary at the same period, so the sinusoid may model activity the GP misses", dBIC, K, kErr)
+	case dBIC <= -10 && snr >= 3 && atRotation:
+		// At a rotation harmonic a sinusoid also models the coherent part of
+		// the activity: the two models are degenerate there.
+		e.Points = TowardNeither
+		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, K = %.2f ± %.2f m/s), but at a rotation harmonic a sinusoid also fits the coherent part of the activity, so this does not tell them apart", dBIC, K, kErr)
 	case dBIC <= -10 && snr >= 3:
 		e.Points, e.Weight = TowardPlanet, -Weights.ModelComparison.Planet
 		e.Reason = fmt.Sprintf("with activity modelled by a GP at P_rot = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", float64(tr.rot.Period), dBIC, dlnL, K, kErr, snr)

@@ -27,21 +27,21 @@ func (w Weight) max() float64 { return math.Max(w.Activity, w.Planet) }
 // TestCalibration and the README's confusion matrix) over the simulator's
 // scenarios, not by tuning to a single test.
 var Weights = struct {
-	RotationMatch        float64 // period at P_rot, a harmonic or an alias
+	RotationMatch        float64 // period at P_rot or P_rot/2
+	RotationMatchWeak    float64 // period at P_rot/3, 2 P_rot or an alias of a harmonic
 	RotationMismatch     float64 // period unrelated to a known rotation
 	IndicatorPower       Weight  // indicator periodograms at the signal's frequency
 	IndicatorCorrelation Weight  // indicator against the fitted signal
-	LaggedCorrelation    Weight  // discrete correlation at a lag
 	SeasonCoherence      Weight  // amplitude and phase season by season
 	StackedGrowth        Weight  // growth of power with epochs
 	ModelComparison      Weight  // GP alone against GP + Keplerian
 	Chromaticity         Weight  // chromatic slope at the signal's frequency
 }{
 	RotationMatch:        3,
+	RotationMatchWeak:    1.5,
 	RotationMismatch:     1,
-	IndicatorPower:       Weight{Activity: 2, Planet: 1},
-	IndicatorCorrelation: Weight{Activity: 1, Planet: 0.5},
-	LaggedCorrelation:    Weight{Activity: 1, Planet: 0.5},
+	IndicatorPower:       Weight{Activity: 4, Planet: 1},
+	IndicatorCorrelation: Weight{Activity: 1.5, Planet: 0.5},
 	SeasonCoherence:      Weight{Activity: 1.5, Planet: 1},
 	StackedGrowth:        Weight{Activity: 1, Planet: 0.5},
 	ModelComparison:      Weight{Activity: 2, Planet: 2.5},
@@ -53,7 +53,7 @@ var Weights = struct {
 func totalWeight() float64 {
 	w := Weights
 	return math.Max(w.RotationMatch, w.RotationMismatch) + w.IndicatorPower.max() + w.IndicatorCorrelation.max() +
-		w.LaggedCorrelation.max() + w.SeasonCoherence.max() + w.StackedGrowth.max() + w.ModelComparison.max() +
+		w.SeasonCoherence.max() + w.StackedGrowth.max() + w.ModelComparison.max() +
 		w.Chromaticity.max()
 }
 
@@ -130,8 +130,6 @@ func familyWeight(fam string) float64 {
 		return w.IndicatorPower.max()
 	case "indicator_correlation":
 		return w.IndicatorCorrelation.max()
-	case "lagged_correlation":
-		return w.LaggedCorrelation.max()
 	case "season_coherence":
 		return w.SeasonCoherence.max()
 	case "stacked_growth":

@@ -75,7 +75,7 @@ func TestBadInput(t *testing.T) {
 		{"duplicate epoch", []string{"scan", "--data", table("dup.csv", "time,rv,rv_err\n1,2,1\n1,3,1\n")}, `dup.csv:3: column "time": rvfit: duplicate epoch: time 1 for instrument "default" already on line 2`},
 		{"constant rv", []string{"scan", "--data", table("const.csv", "time,rv,rv_err\n1,2,1\n2,2,1\n3,2,1\n4,2,1\n")}, `column "rv": rvfit: column is constant`},
 		{"field count", []string{"scan", "--data", table("fc.csv", "time,rv,rv_err\n1,2,1\n2,3\n")}, "fc.csv:3: rvfit: wrong number of fields"},
-		{"too few epochs", []string{"vet", "--data", table("few.csv", "time,rv,rv_err\n1,2,1\n2,3,1\n3,1,1\n")}, "rvfit: too few epochs: vet needs at least 8, have 3"},
+		{"too few epochs", []string{"vet", "--data", table("few.csv", "time,rv,rv_err\n1,2,1\n2,3,1\n3,1,1\n")}, "rvfit: too few epochs: vet needs at least 12, have 3"},
 		{"too few for planets", []string{"model", "--data", goodPath, "--planets", "2"}, "model needs at least 13"},
 		{"negative planets", []string{"model", "--data", goodPath, "--planets", "-1"}, "--planets must be 0 or more"},
 		{"bad column map", []string{"scan", "--data", goodPath, "--columns", "rv"}, `--columns: rvfit: bad column mapping: "rv" is not of the form ours=theirs`},

@@ -1,5 +1,21 @@
 package main
 
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"spotsift/activity"
+	"spotsift/rvfit"
+)
+
 // runVet is "spotsift vet": the full diagnosis of each signal.
 func runVet(args []string, e *env) int {
 	var c common
@@ -14,16 +30,149 @@ replace, the team's scientific judgement.`)
 	c.addData(fs)
 	c.addStar(fs)
 	c.addRun(fs)
-	fs.String("period", "", "comma-separated candidate `periods` in days (default: significant peaks)")
-	fs.String("out", "", "write the verdict JSON and the report into this `directory`")
+	periods := fs.String("period", "", "comma-separated candidate `periods` in days (default: significant periodogram peaks)")
+	out := fs.String("out", "", "write the verdict JSON (and the report) into this `directory`")
+	fap := fs.Float64("fap", 0, "false-alarm `probability` below which a peak is a signal (default 0.001)")
+	maxSig := fs.Int("max-signals", 0, "most signals to find by prewhitening (default 4)")
+	pmin := fs.Float64("pmin", 0, "shortest period searched, `days` (default 1.05)")
+	pmax := fs.Float64("pmax", 0, "longest period searched, `days` (default: the baseline)")
+	noGP := fs.Bool("no-gp", false, "leave out the Gaussian-process fits (faster, fewer tests)")
 	if code, ok := parseFlags(fs, args); !ok {
 		return code
 	}
-	if _, err := c.loadStar(); err != nil {
+	if err := c.workersOK(); err != nil {
 		return fail(e, exitUsage, err)
 	}
-	if _, err := c.loadData(e, "vet", 8); err != nil {
+	ps, err := parsePeriods(*periods)
+	if err != nil {
 		return fail(e, exitUsage, err)
 	}
-	return notBuilt(e, "vet", "the diagnosis")
+	star, err := c.loadStar()
+	if err != nil {
+		return fail(e, exitUsage, err)
+	}
+	s, err := c.loadData(e, "vet", activity.MinEpochs)
+	if err != nil {
+		return fail(e, exitUsage, err)
+	}
+	opts := &activity.Options{Periods: ps, FAPThreshold: *fap, MaxSignals: *maxSig, PMin: *pmin, PMax: *pmax,
+		Star: star, Seed: c.seed, SkipModels: *noGP}
+	dg, err := activity.Diagnose(s, opts)
+	if err != nil {
+		if errors.Is(err, activity.ErrPeriodOutOfReach) || errors.Is(err, rvfit.ErrTooFewEpochs) || errors.Is(err, rvfit.ErrGridOutOfReach) {
+			return fail(e, exitUsage, err)
+		}
+		return fail(e, exitFailed, err)
+	}
+	if dg.Star == "" {
+		dg.Star = strings.TrimSuffix(filepath.Base(c.data), filepath.Ext(c.data))
+	}
+	dg.Provenance = provenance(c, append([]string{c.data}, nonEmpty(c.star)...), append([]string{"vet"}, args...))
+	if *out != "" {
+		if err := writeVerdict(*out, dg); err != nil {
+			return fail(e, exitFailed, err)
+		}
+	}
+	if c.json {
+		enc := json.NewEncoder(e.stdout)
+		enc.SetIndent("", "  ")
+		if err := enc.Encode(dg); err != nil {
+			return fail(e, exitFailed, err)
+		}
+		return exitOK
+	}
+	printDiagnosis(e.stdout, dg)
+	if *out != "" && !c.quiet {
+		fmt.Fprintf(e.stderr, "spotsift: verdict written to %s\n", filepath.Join(*out, "verdict.json"))
+	}
+	return exitOK
+}
+
+// parsePeriods reads "12.3,45".
+func parsePeriods(s string) ([]float64, error) {
+	if strings.TrimSpace(s) == "" {
+		return nil, nil
+	}
+	var out []float64
+	for _, f := range strings.Split(s, ",") {
+		p, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+		if err != nil {
+			return nil, fmt.Errorf("--period: %q is not a number of days", strings.TrimSpace(f))
+		}
+		out = append(out, p)
+	}
+	return out, nil
+}
+
+func nonEmpty(s string) []string {
+	if s == "" {
+		return nil
+	}
+	return []string{s}
+}
+
+// provenance records the version, seed, command line and input hashes.
+func provenance(c common, inputs, argv []string) activity.Provenance {
+	p := activity.Provenance{Version: version, Seed: c.seed, Command: "spotsift " + strings.Join(argv, " ")}
+	for _, in := range inputs {
+		h, err := hashFile(in)
+		if err != nil {
+			continue
+		}
+		p.Inputs = append(p.Inputs, activity.InputHash{Path: in, SHA256: h})
+	}
+	return p
+}
+
+// hashFile returns the hex SHA-256 of a file.
+func hashFile(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", err
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// writeVerdict writes verdict.json into dir.
+func writeVerdict(dir string, dg *activity.Diagnosis) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return err
+	}
+	return rvfit.WriteFileAtomic(filepath.Join(dir, "verdict.json"), func(w io.Writer) error {
+		enc := json.NewEncoder(w)
+		enc.SetIndent("", "  ")
+		return enc.Encode(dg)
+	})
+}
+
+// printDiagnosis writes the readable summary.
+func printDiagnosis(w io.Writer, dg *activity.Diagnosis) {
+	fmt.Fprintf(w, "%s: %d epochs over %.1f days\n", dg.Star, dg.NEpochs, float64(dg.Baseline))
+	r := dg.Rotation
+	if float64(r.Period) > 0 {
+		fmt.Fprintf(w, "rotation: %.3g ± %.2g d (%s); %s\n", float64(r.Period), float64(r.Err), r.Source, r.Agreement)
+	} else {
+		fmt.Fprintf(w, "rotation: unknown (%s)\n", r.Agreement)
+	}
+	for _, n := range dg.Notes {
+		fmt.Fprintf(w, "note: %s\n", n)
+	}
+	for i, s := range dg.Signals {
+		fmt.Fprintf(w, "\nsignal %d: P = %.5g d, K = %.3g ± %.2g m/s, false-alarm probability %.2g (%s)\n",
+			i+1, float64(s.Period), float64(s.Amplitude), float64(s.AmplitudeErr), float64(s.FAP), s.Source)
+		fmt.Fprintf(w, "  verdict: %s (score %+.2f, %.0f%% of the tests ran)\n", s.Verdict, s.Score, 100*s.Coverage)
+		fmt.Fprintf(w, "  because: %s\n", s.Summary)
+		for _, ev := range s.Evidence {
+			fmt.Fprintf(w, "    %-8s %+5.2f  %s\n", ev.Points, ev.Weight, ev.Reason)
+		}
+		for _, sk := range s.Skipped {
+			fmt.Fprintf(w, "    skipped  %s: %s\n", sk.Name, sk.Why)
+		}
+	}
+	fmt.Fprintf(w, "\n%s\n", dg.Caution)
 }
