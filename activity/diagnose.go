@@ -345,8 +345,8 @@ type trial struct {
 	rng    *rand.Rand
 	// strongRotation reports whether the period sits at P_rot or P_rot/2.
 	strongRotation bool
-	ev     []Evidence
-	skip   []Skipped
+	ev             []Evidence
+	skip           []Skipped
 }
 
 func (tr *trial) add(e Evidence) { tr.ev = append(tr.ev, e) }
