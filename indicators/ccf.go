@@ -343,37 +343,60 @@ func (p *ccfPlan) run() *CCF {
 //	Var Q = Σ_x σ_x² (Σ_k g_k ∂CCF_k/∂F_x)²
 //
 // exactly, including the correlation between neighbouring CCF bins. It
-// needs exactly propQ quantities.
-//
-// Lines are visited in increasing pixel order, so a pixel below the first
-// pixel a line can touch is final: it is squared, summed and cleared as the
-// walk moves on, and the scratch array is clean again at the end.
+// needs exactly propQ quantities. Two goroutines share the work: one takes
+// the first three quantities, the other the rest and the segments.
 func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 	if len(g) != propQ {
 		panic("indicators: propagate needs propQ gradients")
 	}
-	const nq = propQ + 1 // the last slot is the current segment's
+	vq = make([]float64, propQ)
+	vs = make([]float64, len(sg))
+	var wg sync.WaitGroup
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		a := p.propagate3([3][]float64{g[0], g[1], g[2]}, nil, nil)
+		copy(vq[0:3], a[:])
+	}()
+	b := p.propagate3([3][]float64{g[3], g[4], nil}, sg, vs)
+	wg.Wait()
+	vq[3], vq[4] = b[0], b[1]
+	return vq, vs
+}
+
+// propagate3 propagates three quantities; when sg is not nil the third slot
+// is each segment's RV instead, its variances going to vs.
+//
+// Lines are visited in increasing pixel order, so a pixel below the first
+// pixel a line can touch is final: it is squared, summed and cleared as the
+// walk moves on, and the scratch array is clean again at the end.
+func (p *ccfPlan) propagate3(g [3][]float64, sg [][]float64, vs []float64) [3]float64 {
+	const nq = 3
 	buf := scratchPool.Get().(*[]float64)
 	if len(*buf) < p.npix*nq {
 		*buf = make([]float64, p.npix*nq)
 	}
 	h := (*buf)[:p.npix*nq]
 	sig2 := p.sig2()
-	vs = make([]float64, len(sg))
-	var acc [propQ]float64
+	var acc [3]float64
 	lo, hi := 1-p.h, 1+p.h
 	nk := len(p.dk)
 	gk := make([]float64, nk*nq)
+	nqTot := nq
+	if sg != nil {
+		nqTot = 2 // the third slot is flushed per segment
+	}
 	low := 0 // pixels below low are flushed
-	flushTo := func(x1 int, seg int) {
+	curSeg := -1
+	flushTo := func(x1 int) {
 		for x := low; x < x1; x++ {
 			hx := (*[nq]float64)(h[x*nq : x*nq+nq])
 			s2 := sig2[x]
-			for q := 0; q < propQ; q++ {
+			for q := 0; q < nqTot; q++ {
 				acc[q] += s2 * hx[q] * hx[q]
 			}
-			if seg >= 0 {
-				vs[seg] += s2 * hx[propQ] * hx[propQ]
+			if sg != nil && curSeg >= 0 {
+				vs[curSeg] += s2 * hx[2] * hx[2]
 			}
 			*hx = [nq]float64{}
 		}
@@ -381,37 +404,36 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 			low = x1
 		}
 	}
-	// flushSeg squares and clears the segment slot over [from, to).
-	flushSeg := func(from, to, seg int) {
-		for x := max(from, low); x < to; x++ {
-			v := h[x*nq+propQ]
-			vs[seg] += sig2[x] * v * v
-			h[x*nq+propQ] = 0
+	// flushSeg squares and clears the segment slot over [low, to).
+	flushSeg := func(to int) {
+		for x := low; x < to; x++ {
+			v := h[x*nq+2]
+			vs[curSeg] += sig2[x] * v * v
+			h[x*nq+2] = 0
 		}
 	}
-	curSeg := -1
-	segLo, segHi := 0, 0
+	segHi := 0
 	for _, pl := range p.places {
 		o := &p.orders[pl.order]
 		e, iw := o.edges, o.invw
 		off := o.offset
-		if int(pl.seg) != curSeg {
-			if curSeg >= 0 {
-				flushSeg(segLo, segHi, curSeg)
+		if int(pl.seg) != curSeg || curSeg < 0 {
+			if sg != nil && curSeg >= 0 {
+				flushSeg(segHi)
 			}
 			curSeg = int(pl.seg)
 			for k := 0; k < nk; k++ {
-				for q := 0; q < propQ; q++ {
-					gk[k*nq+q] = g[q][k]
+				for q := 0; q < nq; q++ {
+					if g[q] != nil {
+						gk[k*nq+q] = g[q][k]
+					}
 				}
-				gk[k*nq+propQ] = sg[curSeg][k]
+				if sg != nil {
+					gk[k*nq+2] = sg[curSeg][k]
+				}
 			}
-			segLo, segHi = off+int(pl.start), off+int(pl.start)
 		}
-		flushTo(off+int(pl.start), curSeg)
-		if off+int(pl.start) > segLo {
-			segLo = off + int(pl.start)
-		}
+		flushTo(off + int(pl.start))
 		w := pl.weight
 		x0 := int(pl.start)
 		for k, d := range p.dk {
@@ -435,21 +457,19 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 				hx[0] += t * gq[0]
 				hx[1] += t * gq[1]
 				hx[2] += t * gq[2]
-				hx[3] += t * gq[3]
-				hx[4] += t * gq[4]
-				hx[5] += t * gq[5]
 			}
 			if off+x > segHi {
 				segHi = off + x
 			}
 		}
 	}
-	if curSeg >= 0 {
-		flushSeg(segLo, segHi, curSeg)
+	if sg != nil && curSeg >= 0 {
+		flushSeg(segHi)
+		curSeg = -1
 	}
-	flushTo(p.npix, -1)
+	flushTo(p.npix)
 	scratchPool.Put(buf)
-	return acc[:], vs
+	return acc
 }
 
 // propQ is the number of CCF quantities whose errors propagate computes.

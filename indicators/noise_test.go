@@ -25,7 +25,11 @@ func TestPhotonNoise(t *testing.T) {
 	clean := st.spectrum(1234.5)
 	m := st.mask()
 	opts := &Options{NoIndices: true}
-	type draw struct{ rv, fwhm, con, bis, rvErr, fwhmErr, conErr, bisErr float64 }
+	type draw struct {
+		rv, fwhm, con, bis, rvErr, fwhmErr, conErr, bisErr float64
+		chrom, chromErr                                    float64
+		orv, orvErr                                        []float64
+	}
 	draws := make([]draw, n)
 	var wg sync.WaitGroup
 	var fail error
@@ -44,7 +48,14 @@ func TestPhotonNoise(t *testing.T) {
 					mu.Unlock()
 					return
 				}
-				draws[i] = draw{r.RV.Value, r.FWHM.Value, r.Contrast.Value, r.BIS.Value, r.RV.Sigma, r.FWHM.Sigma, r.Contrast.Sigma, r.BIS.Sigma}
+				d := draw{rv: r.RV.Value, fwhm: r.FWHM.Value, con: r.Contrast.Value, bis: r.BIS.Value,
+					rvErr: r.RV.Sigma, fwhmErr: r.FWHM.Sigma, conErr: r.Contrast.Sigma, bisErr: r.BIS.Sigma,
+					chrom: r.Chromatic.Value, chromErr: r.Chromatic.Sigma}
+				for _, o := range r.Orders {
+					d.orv = append(d.orv, o.RV.Value)
+					d.orvErr = append(d.orvErr, o.RV.Sigma)
+				}
+				draws[i] = d
 			}
 		}(w)
 	}
@@ -75,6 +86,7 @@ func TestPhotonNoise(t *testing.T) {
 		{"FWHM", func(d draw) float64 { return d.fwhm }, func(d draw) float64 { return d.fwhmErr }},
 		{"contrast", func(d draw) float64 { return d.con }, func(d draw) float64 { return d.conErr }},
 		{"BIS", func(d draw) float64 { return d.bis }, func(d draw) float64 { return d.bisErr }},
+		{"chromatic slope", func(d draw) float64 { return d.chrom }, func(d draw) float64 { return d.chromErr }},
 	} {
 		_, scatter := sd(q.val)
 		reported, _ := sd(q.err)
@@ -91,6 +103,19 @@ func TestPhotonNoise(t *testing.T) {
 				t.Errorf("RV: scatter %.4g vs Bouchy limit %.4g: off by more than 10%%", scatter, limit)
 			}
 		}
+	}
+	// Per-chunk RVs: the mean over the 10 chunks of (scatter/reported)²,
+	// whose standard error is about sqrt(2/(n−1))/sqrt(10) = 3 %.
+	var ratio2 float64
+	nc := len(draws[0].orv)
+	for c := 0; c < nc; c++ {
+		_, sc := sd(func(d draw) float64 { return d.orv[c] })
+		rep, _ := sd(func(d draw) float64 { return d.orvErr[c] })
+		ratio2 += sc * sc / (rep * rep) / float64(nc)
+	}
+	t.Logf("per-chunk RVs: mean (scatter/reported)² = %.3f over %d chunks", ratio2, nc)
+	if math.Abs(math.Sqrt(ratio2)-1) > 0.1 {
+		t.Errorf("per-chunk RV errors: rms scatter/reported = %.3f, want 1 ± 0.1", math.Sqrt(ratio2))
 	}
 	mrv, _ := sd(func(d draw) float64 { return d.rv })
 	_, srv := sd(func(d draw) float64 { return d.rv })
