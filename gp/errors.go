@@ -69,6 +69,7 @@ type ParamError struct {
 	Reason string  // short explanation, e.g. "must be positive"
 }
 
+// Error formats the kernel, parameter, value and reason.
 func (e *ParamError) Error() string {
 	return fmt.Sprintf("gp: %s.%s = %g: %s", e.Kernel, e.Name, e.Value, e.Reason)
 }
@@ -84,6 +85,7 @@ type IndexError struct {
 	Err   error // sentinel, e.g. ErrNaN
 }
 
+// Error formats the sentinel, slice name, index and value.
 func (e *IndexError) Error() string {
 	return fmt.Sprintf("%v: %s[%d] = %g", e.Err, e.Slice, e.Index, e.Value)
 }

@@ -280,3 +280,15 @@ func (md *MultiDense) DrawSeries(rnd *rand.Rand) ([][]float64, error) {
 	}
 	return md.Split(y), nil
 }
+
+// LogLikelihood returns ln L of per-series residuals r (one slice per
+// series, in the order of series) under the model: a convenience for
+// NewMultiDense followed by LogLikelihoodSeries. A fitting package puts
+// its Keplerians in the RV residuals only.
+func (m Multi) LogLikelihood(series []Series, r [][]float64) (float64, error) {
+	md, err := NewMultiDense(m, series, nil)
+	if err != nil {
+		return math.Inf(-1), err
+	}
+	return md.LogLikelihoodSeries(r)
+}

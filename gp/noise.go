@@ -70,10 +70,15 @@ func (m *Noise) WithParams(p []float64) (*Noise, error) {
 		return nil, err
 	}
 	out := &Noise{Kernel: k, Jitter: append([]float64(nil), p[nk:]...), Solver: m.Solver, Dense: m.Dense}
-	return out, out.validate()
+	return out, out.Validate()
 }
 
-func (m *Noise) validate() error {
+// Validate checks the kernel's hyperparameters and that every jitter is
+// non-negative and finite.
+func (m *Noise) Validate() error {
+	if m.Kernel == nil {
+		return fmt.Errorf("%w: Noise has no kernel", ErrBadParam)
+	}
 	if err := validate(m.Kernel); err != nil {
 		return err
 	}
@@ -129,7 +134,7 @@ func (m *Noise) diagonal(t, variance []float64, inst []int) ([]float64, error) {
 // every point). A kernel period shorter than the cadence allows (see
 // CheckPeriod) gives an error wrapping ErrPeriodTooShort.
 func (m *Noise) Factor(t, variance []float64, inst []int) (Solver, error) {
-	if err := m.validate(); err != nil {
+	if err := m.Validate(); err != nil {
 		return nil, err
 	}
 	if err := checkKernelPeriods(m.Kernel, t); err != nil {
@@ -192,13 +197,16 @@ func (m *Noise) Predict(t, r, variance []float64, inst []int, tnew []float64, wa
 //
 // Reference: Rasmussen & Williams 2006, eq. 5.9 (from memory).
 func (m *Noise) LogLikelihoodGrad(dst, t, r, variance []float64, inst []int) (float64, error) {
+	if err := m.Validate(); err != nil {
+		return math.Inf(-1), err
+	}
 	if len(dst) != m.NumParams() {
 		return math.Inf(-1), fmt.Errorf("%w: gradient slice has %d, Noise %d", ErrParamCount, len(dst), m.NumParams())
 	}
 	if !HasGradient(m.Kernel) {
 		return math.Inf(-1), fmt.Errorf("%w: %T", ErrNoGradient, m.Kernel)
 	}
-	if err := m.validate(); err != nil {
+	if err := m.Validate(); err != nil {
 		return math.Inf(-1), err
 	}
 	if err := checkKernelPeriods(m.Kernel, t); err != nil {

@@ -122,6 +122,12 @@ func TestNoiseBadInput(t *testing.T) {
 			}
 		})
 	}
+	if _, err := (&Noise{}).LogLikelihoodGrad(nil, ts, r, nil, nil); !errors.Is(err, ErrBadParam) {
+		t.Errorf("nil kernel: %v", err)
+	}
+	if _, err := (&Noise{}).LogLikelihood(ts, r, nil, nil); !errors.Is(err, ErrBadParam) {
+		t.Errorf("nil kernel: %v", err)
+	}
 	g := make([]float64, 3)
 	sho := Noise{Kernel: SHO{1, 1, 2}}
 	if _, err := sho.LogLikelihoodGrad(g, ts, r, nil, nil); !errors.Is(err, ErrNoGradient) && !errors.Is(err, ErrParamCount) {
