@@ -289,9 +289,40 @@ func (p *ccfPlan) run() *CCF {
 		c.Segments[s].Value = make([]float64, nv)
 		c.Segments[s].Var = make([]float64, nv)
 	}
+	wsum := make([]float64, nseg)
+	// Two goroutines, each owning whole segments.
+	split := len(p.places)
+	if nseg > 1 {
+		split = len(p.places) / 2
+		for split < len(p.places) && p.places[split].seg == p.places[split-1].seg {
+			split++
+		}
+	}
+	var wg sync.WaitGroup
+	if split < len(p.places) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			p.runPlaces(c, wsum, p.places[split:])
+		}()
+	}
+	p.runPlaces(c, wsum, p.places[:split])
+	wg.Wait()
+	for s := range c.Segments {
+		c.Segments[s].Wavelength /= wsum[s]
+		for k := 0; k < nv; k++ {
+			c.Value[k] += c.Segments[s].Value[k]
+			c.Var[k] += c.Segments[s].Var[k]
+		}
+	}
+	return c
+}
+
+// runPlaces accumulates the CCF of the given placements into their
+// segments.
+func (p *ccfPlan) runPlaces(c *CCF, wsum []float64, places []placement) {
 	lo, hi := 1-p.h, 1+p.h
-	var wsum []float64 = make([]float64, nseg)
-	for _, pl := range p.places {
+	for _, pl := range places {
 		o := &p.orders[pl.order]
 		e, iw, f, s2 := o.edges, o.invw, o.flux, o.sig2
 		sg := &c.Segments[pl.seg]
@@ -325,14 +356,6 @@ func (p *ccfPlan) run() *CCF {
 			vr[k] += w2 * v2
 		}
 	}
-	for s := range c.Segments {
-		c.Segments[s].Wavelength /= wsum[s]
-		for k := 0; k < nv; k++ {
-			c.Value[k] += c.Segments[s].Value[k]
-			c.Var[k] += c.Segments[s].Var[k]
-		}
-	}
-	return c
 }
 
 // propagate returns the photon-noise variances of linear functionals of the

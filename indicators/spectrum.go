@@ -68,6 +68,36 @@ func (s *Spectrum) validate(allowNegative bool) error {
 		if len(ord.Flux) != n || (ord.Err != nil && len(ord.Err) != n) {
 			return bad(o, -1, ErrMismatch)
 		}
+		// Fast path: one comparison catches NaN, ±Inf and out-of-range
+		// values; the slow loops below only run to describe a failure.
+		prev := 0.0
+		ok := true
+		for _, w := range ord.Wavelength {
+			if !(w > prev) || w-w != 0 {
+				ok = false
+				break
+			}
+			prev = w
+		}
+		if ok {
+			for _, f := range ord.Flux {
+				if f-f != 0 || (f < 0 && !allowNegative) {
+					ok = false
+					break
+				}
+			}
+		}
+		if ok {
+			for _, e := range ord.Err {
+				if !(e > 0) || e-e != 0 {
+					ok = false
+					break
+				}
+			}
+		}
+		if ok {
+			continue
+		}
 		for i, w := range ord.Wavelength {
 			if math.IsNaN(w) || math.IsInf(w, 0) || w <= 0 {
 				return bad(o, i, fmt.Errorf("%w: wavelength %v", ErrNotFinite, w))
