@@ -28,9 +28,8 @@ func TestGrayKernel(t *testing.T) {
 	for _, c := range ref.GrayFWHM {
 		sc := quietScenario(c.VSinI, c.Sigma, c.Eps)
 		if c.Eps == 0 {
-			// ε = 0 needs LimbU1 = 0, which TOML defaults would replace;
-			// a tiny value stands for it (its effect is far below 1e-6).
-			sc.Star.LimbU1 = 1e-12
+			// An explicit 0, as a scenario file would give it.
+			sc.zeros = map[string]bool{"star.limb_u1": true}
 		}
 		res := mustSimulate(t, sc, 1, nil)
 		p, err := res.Profile(0)

@@ -59,6 +59,9 @@ type Scenario struct {
 	Instruments []Instrument `toml:"instrument"`
 	Spectrum    SpectrumPlan `toml:"spectrum"`
 	Numerics    Numerics     `toml:"numerics"`
+
+	// zeros holds the keys a scenario file set to 0 explicitly.
+	zeros map[string]bool
 }
 
 // Star holds the photosphere and rotation of the simulated star.
@@ -83,9 +86,9 @@ type Star struct {
 	// rigid rotation (solar α ≈ 0.2).
 	DiffRotation float64 `toml:"diff_rotation"`
 	// LimbU1 and LimbU2 are the quadratic limb-darkening coefficients
-	// (default 0.45 and 0.20, solar-like near 5500 Å, METHODS.md §13). TOML
-	// cannot tell an explicit 0 from an absent key, so a linear law is asked
-	// for with LinearLimb.
+	// (default 0.45 and 0.20, solar-like near 5500 Å, METHODS.md §13). In a
+	// Go literal 0 means the default, so a linear law is asked for with
+	// LinearLimb (a file may also write limb_u2 = 0).
 	LimbU1 float64 `toml:"limb_u1"`
 	LimbU2 float64 `toml:"limb_u2"`
 	// LinearLimb reports whether the law is linear (u2 forced to 0).
@@ -142,8 +145,8 @@ type Activity struct {
 	// CBSuppression is the fraction of the convective blueshift removed
 	// inside spots and faculae, in [0, 1] (default 1, all of it).
 	CBSuppression float64 `toml:"cb_suppression"`
-	// KeepCB, when true, sets CBSuppression to 0 (TOML cannot tell an
-	// explicit 0 from an absent key).
+	// KeepCB, when true, sets CBSuppression to 0 (in a Go literal 0 means
+	// the default; a file may also write cb_suppression = 0).
 	KeepCB bool `toml:"keep_cb"`
 	// SQuiet is the S-index of the quiet star (default 0.17, solar-like);
 	// SGain is dS per unit visible facular filling factor (default 3). They set
@@ -264,72 +267,76 @@ type Numerics struct {
 
 // Defaults returns a copy of sc with every zero value that has a default
 // replaced by it, and planets named. It does not check anything; see Check.
+// A scenario read by ParseScenario remembers which keys the file set to 0
+// explicitly: those keep their 0 (and Check judges it), so that, e.g.,
+// "snr = 0" is an error rather than the default 100 and "limb_u1 = 0" means
+// no limb darkening.
 func (sc *Scenario) Defaults() *Scenario {
 	c := sc.clone()
-	def := func(p *float64, v float64) {
-		if *p == 0 {
+	def := func(p *float64, v float64, key string) {
+		if *p == 0 && !c.zeros[key] {
 			*p = v
 		}
 	}
-	def(&c.Star.Teff, 5750)
-	def(&c.Star.Inclination, 90)
-	def(&c.Star.BV, BVFromTeff(c.Star.Teff))
-	def(&c.Star.LimbU1, 0.45)
+	def(&c.Star.Teff, 5750, "star.teff")
+	def(&c.Star.Inclination, 90, "star.inclination")
+	def(&c.Star.BV, BVFromTeff(c.Star.Teff), "star.b_v")
+	def(&c.Star.LimbU1, 0.45, "star.limb_u1")
 	if c.Star.LinearLimb {
 		c.Star.LimbU2 = 0
 	} else {
-		def(&c.Star.LimbU2, 0.20)
+		def(&c.Star.LimbU2, 0.20, "star.limb_u2")
 	}
-	def(&c.Star.LineSigma, 2.0)
-	def(&c.Star.LineDepth, 0.6)
+	def(&c.Star.LineSigma, 2.0, "star.line_sigma")
+	def(&c.Star.LineDepth, 0.6, "star.line_depth")
 	a := &c.Activity
-	if a.LatMin == 0 && a.LatMax == 0 {
+	if a.LatMin == 0 && a.LatMax == 0 && !c.zeros["activity.lat_max"] {
 		a.LatMin, a.LatMax = 5, 35
 	}
-	def(&a.LongitudeSpread, 15)
-	def(&a.SpotArea, 0.005)
-	def(&a.FaculaRatio, 3)
-	def(&a.Lifetime, 2)
-	def(&a.GrowthFraction, 0.2)
-	def(&a.SpotTempDiff, 800)
-	def(&a.FaculaContrast, 0.15)
+	def(&a.LongitudeSpread, 15, "activity.longitude_spread")
+	def(&a.SpotArea, 0.005, "activity.spot_area")
+	def(&a.FaculaRatio, 3, "activity.facula_ratio")
+	def(&a.Lifetime, 2, "activity.lifetime")
+	def(&a.GrowthFraction, 0.2, "activity.growth_fraction")
+	def(&a.SpotTempDiff, 800, "activity.spot_temp_diff")
+	def(&a.FaculaContrast, 0.15, "activity.facula_contrast")
 	if a.KeepCB {
 		a.CBSuppression = 0
 	} else {
-		def(&a.CBSuppression, 1)
+		def(&a.CBSuppression, 1, "activity.cb_suppression")
 	}
-	def(&a.SQuiet, 0.17)
-	def(&a.SGain, 3)
+	def(&a.SQuiet, 0.17, "activity.s_quiet")
+	def(&a.SGain, 3, "activity.s_gain")
 	for i := range c.Planets {
 		if c.Planets[i].Name == "" {
 			c.Planets[i].Name = string(rune('b' + i%25))
 		}
 	}
 	o := &c.Observing
-	def(&o.SeasonLength, 240)
-	def(&o.ClearFraction, 0.7)
-	def(&o.WeatherPersistence, 0.6)
-	def(&o.TimeJitter, 0.04)
+	def(&o.SeasonLength, 240, "observing.season_length")
+	def(&o.ClearFraction, 0.7, "observing.clear_fraction")
+	def(&o.WeatherPersistence, 0.6, "observing.weather_persistence")
+	def(&o.TimeJitter, 0.04, "observing.time_jitter")
 	if len(c.Instruments) == 0 {
 		c.Instruments = []Instrument{{Name: "SIM"}}
 	}
 	for i := range c.Instruments {
-		def(&c.Instruments[i].SNR, 100)
-		def(&c.Instruments[i].Weight, 1)
+		def(&c.Instruments[i].SNR, 100, fmt.Sprintf("instrument[%d].snr", i+1))
+		def(&c.Instruments[i].Weight, 1, fmt.Sprintf("instrument[%d].weight", i+1))
 	}
 	s := &c.Spectrum
-	def(&s.LambdaMin, 3800)
-	def(&s.LambdaMax, 6900)
-	if s.Pixels == 0 {
+	def(&s.LambdaMin, 3800, "spectrum.lambda_min")
+	def(&s.LambdaMax, 6900, "spectrum.lambda_max")
+	if s.Pixels == 0 && !c.zeros["spectrum.pixels"] {
 		s.Pixels = 300000
 	}
-	if s.Lines == 0 {
+	if s.Lines == 0 && !c.zeros["spectrum.lines"] {
 		s.Lines = 3000
 	}
-	if c.Numerics.Grid == 0 {
+	if c.Numerics.Grid == 0 && !c.zeros["numerics.grid"] {
 		c.Numerics.Grid = 200
 	}
-	def(&c.Numerics.VelocityStep, 0.05)
+	def(&c.Numerics.VelocityStep, 0.05, "numerics.velocity_step")
 	return c
 }
 
@@ -338,6 +345,12 @@ func (sc *Scenario) clone() *Scenario {
 	c.Activity.Regions = append([]Region(nil), sc.Activity.Regions...)
 	c.Planets = append([]Planet(nil), sc.Planets...)
 	c.Instruments = append([]Instrument(nil), sc.Instruments...)
+	if sc.zeros != nil {
+		c.zeros = make(map[string]bool, len(sc.zeros))
+		for k, v := range sc.zeros {
+			c.zeros[k] = v
+		}
+	}
 	return &c
 }
 
@@ -493,8 +506,9 @@ func ParseScenario(b []byte, file string) (*Scenario, error) {
 		return nil, &ScenarioError{File: file, Msg: err.Error()}
 	}
 	if und := md.Undecoded(); len(und) > 0 {
-		return nil, &ScenarioError{File: file, Key: und[0].String(), Msg: "unknown key"}
+		return nil, &ScenarioError{File: file, Key: keyPath(b, und[0]), Msg: "unknown key"}
 	}
+	sc.zeros = explicitZeros(b)
 	if err := sc.Check(file); err != nil {
 		return nil, err
 	}
@@ -546,4 +560,69 @@ func BVFromTeff(teff float64) float64 {
 		}
 	}
 	return (lo + hi) / 2
+}
+
+// keyPath spells key as a dotted path with 1-based indices for arrays of
+// tables (the decoder's key has none), e.g. "planet[2].colour".
+func keyPath(b []byte, key toml.Key) string {
+	var raw map[string]any
+	if _, err := toml.Decode(string(b), &raw); err != nil {
+		return key.String()
+	}
+	var parts []string
+	var cur any = raw
+	for i, k := range key {
+		part := k
+		switch m := cur.(type) {
+		case map[string]any:
+			cur = m[k]
+		default:
+			cur = nil
+		}
+		if arr, ok := cur.([]map[string]any); ok && i+1 < len(key) {
+			for j, el := range arr {
+				if _, has := el[key[i+1]]; has {
+					part = fmt.Sprintf("%s[%d]", k, j+1)
+					cur = el
+					break
+				}
+			}
+		}
+		parts = append(parts, part)
+	}
+	return strings.Join(parts, ".")
+}
+
+// explicitZeros returns the dotted paths (with 1-based indices for arrays of
+// tables) of every numeric key set to 0 in the TOML text b.
+func explicitZeros(b []byte) map[string]bool {
+	var raw map[string]any
+	if _, err := toml.Decode(string(b), &raw); err != nil {
+		return nil
+	}
+	out := map[string]bool{}
+	var walk func(prefix string, m map[string]any)
+	walk = func(prefix string, m map[string]any) {
+		for k, v := range m {
+			p := prefix + k
+			switch x := v.(type) {
+			case map[string]any:
+				walk(p+".", x)
+			case []map[string]any:
+				for i, el := range x {
+					walk(fmt.Sprintf("%s[%d].", p, i+1), el)
+				}
+			case int64:
+				if x == 0 {
+					out[p] = true
+				}
+			case float64:
+				if x == 0 {
+					out[p] = true
+				}
+			}
+		}
+	}
+	walk("", raw)
+	return out
 }

@@ -34,11 +34,15 @@ func TestParseScenario(t *testing.T) {
 		{"good", goodScenario, ""},
 		{"unknown key", strings.Replace(goodScenario, "inclination = 60", "inclination = 60\ncolour = 3", 1), "star.colour"},
 		{"unknown table", goodScenario + "\n[telescope]\nsize = 3\n", "telescope"},
+		{"unknown key in the second planet", goodScenario + "\n[[planet]]\nperiod = 2\nmass = 3\n", "planet[2].mass"},
+		{"unknown key in a region", goodScenario + "\n[[activity.region]]\nlat = 2\nradius = 3\n", "activity.region[1].radius"},
 		{"negative planet period", strings.Replace(goodScenario, "period = 7.3", "period = -7.3", 1), "planet[1].period"},
 		{"negative rotation period", strings.Replace(goodScenario, "rotation_period = 20", "rotation_period = -20", 1), "star.rotation_period"},
 		{"inclination too large", strings.Replace(goodScenario, "inclination = 60", "inclination = 200", 1), "star.inclination"},
 		{"inclination negative", strings.Replace(goodScenario, "inclination = 60", "inclination = -5", 1), "star.inclination"},
-		{"zero snr", strings.Replace(goodScenario, "snr = 80", "snr = -1", 1), "instrument[1].snr"},
+		{"negative snr", strings.Replace(goodScenario, "snr = 80", "snr = -1", 1), "instrument[1].snr"},
+		{"explicit zero snr", strings.Replace(goodScenario, "snr = 80", "snr = 0", 1), "instrument[1].snr"},
+		{"explicit zero line width", strings.Replace(goodScenario, "inclination = 60", "inclination = 60\nline_sigma = 0.0", 1), "star.line_sigma"},
 		{"no v_eq", strings.Replace(goodScenario, "v_eq = 2.5", "", 1), "star.v_eq"},
 		{"end before start", strings.Replace(goodScenario, "end = 2460100.5", "end = 2459000.5", 1), "observing.end"},
 		{"eccentricity", strings.Replace(goodScenario, "k = 3", "k = 3\ne = 0.99", 1), "planet[1].e"},
@@ -91,6 +95,9 @@ func TestEncodeTOMLRoundTrip(t *testing.T) {
 	}
 	want := sc.Defaults()
 	want.Seed = 42
+	// The set of explicit zeros differs (the written file spells out every
+	// key); the values must not.
+	back.zeros, want.zeros = nil, nil
 	if !reflect.DeepEqual(back, want) {
 		t.Errorf("round trip differs:\n got %+v\nwant %+v", back, want)
 	}
@@ -114,6 +121,26 @@ func FuzzParseScenario(f *testing.F) {
 			t.Fatalf("accepted a star with v_eq %v, period %v", sc.Star.VEq, sc.Star.RotationPeriod)
 		}
 	})
+}
+
+// TestExplicitZeros checks that a key set to 0 in a file keeps its 0 where
+// 0 is valid, instead of taking the default.
+func TestExplicitZeros(t *testing.T) {
+	text := strings.Replace(goodScenario, "inclination = 60", "inclination = 60\nlimb_u1 = 0\nlimb_u2 = 0.0\n[activity]\ncb_suppression = 0", 1)
+	sc, err := ParseScenario([]byte(text), "zeros.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sc.Star.LimbU1 != 0 || sc.Star.LimbU2 != 0 || sc.Activity.CBSuppression != 0 {
+		t.Errorf("explicit zeros replaced: u1 %v, u2 %v, cb_suppression %v", sc.Star.LimbU1, sc.Star.LimbU2, sc.Activity.CBSuppression)
+	}
+	// And they survive Simulate's own defaulting.
+	sc.Observing.End = sc.Observing.Start + 3
+	sc.Spectrum = smallSpectrum
+	res := mustSimulate(t, sc, 1, nil)
+	if res.Scenario.Star.LimbU1 != 0 || res.Scenario.Activity.CBSuppression != 0 {
+		t.Errorf("Simulate replaced explicit zeros")
+	}
 }
 
 func TestBVFromTeff(t *testing.T) {
