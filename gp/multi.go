@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 )
 
 // Output is one observable driven by the latent process G(t) of a Multi
@@ -167,39 +168,84 @@ func NewMultiDense(m Multi, series []Series, s *DenseSettings) (*MultiDense, err
 		md.offset[i+1] = md.offset[i] + len(sr.T)
 	}
 	n := md.offset[len(series)]
-	// Row i belongs to series seriesOf[i].
+	// Row i belongs to series seriesOf[i] and has epoch times[i].
 	seriesOf := make([]int, n)
-	for a := range md.series {
+	times := make([]float64, n)
+	for a, sa := range md.series {
 		for i := md.offset[a]; i < md.offset[a+1]; i++ {
 			seriesOf[i] = a
+			times[i] = sa.T[i-md.offset[a]]
 		}
+	}
+	coef := make([]Output, n)
+	for i := range coef {
+		coef[i] = m.Outputs[md.series[seriesOf[i]].Output]
+	}
+	// Indicators usually come from the same spectra as the RVs, so the
+	// series share epochs: then the latent kernel and its derivatives are
+	// evaluated once per pair of distinct epochs and reused by every pair
+	// of outputs.
+	uniq, idx := uniqueEpochs(times)
+	var lat []float64 // 3 values (γ, γ', γ'') per pair of distinct epochs, lower triangle
+	if multiEpochCache && len(uniq) <= n/2 {
+		u := len(uniq)
+		lat = make([]float64, 3*u*(u+1)/2)
+		fillRows(u, func(i0, i1 int) {
+			for i := i0; i < i1; i++ {
+				base := 3 * i * (i + 1) / 2
+				for j := 0; j <= i; j++ {
+					g, d1, d2 := m.Latent.CovDeriv(uniq[i] - uniq[j])
+					lat[base+3*j], lat[base+3*j+1], lat[base+3*j+2] = g, d1, d2
+				}
+			}
+		})
 	}
 	fill := func(c *cholesky) {
 		fillRows(n, func(i0, i1 int) {
 			for i := i0; i < i1; i++ {
-				a := seriesOf[i]
-				sa := md.series[a]
-				oa := m.Outputs[sa.Output]
-				ti := sa.T[i-md.offset[a]]
-				row := c.a[i*c.ld:]
-				for b := 0; b <= a; b++ {
-					sb := md.series[b]
-					ob := m.Outputs[sb.Output]
-					for jj, tj := range sb.T {
-						j := md.offset[b] + jj
-						if j > i {
-							break
+				row := c.a[i*c.ld : i*c.ld+i+1]
+				oa := coef[i]
+				if lat == nil {
+					for j := range row {
+						row[j] = Cross(m.Latent, oa, coef[j], times[i], times[j])
+					}
+				} else {
+					for j := range row {
+						ua, ub, sg := idx[i], idx[j], 1.0
+						if ub > ua {
+							ua, ub, sg = ub, ua, -1 // γ' is odd in τ
 						}
-						row[j] = Cross(m.Latent, oa, ob, ti, tj)
+						p := 3 * (ua*(ua+1)/2 + ub)
+						g, d1, d2 := lat[p], sg*lat[p+1], lat[p+2]
+						ob := coef[j]
+						row[j] = oa.C*ob.C*g - oa.R*ob.R*d2 - oa.C*ob.R*d1 + oa.R*ob.C*d1
 					}
 				}
-				row[i] += sa.Variance[i-md.offset[a]]
+				a := seriesOf[i]
+				row[i] += md.series[a].Variance[i-md.offset[a]]
 			}
 		})
 	}
 	var err error
 	md.denseCore, err = newDenseCore(n, fill, s)
 	return md, err
+}
+
+// multiEpochCache enables the shared-epoch cache of NewMultiDense (tests
+// switch it off to compare both paths).
+var multiEpochCache = true
+
+// uniqueEpochs returns the distinct values of t in ascending order and,
+// for each t[i], its index among them.
+func uniqueEpochs(t []float64) ([]float64, []int) {
+	u := append([]float64(nil), t...)
+	slices.Sort(u)
+	u = slices.Compact(u)
+	idx := make([]int, len(t))
+	for i, v := range t {
+		idx[i], _ = slices.BinarySearch(u, v)
+	}
+	return u, idx
 }
 
 // Stack concatenates per-series values (one slice per series, in the

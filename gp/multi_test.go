@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
@@ -203,4 +204,51 @@ func TestMultiBadInput(t *testing.T) {
 	if _, err := md.LogLikelihoodSeries([][]float64{{1, 2}, {1, 2}}); !errors.Is(err, ErrLength) {
 		t.Errorf("mismatched residuals: %v", err)
 	}
+}
+
+// TestMultiSharedEpochs checks the shared-epoch cache of NewMultiDense
+// against the direct evaluation (series observed on the same spectra,
+// plus one extra epoch and a repeated one).
+func TestMultiSharedEpochs(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 1))
+	ts := make([]float64, 40)
+	for i := range ts {
+		ts[i] = 90 * rnd.Float64()
+	}
+	ts[7] = ts[3]
+	m := NewRajpaul(NewQuasiPeriodicRajpaul(1, 21, 0.7, 35), 2, 12, 0.6, -1, 6)
+	series := []Series{
+		{Output: OutRV, T: ts, Variance: constSlice(len(ts), 0.3)},
+		{Output: OutBIS, T: append(slices.Clone(ts), 95), Variance: constSlice(len(ts)+1, 0.5)},
+		{Output: OutIndex, T: ts[:30], Variance: constSlice(30, 0.01)},
+	}
+	var y [][]float64
+	for _, s := range series {
+		v := make([]float64, len(s.T))
+		for i := range v {
+			v[i] = rnd.NormFloat64()
+		}
+		y = append(y, v)
+	}
+	var lls []float64
+	for _, cache := range []bool{true, false} {
+		multiEpochCache = cache
+		ll, err := m.LogLikelihood(series, y)
+		if err != nil {
+			t.Fatal(err)
+		}
+		lls = append(lls, ll)
+	}
+	multiEpochCache = true
+	if !scalar.EqualWithinRel(lls[0], lls[1], 1e-12) {
+		t.Errorf("ln L with cache %.15g, without %.15g", lls[0], lls[1])
+	}
+}
+
+func constSlice(n int, v float64) []float64 {
+	s := make([]float64, n)
+	for i := range s {
+		s[i] = v
+	}
+	return s
 }
