@@ -1,10 +1,14 @@
 package activity
 
 import (
+	"bufio"
 	"errors"
 	"fmt"
+	"io"
 	"math"
+	"path/filepath"
 	"runtime"
+	"strconv"
 	"sort"
 	"strings"
 	"sync"
@@ -49,6 +53,84 @@ type MeasureOptions struct {
 	// Results, when not nil, receives the full indicators.Result of every
 	// spectrum kept in the series, in the series' (time) order.
 	Results *[]*indicators.Result
+	// Side, when not nil, overrides the epoch and barycentric correction of
+	// the spectra it lists (see ReadSideTable); spectra it does not list
+	// keep the values from their headers.
+	Side map[string]SideEntry
+}
+
+// SideEntry is one row of a side table: what a file's header lacks or gets
+// wrong. Zero values leave the header's value in place.
+type SideEntry struct {
+	// BJD is the mid-exposure epoch, BJD_TDB in days.
+	BJD float64
+	// BERV is the barycentric correction in m/s, to be added to measured
+	// velocities.
+	BERV float64
+}
+
+// ErrSideTable is wrapped by every error in a side table.
+var ErrSideTable = errors.New("activity: bad side table")
+
+// ReadSideTable reads a side table of epochs and barycentric corrections:
+// text with a header line naming the columns "file" and at least one of
+// "bjd" (BJD_TDB, days) and "berv" (m/s), separated by commas or blanks;
+// '#' starts a comment line. Files are matched by their base name. Errors
+// name the table and the line.
+func ReadSideTable(r io.Reader, name string) (map[string]SideEntry, error) {
+	sc := bufio.NewScanner(r)
+	out := map[string]SideEntry{}
+	col := map[string]int{}
+	line := 0
+	bad := func(msg string, a ...any) error {
+		return fmt.Errorf("%s:%d: %w: %s", name, line, ErrSideTable, fmt.Sprintf(msg, a...))
+	}
+	split := func(t string) []string {
+		return strings.FieldsFunc(t, func(r rune) bool { return r == ',' || r == ' ' || r == '\t' || r == ';' })
+	}
+	for sc.Scan() {
+		line++
+		t := strings.TrimSpace(sc.Text())
+		if t == "" || t[0] == '#' {
+			continue
+		}
+		f := split(t)
+		if len(col) == 0 {
+			for i, c := range f {
+				col[strings.ToLower(c)] = i
+			}
+			_, hasB := col["bjd"]
+			_, hasV := col["berv"]
+			if _, ok := col["file"]; !ok || !(hasB || hasV) {
+				return nil, bad("header must name a file column and a bjd or berv column")
+			}
+			continue
+		}
+		if len(f) != len(col) {
+			return nil, bad("%d fields, header has %d", len(f), len(col))
+		}
+		var e SideEntry
+		for key, dst := range map[string]*float64{"bjd": &e.BJD, "berv": &e.BERV} {
+			i, ok := col[key]
+			if !ok {
+				continue
+			}
+			v, err := strconv.ParseFloat(f[i], 64)
+			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, bad("%s %q is not a number", key, f[i])
+			}
+			*dst = v
+		}
+		file := filepath.Base(f[col["file"]])
+		if _, dup := out[file]; dup {
+			return nil, bad("file %q listed twice", file)
+		}
+		out[file] = e
+	}
+	if err := sc.Err(); err != nil {
+		return nil, fmt.Errorf("%s: %w", name, err)
+	}
+	return out, nil
 }
 
 // MeasureFailure names a spectrum that was left out of the series, or, when
@@ -107,7 +189,7 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 			if len(specs) == n {
 				break
 			}
-			s, err := indicators.ReadFile(p, opts.Read)
+			s, err := readSpectrum(p, opts)
 			if err != nil {
 				continue // reported by the measuring pass
 			}
@@ -143,7 +225,7 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 		go func() {
 			defer wg.Done()
 			for i := range jobs {
-				s, err := indicators.ReadFile(paths[i], opts.Read)
+				s, err := readSpectrum(paths[i], opts)
 				if err == nil {
 					items[i].instrument = instrumentOf(s, opts.Instrument)
 					items[i].res, err = measureOne(s, mask, iopts)
@@ -216,6 +298,23 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 		}
 	}
 	return ser, failures, nil
+}
+
+// readSpectrum reads one file and applies the side table.
+func readSpectrum(path string, opts *MeasureOptions) (*indicators.Spectrum, error) {
+	s, err := indicators.ReadFile(path, opts.Read)
+	if err != nil {
+		return nil, err
+	}
+	if e, ok := opts.Side[filepath.Base(path)]; ok {
+		if e.BJD != 0 {
+			s.BJD = e.BJD
+		}
+		if e.BERV != 0 {
+			s.BERV = e.BERV
+		}
+	}
+	return s, nil
 }
 
 // measureIndicatorOptions merges the star's calibration into the options.

@@ -8,10 +8,12 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"strings"
 	"testing"
 
 	"spotsift/activity/starsim"
 	"spotsift/indicators"
+	"spotsift/rvfit"
 )
 
 // testStar makes spectra of a star with isolated Gaussian lines (σ = 3 km/s)
@@ -160,6 +162,84 @@ func TestMeasure(t *testing.T) {
 
 	if _, _, err := Measure([]string{bad}, &MeasureOptions{Mask: mustMask(t)}); !errors.Is(err, ErrNoSpectra) {
 		t.Errorf("only bad files: err = %v, want ErrNoSpectra", err)
+	}
+}
+
+func TestReadSideTable(t *testing.T) {
+	for _, tc := range []struct {
+		name, in string
+		want     map[string]SideEntry
+		wantErr  bool
+	}{
+		{"both columns", "# side table\nfile,bjd,berv\n/data/a.fits,2460000.5,-1234.5\nb.fits,2460001.5,10\n",
+			map[string]SideEntry{"a.fits": {2460000.5, -1234.5}, "b.fits": {2460001.5, 10}}, false},
+		{"berv only, blanks", "file berv\na.fits 7\n", map[string]SideEntry{"a.fits": {0, 7}}, false},
+		{"no value column", "file,x\na.fits,1\n", nil, true},
+		{"bad number", "file,berv\na.fits,x\n", nil, true},
+		{"short row", "file,bjd,berv\na.fits,1\n", nil, true},
+		{"duplicate", "file,berv\na.fits,1\nx/a.fits,2\n", nil, true},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			got, err := ReadSideTable(strings.NewReader(tc.in), "side.csv")
+			if tc.wantErr {
+				if !errors.Is(err, ErrSideTable) || !strings.Contains(err.Error(), "side.csv:") {
+					t.Fatalf("err = %v, want ErrSideTable with a line", err)
+				}
+				return
+			}
+			if err != nil || !reflect.DeepEqual(got, tc.want) {
+				t.Fatalf("got %v, %v; want %v", got, err, tc.want)
+			}
+		})
+	}
+}
+
+func TestMeasureSideTable(t *testing.T) {
+	dir := t.TempDir()
+	paths, _ := writeTestSpectra(t, dir, 3)
+	var specs []*indicators.Spectrum
+	for _, p := range paths {
+		s, err := indicators.ReadFile(p, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		specs = append(specs, s)
+	}
+	mask, err := indicators.BuildMask(specs, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	base, _, err := Measure(paths, &MeasureOptions{Workers: 1, Mask: mask})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The side table moves the epoch of the first file (to the front of
+	// the series) and adds 1 km/s to the BERV of the second: its RV grows
+	// by 1 km/s composed relativistically with the RV (≈ +1000.2 m/s).
+	side := map[string]SideEntry{
+		filepath.Base(paths[0]): {BJD: 2450000.5},
+		filepath.Base(paths[1]): {BERV: specs[1].BERV + 1000},
+	}
+	got, _, err := Measure(paths, &MeasureOptions{Workers: 1, Mask: mask, Side: side})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Time[0] != 2450000.5 {
+		t.Fatalf("first epoch %v, want the side table's 2450000.5", got.Time[0])
+	}
+	idx := func(ser *rvfit.Series, bjd float64) int {
+		for i, t := range ser.Time {
+			if t == bjd {
+				return i
+			}
+		}
+		return -1
+	}
+	i0, i1 := idx(base, specs[1].BJD), idx(got, specs[1].BJD)
+	vm := indicators.VelocityFromLog(indicators.LogDopplerFactor(base.RV[i0]) - indicators.LogDopplerFactor(specs[1].BERV))
+	want := indicators.VelocityFromLog(indicators.LogDopplerFactor(vm) + indicators.LogDopplerFactor(specs[1].BERV+1000))
+	if math.Abs(got.RV[i1]-want) > 1e-6 {
+		t.Errorf("RV with side BERV %.6f, want %.6f", got.RV[i1], want)
 	}
 }
 
