@@ -8,8 +8,8 @@ import (
 	"math"
 	"path/filepath"
 	"runtime"
-	"strconv"
 	"sort"
+	"strconv"
 	"strings"
 	"sync"
 
