@@ -3,6 +3,7 @@ package rvfit
 import (
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -141,3 +142,25 @@ func BenchmarkFitModel(b *testing.B) {
 		}
 	}
 }
+
+func BenchmarkModelLogPosterior(b *testing.B) {
+	for _, n := range []int{50, 200, 1000} {
+		b.Run("n="+itoa(n)+",planets=2", func(b *testing.B) {
+			s, _ := twoPlanetSeries(5, n)
+			m, err := NewModel(s, 2, nil, nil)
+			if err != nil {
+				b.Fatal(err)
+			}
+			theta := []float64{12.3, 8, 0.3, 0.2, m.tmid, 47.1, 5, 0.1, -0.1, m.tmid + 3, 0, 30, 1, 1}
+			if lp := m.LogPosterior(theta); math.IsInf(lp, 0) {
+				b.Fatalf("log-posterior %v", lp)
+			}
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				m.LogPosterior(theta)
+			}
+		})
+	}
+}
+
+func itoa(n int) string { return fmt.Sprint(n) }

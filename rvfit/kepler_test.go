@@ -167,3 +167,22 @@ func BenchmarkKeplerBatch(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/nm, "ns/solve")
 }
+
+func TestKeplerBatchSinCos(t *testing.T) {
+	M := make([]float64, 1003)
+	for i := range M {
+		M[i] = -30 + 60*float64(i)/1002
+	}
+	E := make([]float64, len(M))
+	s := make([]float64, len(M))
+	c := make([]float64, len(M))
+	for _, e := range []float64{0, 0.2, 0.8, 0.999} {
+		keplerBatch(E, s, c, M, e)
+		for i := range M {
+			ws, wc := math.Sincos(E[i])
+			if math.Abs(s[i]-ws) > 1e-14 || math.Abs(c[i]-wc) > 1e-14 {
+				t.Fatalf("e=%g M=%g: sin %v cos %v, want %v %v", e, M[i], s[i], c[i], ws, wc)
+			}
+		}
+	}
+}

@@ -79,21 +79,20 @@ func (k Keplerian) AddRV(dst, t []float64) {
 	if len(dst) != len(t) {
 		panic("rvfit: AddRV length mismatch")
 	}
-	var buf [256]float64
+	var mb, sb, cb [256]float64
 	sw, cw := math.Sincos(k.Omega)
 	beta := math.Sqrt(1 - k.E*k.E)
 	ecw := k.E * cw
 	scale := 2 * math.Pi / k.P
-	for lo := 0; lo < len(t); lo += len(buf) {
-		hi := min(lo+len(buf), len(t))
-		M := buf[:hi-lo]
+	for lo := 0; lo < len(t); lo += len(mb) {
+		hi := min(lo+len(mb), len(t))
+		M, sE, cE := mb[:hi-lo], sb[:hi-lo], cb[:hi-lo]
 		for i := range M {
 			M[i] = scale * (t[lo+i] - k.Tp)
 		}
-		E := EccentricAnomalies(M, M, k.E)
-		for i, Ei := range E {
-			sE, cE := math.Sincos(Ei)
-			dst[lo+i] += k.K * (((cE-k.E)*cw-beta*sE*sw)/(1-k.E*cE) + ecw)
+		keplerBatch(M, sE, cE, M, k.E)
+		for i := range M {
+			dst[lo+i] += k.K * (((cE[i]-k.E)*cw-beta*sE[i]*sw)/(1-k.E*cE[i]) + ecw)
 		}
 	}
 }
