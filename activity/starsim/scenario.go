@@ -228,6 +228,10 @@ type Instrument struct {
 	// SNR is the signal-to-noise ratio per pixel of the continuum at 5500 Å
 	// (> 0, default 100).
 	SNR float64 `toml:"snr"`
+	// SNRScatter is the σ of the natural logarithm of the S/N from night to
+	// night (seeing, airmass, thin cloud), in [0, 2]; 0 gives every epoch
+	// the S/N SNR.
+	SNRScatter float64 `toml:"snr_scatter"`
 	// Jitter is an instrumental white noise in m/s added in quadrature to
 	// the photon noise of the tabulated RVs (default 0).
 	Jitter float64 `toml:"jitter"`
@@ -437,6 +441,7 @@ func (sc *Scenario) Check(file string) error {
 		rows = append(rows,
 			rng{k + "snr", in.SNR, 0, 1e5, true, "S/N must be > 0"},
 			rng{k + "jitter", in.Jitter, 0, 1e4, false, "must be ≥ 0 m/s"},
+			rng{k + "snr_scatter", in.SNRScatter, 0, 2, false, "must lie in [0, 2]"},
 			rng{k + "resolution", in.Resolution, 0, 1e7, false, "must be ≥ 0"},
 			rng{k + "weight", in.Weight, 0, 1e6, true, "must be > 0"},
 			rng{k + "offset", in.Offset, -1e6, 1e6, false, "must lie within ±1000 km/s"},

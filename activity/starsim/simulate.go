@@ -26,6 +26,7 @@ const (
 	streamLines    = 3
 	streamTable    = 1 << 32 // + epoch index
 	streamSpectrum = 2 << 32 // + epoch index
+	streamSNR      = 3 << 32 // + epoch index
 )
 
 // Options controls Simulate. A nil *Options uses the defaults.
@@ -53,6 +54,9 @@ type Epoch struct {
 	Time float64
 	// Instrument names the spectrograph.
 	Instrument string
+	// SNR is the epoch's signal-to-noise ratio per pixel at 5500 Å: the
+	// instrument's SNR times a log-normal factor of σ SNRScatter.
+	SNR float64
 
 	// ActivityRV is the true activity RV: the centre of a Gaussian fitted to
 	// the disk-integrated profile (spot contrast at RefWavelength, the
@@ -407,7 +411,11 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 	sc := s.sc
 	in := &sc.Instruments[v.inst]
 	s.d.cover(&ws.cv, s.regs, v.time)
-	ep := Epoch{Time: v.time, Instrument: in.Name, SpotFilling: ws.cv.spotFill, FaculaFilling: ws.cv.facFill}
+	ep := Epoch{Time: v.time, Instrument: in.Name, SpotFilling: ws.cv.spotFill, FaculaFilling: ws.cv.facFill, SNR: in.SNR}
+	if in.SNRScatter > 0 {
+		// Seeing, airmass and clouds: the median S/N is the instrument's.
+		ep.SNR *= math.Exp(in.SNRScatter * rand.New(rand.NewPCG(s.seed, streamSNR+uint64(i))).NormFloat64())
+	}
 	ep.Flux = s.profile(ws, &ws.cv, v.inst)
 	fit, err := FitGaussian(&ws.prof)
 	if err != nil {
@@ -429,7 +437,7 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 	if s.hasCa {
 		s.buildKernels(ws, &ws.cv, v.inst)
 		s.spec.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, ep.Emission)
-		ep.TrueSIndex, sErr = s.sIndex(ws.spec, in.SNR)
+		ep.TrueSIndex, sErr = s.sIndex(ws.spec, ep.SNR)
 	}
 
 	rng := rand.New(rand.NewPCG(s.seed, streamTable+uint64(i)))
@@ -437,7 +445,8 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 	if s.noNoise {
 		gauss = func() float64 { return 0 }
 	}
-	ph := s.inst[v.inst].rvPhoton
+	// The photon noise scales as 1/(S/N) (Bouchy et al. 2001).
+	ph := s.inst[v.inst].rvPhoton * in.SNR / ep.SNR
 	ep.RVErr = math.Hypot(ph, in.Jitter)
 	ep.RV = sc.Star.Systemic + in.Offset + ep.ActivityRV + planets + ep.RVErr*gauss()
 	// Errors of the line-shape indicators scale with the RV photon noise by
@@ -561,7 +570,7 @@ func (s *sim) spectrum(ws *workspace, r *Result, i int, flux []float64) *indicat
 		flux = make([]float64, m.n)
 	}
 	rng := rand.New(rand.NewPCG(s.seed, streamSpectrum+uint64(i)))
-	snr2 := in.SNR * in.SNR
+	snr2 := ep.SNR * ep.SNR
 	for p := range flux {
 		// The continuum is smooth: its shift to second order in ln D,
 		// C(λ/D) = C(λ) exp(a), a = −s g + s² g′/2, s = ln D, is exact to
@@ -593,7 +602,7 @@ func (s *sim) spectrum(ws *workspace, r *Result, i int, flux []float64) *indicat
 			"ORIGIN":   "spotsift starsim",
 			"SIMSEED":  strconv.FormatUint(s.seed, 10),
 			"SIMEPOCH": strconv.Itoa(i),
-			"SNR5500":  strconv.FormatFloat(in.SNR, 'g', -1, 64),
+			"SNR5500":  strconv.FormatFloat(ep.SNR, 'g', 6, 64),
 			"EXPTYPE":  "simulated",
 		},
 	}

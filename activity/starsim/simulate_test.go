@@ -205,7 +205,7 @@ func TestSameSeedSameBytes(t *testing.T) {
 // their errors.
 func TestSeries(t *testing.T) {
 	sc := planetScenario()
-	sc.Instruments = []Instrument{{Name: "A", Offset: 100, SNR: 60, Jitter: 1}, {Name: "B", Offset: -50, SNR: 60, Weight: 1}}
+	sc.Instruments = []Instrument{{Name: "A", Offset: 100, SNR: 60, Jitter: 1, SNRScatter: 0.3}, {Name: "B", Offset: -50, SNR: 60, Weight: 1}}
 	sc.Observing.End = sc.Observing.Start + 300
 	sc.Activity = Activity{EmergenceRate: 0.2}
 	res := mustSimulate(t, sc, 5, nil)
@@ -227,6 +227,16 @@ func TestSeries(t *testing.T) {
 		if i > 0 && s.Time[i] <= s.Time[i-1] {
 			t.Fatalf("times not increasing at %d", i)
 		}
+	}
+	// With S/N scatter the errors of A vary, those of B do not.
+	lo, hi := math.Inf(1), 0.0
+	for i, e := range res.Epochs {
+		if e.Instrument == "A" {
+			lo, hi = math.Min(lo, s.RVErr[i]), math.Max(hi, s.RVErr[i])
+		}
+	}
+	if hi < 1.3*lo {
+		t.Errorf("RV errors of A span only %.3f–%.3f m/s with snr_scatter 0.3", lo, hi)
 	}
 	if !seen["A"] || !seen["B"] {
 		t.Errorf("instruments used: %v, want A and B", seen)
