@@ -4,4 +4,40 @@
 // and chromospheric indices.
 //
 // It imports neither rvfit nor activity.
+//
+// # Reading and writing
+//
+// ReadFile reads a FITS or text spectrum into a Spectrum (ReadFITS,
+// ReadText): 1-D images with a linear or logarithmic wavelength WCS, 2-D
+// echelle images with a wavelength extension, binary tables, or text columns.
+// ReadOptions declare air or vacuum wavelengths, name the epoch and
+// barycentric-correction keywords, and choose columns. WriteFITS and
+// WriteFITSFile write the layouts ReadFITS reads; the output passes the
+// HEASARC fitsverify checks. Every error names the file and, where it
+// applies, the HDU, keyword, line, order and pixel.
+//
+// # Measuring
+//
+// Measure takes a Spectrum and a Mask (ReadMask, NewMask, or BuildMask from
+// the star's own spectra) and returns a Result holding every quantity as an
+// Estimate: a value with its photon-noise uncertainty, or the error that
+// kept it from being measured, so that one failed index does not lose the
+// others:
+//
+//	r, err := indicators.Measure(spec, mask, nil)
+//	if err != nil {
+//		// the spectrum is invalid or no mask line falls inside it
+//	}
+//	fmt.Println(r.RV.Value, r.RV.Sigma, r.BIS.Value, r.SIndex.Err)
+//
+// The CCF (ComputeCCF) is computed order by order with fractional pixel
+// overlap: each mask line is located once by binary search and then walks
+// the few pixels its hole covers at each velocity. Because the CCF is linear
+// in the pixel fluxes, the errors of RV, FWHM, contrast, BIS, the
+// bi-Gaussian ΔV and the per-order RVs are propagated exactly from the pixel
+// errors through the linearised fits, correlations between CCF bins
+// included.
+//
+// Velocities are in m/s, wavelengths in Å (air or vacuum as the Spectrum or
+// Mask says; masks and index bands are converted to the spectrum's scale).
 package indicators
