@@ -29,11 +29,13 @@ type FitResult struct {
 	Params []float64
 	// Sigma holds the Laplace 1σ uncertainty of each parameter, the square
 	// root of the diagonal of the inverse Hessian of −ln posterior in the
-	// natural parameters; zero for fixed parameters, NaN if the Hessian
-	// is not positive definite or NoUncertainty was set.
+	// natural parameters; zero for fixed parameters, NaN for parameters
+	// the data do not constrain (see laplaceCov) or if NoUncertainty was
+	// set.
 	Sigma []float64
 	// Cov is the Laplace covariance of the free parameters (in the order
-	// of Free); nil when unavailable.
+	// of Free); nil when unavailable. Unconstrained parameters have NaN
+	// on the diagonal.
 	Cov *mat.SymDense
 	// Free lists the indices of the fitted parameters.
 	Free []int
@@ -154,23 +156,71 @@ func MAP(lnPost func(p []float64) float64, p0 []float64, positive []bool, s *Fit
 		steps[k] = 1e-4 * math.Max(math.Abs(y0[k]), 1e-3)
 	}
 	h := hessian(nat, y0, steps)
-	var chol mat.Cholesky
-	if chol.Factorize(h) {
-		var cov mat.SymDense
-		if err := chol.InverseTo(&cov); err == nil {
-			res.Cov = &cov
-			for k, i := range free {
-				res.Sigma[i] = math.Sqrt(cov.At(k, k))
+	res.Cov = laplaceCov(h)
+	for k, i := range free {
+		res.Sigma[i] = math.NaN()
+		if res.Cov != nil {
+			if v := res.Cov.At(k, k); v >= 0 {
+				res.Sigma[i] = math.Sqrt(v)
 			}
-		}
-	}
-	if res.Cov == nil {
-		for _, i := range free {
-			res.Sigma[i] = math.NaN()
 		}
 	}
 	res.Evaluations = evals
 	return res, nil
+}
+
+// laplaceCov returns the inverse of the Hessian h of −ln post. When h is
+// not positive definite (a parameter the data do not constrain, or a
+// saddle), the inverse is taken on the subspace of positive curvature and
+// every parameter with weight in the other directions gets a NaN
+// variance, so it is reported as unconstrained rather than falsely
+// precise. It returns nil if no direction has positive curvature.
+func laplaceCov(h *mat.SymDense) *mat.SymDense {
+	var chol mat.Cholesky
+	if chol.Factorize(h) {
+		var cov mat.SymDense
+		if err := chol.InverseTo(&cov); err == nil {
+			return &cov
+		}
+	}
+	var eig mat.EigenSym
+	if !eig.Factorize(h, true) {
+		return nil
+	}
+	vals := eig.Values(nil)
+	var vecs mat.Dense
+	eig.VectorsTo(&vecs)
+	n := len(vals)
+	maxv := 0.0
+	for _, v := range vals {
+		maxv = math.Max(maxv, v)
+	}
+	if !(maxv > 0) {
+		return nil
+	}
+	cov := mat.NewSymDense(n, nil)
+	bad := make([]bool, n)
+	for k, lam := range vals {
+		if lam > 1e-10*maxv {
+			for i := 0; i < n; i++ {
+				for j := 0; j <= i; j++ {
+					cov.SetSym(i, j, cov.At(i, j)+vecs.At(i, k)*vecs.At(j, k)/lam)
+				}
+			}
+			continue
+		}
+		for i := 0; i < n; i++ {
+			if w := vecs.At(i, k); w*w > 1e-6 {
+				bad[i] = true
+			}
+		}
+	}
+	for i, b := range bad {
+		if b {
+			cov.SetSym(i, i, math.NaN())
+		}
+	}
+	return cov
 }
 
 // hessian returns the central finite-difference Hessian of f at x with
