@@ -97,6 +97,9 @@ type ccfPlan struct {
 	dk     []float64   // Doppler factors of the grid
 	h      float64     // half hole width over c
 	npix   int
+	// slab holds the orders' arrays when they came from slabPool.
+	slab    *[]float64
+	allSig2 []float64
 }
 
 // ComputeCCF cross-correlates s with the mask m on the grid set by opts
@@ -130,7 +133,7 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 		return nil, fmt.Errorf("%w: CCF options %+v", ErrBadParameter, o)
 	}
 	m = m.onScale(s.Vacuum)
-	orders := prepareOrders(s)
+	orders, slab := prepareOrdersPooled(s)
 	pixw := medianPixelWidth(s)
 	hole := o.HoleWidth
 	if hole == 0 {
@@ -145,6 +148,7 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 		}
 		vc, fwhm, err := coarseSearch(orders, m, center, search, math.Max(2000, hole), hole)
 		if err != nil {
+			releaseSlab(slab)
 			return nil, fmt.Errorf("%s: %w", s.Name, err)
 		}
 		center = vc
@@ -166,8 +170,12 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 	}
 	plan, err := newPlan(orders, m, v, hole, o.Chunks, len(s.Orders) == 1)
 	if err != nil {
+		releaseSlab(slab)
 		return nil, fmt.Errorf("%s: %w", s.Name, err)
 	}
+	plan.slab = slab
+	// All orders' variances are one contiguous array.
+	plan.allSig2 = (*slab)[:plan.npix]
 	c := plan.run()
 	c.V = v
 	c.HoleWidth = hole
@@ -176,18 +184,38 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 }
 
 func prepareOrders(s *Spectrum) []ccfOrder {
+	orders, _ := prepareOrdersPooled(s)
+	return orders
+}
+
+// slabPool recycles the pixel-geometry arrays of prepareOrdersPooled.
+var slabPool = sync.Pool{New: func() any { return new([]float64) }}
+
+// prepareOrdersPooled computes pixel edges, inverse widths and variances
+// into one array taken from slabPool; the caller may hand the returned slab
+// back with releaseSlab once nothing refers to the orders any more.
+func prepareOrdersPooled(s *Spectrum) ([]ccfOrder, *[]float64) {
 	out := make([]ccfOrder, len(s.Orders))
-	off := 0
 	var total int
 	for i := range s.Orders {
 		total += len(s.Orders[i].Wavelength)
 	}
-	sig2 := make([]float64, total)
+	slab := slabPool.Get().(*[]float64)
+	need := 3*total + len(s.Orders)
+	if cap(*slab) < need {
+		*slab = make([]float64, need)
+	}
+	buf := (*slab)[:need]
+	sig2 := buf[:total]
+	rest := buf[total:]
+	off := 0
 	for i := range s.Orders {
 		ord := &s.Orders[i]
 		wl := ord.Wavelength
 		n := len(wl)
-		e := make([]float64, n+1)
+		e := rest[: n+1 : n+1]
+		iw := rest[n+1 : 2*n+1 : 2*n+1]
+		rest = rest[2*n+1:]
 		if n == 1 {
 			e[0], e[1] = wl[0]*(1-1e-6), wl[0]*(1+1e-6)
 		} else {
@@ -197,20 +225,29 @@ func prepareOrders(s *Spectrum) []ccfOrder {
 			e[0] = wl[0] - 0.5*(wl[1]-wl[0])
 			e[n] = wl[n-1] + 0.5*(wl[n-1]-wl[n-2])
 		}
-		iw := make([]float64, n)
-		s2 := sig2[off : off+n]
 		for x := range iw {
 			iw[x] = 1 / (e[x+1] - e[x])
-			if ord.Err != nil {
-				s2[x] = ord.Err[x] * ord.Err[x]
-			} else {
-				s2[x] = math.Max(ord.Flux[x], 1)
+		}
+		s2 := sig2[off : off+n : off+n]
+		if ord.Err != nil {
+			for x, v := range ord.Err {
+				s2[x] = v * v
+			}
+		} else {
+			for x, f := range ord.Flux {
+				s2[x] = math.Max(f, 1)
 			}
 		}
 		out[i] = ccfOrder{edges: e, invw: iw, flux: ord.Flux, sig2: s2, offset: off}
 		off += n
 	}
-	return out
+	return out, slab
+}
+
+func releaseSlab(slab *[]float64) {
+	if slab != nil {
+		slabPool.Put(slab)
+	}
 }
 
 // medianPixelWidth returns the median of c·Δλ/λ over (a sample of) pixels.
@@ -502,15 +539,14 @@ var scratchPool = sync.Pool{New: func() any { return new([]float64) }}
 
 // sig2 returns the pixel variances in the global pixel numbering.
 func (p *ccfPlan) sig2() []float64 {
-	last := p.orders[len(p.orders)-1]
-	all := last.sig2[:0:0]
-	if cap(p.orders[0].sig2) >= last.offset+len(last.sig2) {
-		// prepareOrders allocates all orders in one array.
-		return p.orders[0].sig2[:last.offset+len(last.sig2)]
+	if p.allSig2 != nil {
+		return p.allSig2
 	}
+	var all []float64
 	for _, o := range p.orders {
 		all = append(all, o.sig2...)
 	}
+	p.allSig2 = all
 	return all
 }
 

@@ -693,8 +693,19 @@ func imageRows(data []byte, sp hduSpan, h header) ([][]float64, error) {
 	for r := range rows {
 		rows[r] = all[r*npix : (r+1)*npix : (r+1)*npix]
 	}
-	for i := range all {
-		all[i] = decodeValue(raw[i*size:], sp.bitpix)*bscale + bzero
+	switch {
+	case sp.bitpix == -32 && bscale == 1 && bzero == 0:
+		for i := range all {
+			all[i] = float64(math.Float32frombits(binary.BigEndian.Uint32(raw[4*i:])))
+		}
+	case sp.bitpix == -64 && bscale == 1 && bzero == 0:
+		for i := range all {
+			all[i] = math.Float64frombits(binary.BigEndian.Uint64(raw[8*i:]))
+		}
+	default:
+		for i := range all {
+			all[i] = decodeValue(raw[i*size:], sp.bitpix)*bscale + bzero
+		}
 	}
 	return rows, nil
 }

@@ -142,6 +142,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 		e := failed(ErrNotRequested)
 		r.SIndex, r.LogRHK, r.HAlpha, r.NaD = e, e, e, e
 		if ccf != nil {
+			releaseSlab(ccf.plan.slab)
 			ccf.plan = nil
 		}
 		return r, err
@@ -168,8 +169,9 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	r.HAlpha = est(hAlpha(s, orders, restV, opts.HAlphaWidth))
 	r.NaD = est(naD(s, orders, restV))
 	if ccf != nil {
-		// The plan holds pixel-sized arrays; do not keep them alive with
-		// the result.
+		// The plan holds pixel-sized arrays; recycle them rather than keep
+		// them alive with the result.
+		releaseSlab(ccf.plan.slab)
 		ccf.plan = nil
 	}
 	return r, err
