@@ -180,27 +180,9 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 	var failures []MeasureFailure
 	mask := opts.Mask
 	if mask == nil {
-		n := opts.MaskSpectra
-		if n == 0 {
-			n = 20
-		}
-		var specs []*indicators.Spectrum
-		for _, p := range paths {
-			if len(specs) == n {
-				break
-			}
-			s, err := readSpectrum(p, opts)
-			if err != nil {
-				continue // reported by the measuring pass
-			}
-			specs = append(specs, s)
-		}
-		if len(specs) == 0 {
-			return nil, nil, fmt.Errorf("%w: no spectrum could be read to build a mask", ErrNoSpectra)
-		}
-		m, err := indicators.BuildMask(specs, opts.MaskOptions)
+		m, err := BuildMask(paths, opts)
 		if err != nil {
-			return nil, nil, fmt.Errorf("building a mask: %w", err)
+			return nil, nil, err
 		}
 		mask = m
 	}
@@ -298,6 +280,39 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 		}
 	}
 	return ser, failures, nil
+}
+
+// BuildMask builds a line mask from the first opts.MaskSpectra (default 20)
+// readable files of paths with indicators.BuildMask and opts.MaskOptions,
+// as Measure does when opts.Mask is nil. Files that cannot be read are
+// skipped here (Measure reports them).
+func BuildMask(paths []string, opts *MeasureOptions) (*indicators.Mask, error) {
+	if opts == nil {
+		opts = &MeasureOptions{}
+	}
+	n := opts.MaskSpectra
+	if n == 0 {
+		n = 20
+	}
+	var specs []*indicators.Spectrum
+	for _, p := range paths {
+		if len(specs) == n {
+			break
+		}
+		s, err := readSpectrum(p, opts)
+		if err != nil {
+			continue
+		}
+		specs = append(specs, s)
+	}
+	if len(specs) == 0 {
+		return nil, fmt.Errorf("%w: no spectrum could be read to build a mask", ErrNoSpectra)
+	}
+	m, err := indicators.BuildMask(specs, opts.MaskOptions)
+	if err != nil {
+		return nil, fmt.Errorf("building a mask: %w", err)
+	}
+	return m, nil
 }
 
 // readSpectrum reads one file and applies the side table.
