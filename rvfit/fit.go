@@ -72,7 +72,8 @@ type FitResult struct {
 	// ln Z ≈ ln L(θ̂) + ln π(θ̂) + (d/2) ln 2π − ½ ln det H (METHODS.md §9,
 	// common practice); 0 when HessianOK is false.
 	LogEvidence float64 `json:"log_evidence_laplace"`
-	// Time, Residuals (observed − model, m/s) and RVErr per epoch;
+	// Time, Residuals (observed − Keplerians − offsets, m/s; a GP noise
+	// model's prediction is not subtracted) and RVErr per epoch;
 	// ResidualRMS is their unweighted rms.
 	Time        []float64 `json:"time"`
 	Residuals   []float64 `json:"residuals"`
