@@ -91,3 +91,28 @@ func TestCCFEchelle(t *testing.T) {
 		t.Errorf("%d line placements, want more than the 500 lines", r.CCF.Lines)
 	}
 }
+
+func TestCCFScaleConversion(t *testing.T) {
+	// A vacuum mask on an air spectrum is converted to air (Morton 2000):
+	// the RV agrees with the all-vacuum measurement to the dispersion of
+	// the refractive index across a line (≈ 0.03 m/s; common practice),
+	// where mixing the scales unconverted would shift it by ≈ 83 km/s
+	// (METHODS.md §1).
+	rng := rand.New(rand.NewPCG(1, 1))
+	st := newSynthStar(rng, 4500, 5900, 2e-6, 500, 1e4)
+	st.vacuum = true
+	vac := st.spectrum(2000)
+	air := ToAir(vac)
+	m := st.mask()
+	rv, err := Measure(vac, m, &Options{NoIndices: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ra, err := Measure(air, m, &Options{NoIndices: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(ra.RV.Value-rv.RV.Value) > 0.1 {
+		t.Errorf("air spectrum with vacuum mask: RV %.4f, vacuum %.4f", ra.RV.Value, rv.RV.Value)
+	}
+}
