@@ -573,3 +573,18 @@ func nFree(x []float64, logp func([]float64) float64, sc []float64) int {
 	}
 	return n
 }
+
+// ResidualSeries returns the fit's residuals as a Series (RV = residual,
+// same times, errors and instruments, no indicators), ready for Scan: the
+// periodogram of what the fitted orbits leave behind.
+func (r *FitResult) ResidualSeries() *Series {
+	s := &Series{Name: "residuals", Time: append([]float64(nil), r.Time...), RV: append([]float64(nil), r.Residuals...), RVErr: append([]float64(nil), r.RVErr...)}
+	for i := range r.Time {
+		in := DefaultInstrument
+		if r.model != nil {
+			in = r.model.instr[r.model.inst[i]]
+		}
+		s.Instrument = append(s.Instrument, in)
+	}
+	return s
+}

@@ -97,6 +97,14 @@ func TestFitModelTwoPlanets(t *testing.T) {
 			t.Errorf("planet %d: P %g ± %g (truth %g), K %g ± %g (truth %g)", i+1, got.P, res.Errors[5*i], want.P, got.K, res.Errors[5*i+1], want.K)
 		}
 	}
+	// Nothing significant is left in the residuals.
+	rs, err := Scan(res.ResidualSeries(), &ScanOptions{Grid: &GridOptions{FMax: 1.2}, MaxSignals: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if fap := rs.RV.Peaks[0].FAP; fap < 0.01 {
+		t.Errorf("residual peak at %g d with FAP %g", rs.RV.Peaks[0].Period, fap)
+	}
 	// Instrument B carries the +30 m/s offset.
 	if d := res.Offsets[0] - res.Offsets[1]; math.Abs(d-30) > 2 {
 		t.Errorf("offsets %v (instruments %v), want B − A = 30", res.Offsets, res.Instruments)
