@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"os"
 	"path/filepath"
 	"runtime"
 	"sort"
@@ -280,6 +281,40 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 		}
 	}
 	return ser, failures, nil
+}
+
+// SpectrumFiles expands a directory or a glob pattern into the spectrum
+// files to measure, sorted: a directory gives its files ending in .fits,
+// .fit, .fts, .txt, .dat or .csv (case-insensitive; not recursive), anything
+// else is taken as a filepath.Glob pattern. No match is an error wrapping
+// ErrNoSpectra.
+func SpectrumFiles(dirOrGlob string) ([]string, error) {
+	var out []string
+	if fi, err := os.Stat(dirOrGlob); err == nil && fi.IsDir() {
+		ents, err := os.ReadDir(dirOrGlob)
+		if err != nil {
+			return nil, err
+		}
+		for _, e := range ents {
+			switch strings.ToLower(filepath.Ext(e.Name())) {
+			case ".fits", ".fit", ".fts", ".txt", ".dat", ".csv":
+				if !e.IsDir() {
+					out = append(out, filepath.Join(dirOrGlob, e.Name()))
+				}
+			}
+		}
+	} else {
+		m, err := filepath.Glob(dirOrGlob)
+		if err != nil {
+			return nil, fmt.Errorf("%q: %w", dirOrGlob, err)
+		}
+		out = m
+	}
+	if len(out) == 0 {
+		return nil, fmt.Errorf("%q: %w: no spectrum files", dirOrGlob, ErrNoSpectra)
+	}
+	sort.Strings(out)
+	return out, nil
 }
 
 // BuildMask builds a line mask from the first opts.MaskSpectra (default 20)

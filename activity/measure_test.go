@@ -243,6 +243,25 @@ func TestMeasureSideTable(t *testing.T) {
 	}
 }
 
+func TestSpectrumFiles(t *testing.T) {
+	dir := t.TempDir()
+	for _, n := range []string{"b.fits", "a.FITS", "c.txt", "notes.md"} {
+		os.WriteFile(filepath.Join(dir, n), []byte("x"), 0o644)
+	}
+	got, err := SpectrumFiles(dir)
+	want := []string{filepath.Join(dir, "a.FITS"), filepath.Join(dir, "b.fits"), filepath.Join(dir, "c.txt")}
+	if err != nil || !reflect.DeepEqual(got, want) {
+		t.Errorf("dir: %v, %v", got, err)
+	}
+	got, err = SpectrumFiles(filepath.Join(dir, "*.fits"))
+	if err != nil || len(got) != 1 {
+		t.Errorf("glob: %v, %v", got, err)
+	}
+	if _, err := SpectrumFiles(filepath.Join(dir, "*.none")); !errors.Is(err, ErrNoSpectra) {
+		t.Errorf("no match: err = %v", err)
+	}
+}
+
 func mustMask(t testing.TB) *indicators.Mask {
 	m, err := indicators.NewMask([]float64{5000, 5100}, []float64{1, 1}, false)
 	if err != nil {
