@@ -57,9 +57,11 @@ type FitResult struct {
 	HessianOK  bool        `json:"hessian_ok"`
 	// Planets holds the orbits in physical parameters.
 	Planets []PlanetFit `json:"planets"`
-	// Instruments, Offsets (m/s) and NoiseParams describe the rest of θ̂.
+	// Instruments, Offsets (m/s), Trend (m/s/d, m/s/d² about
+	// Model.RefTime) and NoiseParams describe the rest of θ̂.
 	Instruments []string  `json:"instruments"`
 	Offsets     []float64 `json:"offsets"`
+	Trend       []float64 `json:"trend"`
 	NoiseParams []float64 `json:"noise_params"`
 	// LogLikelihood, LogPrior and LogPosterior are evaluated at θ̂.
 	LogLikelihood float64 `json:"log_likelihood"`
@@ -294,7 +296,10 @@ func (m *Model) startVector(s *Series, cands [][]seedPeak, st int, rng *rand.Ran
 	}
 	// Noise: white-noise jitter from the excess scatter; otherwise the
 	// prior's centre (or a draw when unbounded).
-	nb := base + len(m.instr)
+	nb := m.noiseStart()
+	for i := base + len(m.instr); i < nb; i++ {
+		x[i] = 0 // trends start flat
+	}
 	_, white := m.noise.(*WhiteNoise)
 	var exc float64
 	if white {
@@ -431,7 +436,8 @@ func (m *Model) finish(out *FitResult, theta []float64, mstar float64) {
 	out.ResidualRMS = math.Sqrt(ss / n)
 	base := 5 * m.nPlanets
 	out.Offsets = append([]float64(nil), theta[base:base+len(m.instr)]...)
-	out.NoiseParams = append([]float64(nil), theta[base+len(m.instr):]...)
+	out.Trend = append([]float64(nil), theta[base+len(m.instr):m.noiseStart()]...)
+	out.NoiseParams = append([]float64(nil), theta[m.noiseStart():]...)
 	for _, kp := range m.Keplerians(theta) {
 		pf := PlanetFit{Keplerian: kp, Tc: kp.Tc(), OmegaDeg: kp.Omega * 180 / math.Pi}
 		pf.Tc = m.wrapTc(pf.Tc, kp.P)

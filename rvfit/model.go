@@ -14,6 +14,9 @@ import (
 //	for each planet n = 1..N: P<n> (d), K<n> (m/s), secosw<n>, sesinw<n>
 //	  (√e cos ω, √e sin ω), tc<n> (BJD_TDB d, time of inferior conjunction);
 //	offset_<instrument> (m/s) for each instrument;
+//	with ModelOptions.Trend ≥ 1, trend1 (m/s/d) and with 2 also trend2
+//	(m/s/d²), a polynomial in t − t_ref (t_ref the middle of the data,
+//	Model.RefTime);
 //	the noise model's parameters (for WhiteNoise: jitter_<instrument>).
 //
 // The eccentricity prior applies to e = secosw² + sesinw²; with uniform ω
@@ -33,6 +36,7 @@ type Model struct {
 	inst    []int
 	tmid    float64
 	tcFree  []bool // tc prior is the default one-period window
+	trend   int
 }
 
 // ModelOptions sets priors and limits. The zero value (or nil) gives the
@@ -54,6 +58,10 @@ type ModelOptions struct {
 	// PMin and PMax bound the default period prior in days; zero means
 	// 1 d and 10 baselines.
 	PMin, PMax float64
+	// Trend is the degree of a polynomial trend added to the model: 0
+	// (none, the zero value), 1 (linear) or 2 (quadratic). Default priors:
+	// uniform within ±3·(RV range)/T^k.
+	Trend int
 }
 
 // NewModel returns the model of nPlanets Keplerians for series s with the
@@ -135,6 +143,15 @@ func NewModel(s *Series, nPlanets int, noise NoiseModel, opts *ModelOptions) (*M
 		m.names = append(m.names, "offset_"+in)
 		m.priors = append(m.priors, Uniform{lo - span, hi + span})
 	}
+	if o.Trend < 0 || o.Trend > 2 {
+		return nil, fmt.Errorf("%w: trend degree %d (want 0, 1 or 2)", ErrBadOption, o.Trend)
+	}
+	m.trend = o.Trend
+	for k := 1; k <= o.Trend; k++ {
+		lim := 3 * span / math.Pow(math.Max(T, 1e-3), float64(k))
+		m.names = append(m.names, "trend"+strconv.Itoa(k))
+		m.priors = append(m.priors, Uniform{-lim, lim})
+	}
 	nn := noise.NumParams()
 	names := noise.ParamNames()
 	if len(names) != nn {
@@ -201,6 +218,13 @@ func stddev(x []float64) float64 {
 	return math.Sqrt(s / float64(len(x)))
 }
 
+// noiseStart returns the index of the first noise parameter in θ.
+func (m *Model) noiseStart() int { return 5*m.nPlanets + len(m.instr) + m.trend }
+
+// RefTime returns t_ref, the middle of the data's time span (BJD_TDB d),
+// the origin of the trend polynomial.
+func (m *Model) RefTime() float64 { return m.tmid }
+
 // NumParams returns the length of θ.
 func (m *Model) NumParams() int { return len(m.names) }
 
@@ -260,7 +284,7 @@ func (m *Model) LogPrior(theta []float64) float64 {
 }
 
 // Predict returns the model velocities (Keplerians plus the offset of each
-// epoch's instrument) at the data epochs, in m/s.
+// epoch's instrument plus any trend) at the data epochs, in m/s.
 func (m *Model) Predict(theta []float64) []float64 {
 	out := make([]float64, len(m.t))
 	m.predict(out, theta)
@@ -269,8 +293,17 @@ func (m *Model) Predict(theta []float64) []float64 {
 
 func (m *Model) predict(dst, theta []float64) {
 	off := theta[5*m.nPlanets : 5*m.nPlanets+len(m.instr)]
+	tr := theta[5*m.nPlanets+len(m.instr) : m.noiseStart()]
 	for i := range dst {
 		dst[i] = off[m.inst[i]]
+		if len(tr) > 0 {
+			x := m.t[i] - m.tmid
+			v := tr[0] * x
+			if len(tr) > 1 {
+				v += tr[1] * x * x
+			}
+			dst[i] += v
+		}
 	}
 	for _, k := range m.Keplerians(theta) {
 		k.AddRV(dst, m.t)
@@ -308,7 +341,7 @@ func (m *Model) LogLikelihood(theta []float64) (float64, error) {
 		}
 	}
 	r := m.Residuals(theta)
-	return m.noise.LogLikelihood(m.t, r, m.v, m.inst, theta[5*m.nPlanets+len(m.instr):])
+	return m.noise.LogLikelihood(m.t, r, m.v, m.inst, theta[m.noiseStart():])
 }
 
 // LogPosterior returns ln π(θ) + ln L(θ) (unnormalised), −Inf where the
