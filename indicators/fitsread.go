@@ -881,13 +881,6 @@ func isoToJD(v string) (float64, error) {
 	return 0, fmt.Errorf("%w: %q is not an ISO 8601 date", ErrBadKeyword, v)
 }
 
-// errorsAs is errors.As for *FileError, used by callers in this package.
-func asFileError(err error) (*FileError, bool) {
-	var fe *FileError
-	ok := errors.As(err, &fe)
-	return fe, ok
-}
-
 // commentary collects the COMMENT and HISTORY cards of an HDU's header into
 // dst, one line per card joined by newlines.
 func commentary(data []byte, sp hduSpan, dst map[string]string) {

@@ -144,13 +144,3 @@ func (s *Spectrum) Clone() *Spectrum {
 	}
 	return &c
 }
-
-// sigma returns the one-sigma error of pixel i: Err[i] when given, else
-// the photon noise sqrt(max(Flux[i], 1)) (at least one electron, so that a
-// zero-flux pixel never gets zero weight-free variance).
-func (o *Order) sigma(i int) float64 {
-	if o.Err != nil {
-		return o.Err[i]
-	}
-	return math.Sqrt(math.Max(o.Flux[i], 1))
-}
