@@ -302,7 +302,7 @@ func TestMeasureSimulatedSpots(t *testing.T) {
 		t.Fatal(err)
 	}
 	n := res.Len()
-	var rv, bis, fwhm, s, tBIS, tFWHM, tS, fac, tRV []float64
+	var rv, bis, fwhm, s, tBIS, tFWHM, tS, fac, tRV, spot []float64
 	err = res.EachSpectrum(0, func(i int, sp *indicators.Spectrum) error {
 		m, err := indicators.Measure(sp, mask, &indicators.Options{SCalibration: &indicators.SIndexCalibration{A: 19.2}})
 		if err != nil {
@@ -321,6 +321,7 @@ func TestMeasureSimulatedSpots(t *testing.T) {
 		tS = append(tS, e.TrueSIndex)
 		fac = append(fac, e.FaculaFilling)
 		tRV = append(tRV, e.ActivityRV)
+		spot = append(spot, e.SpotFilling)
 		return nil
 	})
 	if err != nil {
@@ -331,6 +332,7 @@ func TestMeasureSimulatedSpots(t *testing.T) {
 	}
 	// The simulator's own noise-free RV–BIS correlation for this star
 	// (faculae and convective blueshift dilute the spot signal).
+	t.Logf("FWHM vs spot filling r = %.3f, vs facular filling r = %.3f, vs spot+facula r = %.3f", pearson(fwhm, spot), pearson(fwhm, fac), pearson(fwhm, add(spot, fac)))
 	rTrue := pearson(tRV, tBIS)
 	t.Logf("simulator truth: RV vs BIS r = %.3f", rTrue)
 	if rTrue >= 0 {
@@ -354,6 +356,14 @@ func TestMeasureSimulatedSpots(t *testing.T) {
 			t.Errorf("%s: correlation %.3f, want in [%.2f, %.2f]", c.name, r, c.lo, c.hi)
 		}
 	}
+}
+
+func add(x, y []float64) []float64 {
+	z := make([]float64, len(x))
+	for i := range x {
+		z[i] = x[i] + y[i]
+	}
+	return z
 }
 
 func pearson(x, y []float64) float64 {
