@@ -57,6 +57,11 @@ func totalWeight() float64 {
 		w.Chromaticity.max()
 }
 
+// IndicatorAlpha is the family-wise level (Holm-corrected) at which an
+// indicator's power at the signal's period, or its correlation with the
+// fitted signal, counts as activity.
+const IndicatorAlpha = 0.001
+
 // VerdictThreshold is the |score| above which a significant signal gets a
 // verdict other than inconclusive.
 const VerdictThreshold = 0.2
