@@ -193,6 +193,16 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
+	if workers > 1 && len(paths) > 1 {
+		// The pool already keeps the cores busy: measure each spectrum on
+		// its own goroutine (same results, less work).
+		var co indicators.CCFOptions
+		if iopts.CCF != nil {
+			co = *iopts.CCF
+		}
+		co.Serial = true
+		iopts.CCF = &co
+	}
 	type item struct {
 		res        *indicators.Result
 		instrument string

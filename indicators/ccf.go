@@ -30,6 +30,11 @@ type CCFOptions struct {
 	// velocity. The zero value means the median velocity width of the
 	// spectrum's pixels.
 	HoleWidth float64
+	// Serial reports whether the CCF and its error propagation run on the
+	// calling goroutine only; by default they use two goroutines. Set it
+	// when many spectra are measured in parallel already. Results do not
+	// depend on it.
+	Serial bool
 	// Chunks is the number of pseudo-orders, equal in ln λ, that a
 	// one-order spectrum is cut into for per-order RVs and the chromatic
 	// slope. The zero value means 10; 1 disables the split. Multi-order
@@ -97,6 +102,9 @@ type ccfPlan struct {
 	dk     []float64   // Doppler factors of the grid
 	h      float64     // half hole width over c
 	npix   int
+	// serial reports whether run and propagate stay on the calling
+	// goroutine.
+	serial bool
 	// slab holds the orders' arrays when they came from slabPool.
 	slab    *[]float64
 	allSig2 []float64
@@ -174,6 +182,7 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 		return nil, fmt.Errorf("%s: %w", s.Name, err)
 	}
 	plan.slab = slab
+	plan.serial = o.Serial
 	// All orders' variances are one contiguous array.
 	plan.allSig2 = (*slab)[:plan.npix]
 	c := plan.run()
@@ -329,7 +338,7 @@ func (p *ccfPlan) run() *CCF {
 	wsum := make([]float64, nseg)
 	// Two goroutines, each owning whole segments.
 	split := len(p.places)
-	if nseg > 1 {
+	if nseg > 1 && !p.serial {
 		split = len(p.places) / 2
 		for split < len(p.places) && p.places[split].seg == p.places[split-1].seg {
 			split++
@@ -411,6 +420,11 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 	}
 	vq = make([]float64, propQ)
 	vs = make([]float64, len(sg))
+	if p.serial {
+		a := p.propagate6([6][]float64{g[0], g[1], g[2], g[3], g[4], nil}, sg, vs)
+		copy(vq, a[:propQ])
+		return vq, vs
+	}
 	var wg sync.WaitGroup
 	wg.Add(1)
 	go func() {
@@ -517,6 +531,113 @@ func (p *ccfPlan) propagate3(g [3][]float64, sg [][]float64, vs []float64) [3]fl
 				hx[0] += t * gq[0]
 				hx[1] += t * gq[1]
 				hx[2] += t * gq[2]
+			}
+			if off+x > segHi {
+				segHi = off + x
+			}
+		}
+	}
+	if sg != nil && curSeg >= 0 {
+		flushSeg(segHi)
+		curSeg = -1
+	}
+	flushTo(p.npix)
+	scratchPool.Put(buf)
+	return acc
+}
+
+// propagate6 is propagate3 with six slots (five quantities and the
+// segments) in one pass, for serial use.
+func (p *ccfPlan) propagate6(g [6][]float64, sg [][]float64, vs []float64) [6]float64 {
+	const nq = 6
+	buf := scratchPool.Get().(*[]float64)
+	if len(*buf) < p.npix*nq {
+		*buf = make([]float64, p.npix*nq)
+	}
+	h := (*buf)[:p.npix*nq]
+	sig2 := p.sig2()
+	var acc [6]float64
+	lo, hi := 1-p.h, 1+p.h
+	nk := len(p.dk)
+	gk := make([]float64, nk*nq)
+	nqTot := nq
+	if sg != nil {
+		nqTot = 5 // the last slot is flushed per segment
+	}
+	low := 0 // pixels below low are flushed
+	curSeg := -1
+	flushTo := func(x1 int) {
+		for x := low; x < x1; x++ {
+			hx := (*[nq]float64)(h[x*nq : x*nq+nq])
+			s2 := sig2[x]
+			for q := 0; q < nqTot; q++ {
+				acc[q] += s2 * hx[q] * hx[q]
+			}
+			if sg != nil && curSeg >= 0 {
+				vs[curSeg] += s2 * hx[5] * hx[5]
+			}
+			*hx = [nq]float64{}
+		}
+		if x1 > low {
+			low = x1
+		}
+	}
+	// flushSeg squares and clears the segment slot over [low, to).
+	flushSeg := func(to int) {
+		for x := low; x < to; x++ {
+			v := h[x*nq+5]
+			vs[curSeg] += sig2[x] * v * v
+			h[x*nq+5] = 0
+		}
+	}
+	segHi := 0
+	for _, pl := range p.places {
+		o := &p.orders[pl.order]
+		e, iw := o.edges, o.invw
+		off := o.offset
+		if int(pl.seg) != curSeg || curSeg < 0 {
+			if sg != nil && curSeg >= 0 {
+				flushSeg(segHi)
+			}
+			curSeg = int(pl.seg)
+			for k := 0; k < nk; k++ {
+				for q := 0; q < nq; q++ {
+					if g[q] != nil {
+						gk[k*nq+q] = g[q][k]
+					}
+				}
+				if sg != nil {
+					gk[k*nq+5] = sg[curSeg][k]
+				}
+			}
+		}
+		flushTo(off + int(pl.start))
+		w := pl.weight
+		x0 := int(pl.start)
+		for k, d := range p.dk {
+			a := pl.lambda * d * lo
+			b := pl.lambda * d * hi
+			for e[x0+1] <= a {
+				x0++
+			}
+			gq := (*[nq]float64)(gk[k*nq : k*nq+nq])
+			x := x0
+			for ; e[x] < b; x++ {
+				l, r := e[x], e[x+1]
+				if a > l {
+					l = a
+				}
+				if b < r {
+					r = b
+				}
+				t := w * (r - l) * iw[x]
+				hx := (*[nq]float64)(h[(off+x)*nq : (off+x)*nq+nq])
+				hx[0] += t * gq[0]
+				hx[1] += t * gq[1]
+				hx[2] += t * gq[2]
+				hx[3] += t * gq[3]
+				hx[4] += t * gq[4]
+				hx[5] += t * gq[5]
 			}
 			if off+x > segHi {
 				segHi = off + x

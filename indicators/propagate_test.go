@@ -34,6 +34,20 @@ func TestPropagateExact(t *testing.T) {
 		}
 	}
 	vq, vs := p.propagate(g, sg)
+	// The serial one-pass version gives the same bits.
+	p.serial = true
+	vq1, vs1 := p.propagate(g, sg)
+	p.serial = false
+	for q := range vq {
+		if vq1[q] != vq[q] {
+			t.Errorf("quantity %d: serial %v, parallel %v", q, vq1[q], vq[q])
+		}
+	}
+	for i := range vs {
+		if vs1[i] != vs[i] {
+			t.Errorf("segment %d: serial %v, parallel %v", i, vs1[i], vs[i])
+		}
+	}
 	want := make([]float64, propQ)
 	wantS := make([]float64, len(sg))
 	o := &p.orders[0]
