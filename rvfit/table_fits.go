@@ -187,24 +187,73 @@ func WriteFITSTable(w io.Writer, s *Series, opts *WriteOptions) error {
 	if err := s.checkWritable(); err != nil {
 		return err
 	}
-	for i, in := range s.Instrument {
-		if len(in) > instrumentWidth {
-			return fmt.Errorf("%w: instrument label %q at epoch %d is longer than %d characters", ErrBadFormat, in, i+1, instrumentWidth)
-		}
-		if !isFITSText(in) {
-			return fmt.Errorf("%w: instrument label %q at epoch %d is not printable ASCII", ErrBadFormat, in, i+1)
+	var cols []FITSColumn
+	for _, c := range s.columnsOf() {
+		if c.v == nil {
+			cols = append(cols, FITSColumn{Name: c.name, Text: s.Instrument, Width: instrumentWidth})
+		} else {
+			cols = append(cols, FITSColumn{Name: c.name, Unit: c.unit, Float: c.v})
 		}
 	}
+	return WriteFITSColumns(w, FITSExtName, "per-epoch time series", cols, [][3]string{
+		{"TIMESYS", "TDB", "time scale of the time column"},
+		{"TIMEREF", "SOLARSYSTEM", "times are barycentric (BJD_TDB)"},
+		{"TIMEUNIT", "d", "unit of the time column"},
+	}, opts)
+}
+
+// FITSColumn is one column of a FITS binary table written by
+// WriteFITSColumns: either Float (written as 'D', NaN allowed) or Text
+// (written as 'wA' with w = Width, the longest text if Width is 0).
+type FITSColumn struct {
+	Name, Unit string
+	Float      []float64
+	Text       []string
+	Width      int
+}
+
+// WriteFITSColumns writes a FITS file with an empty primary HDU and one
+// binary table HDU named extname of the given columns (all of one length),
+// with extra header keywords (key, string value, comment) and CREATOR from
+// opts. Text must be printable ASCII and no longer than the column's width;
+// names, units and keyword values short printable ASCII. The output passes
+// fitsverify.
+func WriteFITSColumns(w io.Writer, extname, what string, cols []FITSColumn, keywords [][3]string, opts *WriteOptions) error {
 	creator := opts.creator()
 	if !isFITSText(creator) || len(creator) > 60 {
 		return fmt.Errorf("%w: creator %q is not short printable ASCII", ErrBadFormat, creator)
 	}
-	out := s.columnsOf()
-	for _, c := range out {
-		if !isFITSText(c.name) || len(c.name) > 60 || !isFITSText(c.unit) || len(c.unit) > 60 {
-			return fmt.Errorf("%w: column %q (unit %q) is not short printable ASCII", ErrBadFormat, c.name, c.unit)
+	nrows := -1
+	rowLen := 0
+	for j := range cols {
+		c := &cols[j]
+		if !isFITSText(c.Name) || len(c.Name) > 60 || c.Name == "" || !isFITSText(c.Unit) || len(c.Unit) > 60 {
+			return fmt.Errorf("%w: column %q (unit %q) is not short printable ASCII", ErrBadFormat, c.Name, c.Unit)
 		}
+		n := len(c.Float)
+		if c.Float == nil {
+			n = len(c.Text)
+			width := c.Width
+			for i, t := range c.Text {
+				if !isFITSText(t) {
+					return fmt.Errorf("%w: column %q row %d: %q is not printable ASCII", ErrBadFormat, c.Name, i+1, t)
+				}
+				if c.Width > 0 && len(t) > c.Width {
+					return fmt.Errorf("%w: column %q row %d: %q is longer than %d characters", ErrBadFormat, c.Name, i+1, t, c.Width)
+				}
+				width = max(width, len(t))
+			}
+			c.Width = max(width, 1)
+			rowLen += c.Width
+		} else {
+			rowLen += 8
+		}
+		if nrows >= 0 && n != nrows {
+			return fmt.Errorf("%w: column %q has %d rows, others %d", ErrMismatch, c.Name, n, nrows)
+		}
+		nrows = n
 	}
+	nrows = max(nrows, 0)
 	var hb fitsHeader
 	hb.logical("SIMPLE", true, "conforms to the FITS standard")
 	hb.integer("BITPIX", 8, "no data in the primary HDU")
@@ -214,61 +263,57 @@ func WriteFITSTable(w io.Writer, s *Series, opts *WriteOptions) error {
 	if _, err := w.Write(hb.end()); err != nil {
 		return err
 	}
-	rowLen := 0
-	for _, c := range out {
-		if c.v == nil {
-			rowLen += instrumentWidth
-		} else {
-			rowLen += 8
-		}
-	}
 	hb = fitsHeader{}
 	hb.str("XTENSION", "BINTABLE", "binary table extension")
 	hb.integer("BITPIX", 8, "8-bit bytes")
 	hb.integer("NAXIS", 2, "two-dimensional table")
 	hb.integer("NAXIS1", rowLen, "bytes per row")
-	hb.integer("NAXIS2", s.Len(), "rows: one per epoch")
+	hb.integer("NAXIS2", nrows, "rows")
 	hb.integer("PCOUNT", 0, "no heap")
 	hb.integer("GCOUNT", 1, "one group")
-	hb.integer("TFIELDS", len(out), "columns")
-	for j, c := range out {
+	hb.integer("TFIELDS", len(cols), "columns")
+	for j, c := range cols {
 		n := j + 1
-		hb.str(fmt.Sprintf("TTYPE%d", n), c.name, "")
-		if c.v == nil {
-			hb.str(fmt.Sprintf("TFORM%d", n), fmt.Sprintf("%dA", instrumentWidth), "character string")
+		hb.str(fmt.Sprintf("TTYPE%d", n), c.Name, "")
+		if c.Float == nil {
+			hb.str(fmt.Sprintf("TFORM%d", n), fmt.Sprintf("%dA", c.Width), "character string")
 		} else {
 			hb.str(fmt.Sprintf("TFORM%d", n), "D", "double precision")
 		}
-		if c.unit != "" {
-			hb.str(fmt.Sprintf("TUNIT%d", n), c.unit, "")
+		if c.Unit != "" {
+			hb.str(fmt.Sprintf("TUNIT%d", n), c.Unit, "")
 		}
 	}
-	hb.str("EXTNAME", FITSExtName, "per-epoch time series")
+	hb.str("EXTNAME", extname, what)
 	hb.str("CREATOR", creator, "program that wrote this file")
-	hb.str("TIMESYS", "TDB", "time scale of the time column")
-	hb.str("TIMEREF", "SOLARSYSTEM", "times are barycentric (BJD_TDB)")
-	hb.str("TIMEUNIT", "d", "unit of the time column")
+	for _, kw := range keywords {
+		if len(kw[0]) > 8 || !isFITSText(kw[1]) || len(kw[1]) > 60 {
+			return fmt.Errorf("%w: keyword %s = %q", ErrBadFormat, kw[0], kw[1])
+		}
+		hb.str(kw[0], kw[1], kw[2])
+	}
 	if _, err := w.Write(hb.end()); err != nil {
 		return err
 	}
 	row := make([]byte, rowLen)
-	for i := range s.Time {
+	for i := 0; i < nrows; i++ {
 		off := 0
-		for _, c := range out {
-			if c.v == nil {
-				clear(row[off : off+instrumentWidth])
-				copy(row[off:], s.Instrument[i])
-				off += instrumentWidth
+		for _, c := range cols {
+			if c.Float == nil {
+				// Left-justified and NUL-padded, as the FITS standard has it.
+				clear(row[off : off+c.Width])
+				copy(row[off:], c.Text[i])
+				off += c.Width
 				continue
 			}
-			binary.BigEndian.PutUint64(row[off:], math.Float64bits(c.v[i]))
+			binary.BigEndian.PutUint64(row[off:], math.Float64bits(c.Float[i]))
 			off += 8
 		}
 		if _, err := w.Write(row); err != nil {
 			return err
 		}
 	}
-	if pad := (fitsBlock - rowLen*s.Len()%fitsBlock) % fitsBlock; pad > 0 {
+	if pad := (fitsBlock - rowLen*nrows%fitsBlock) % fitsBlock; pad > 0 {
 		if _, err := w.Write(make([]byte, pad)); err != nil {
 			return err
 		}
