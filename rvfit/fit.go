@@ -406,7 +406,7 @@ func (m *Model) optimize(theta0 []float64, maxEval int) ([]float64, float64, int
 	// Nelder–Mead twice (a restart around the first optimum escapes
 	// collapsed simplices), then BFGS to polish.
 	for rep := 0; rep < 2; rep++ {
-		xb, fb, _ := nelderMead(fc, best, maxEval/3, 1e-10, 1e-6)
+		xb, fb, _ := nelderMead(fc, best, maxEval/3, 1e-9, 1e-4)
 		if fb < bestF {
 			best, bestF = xb, fb
 		}
