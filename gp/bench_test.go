@@ -173,9 +173,11 @@ func BenchmarkMultiFit(b *testing.B) {
 	start, _ := truth.WithParams(perturb(truth.Params(nil), fixed, 0.05, rnd))
 	b.Run("series=3,n=300", func(b *testing.B) {
 		for b.Loop() {
-			if _, _, err := FitMulti(start, series, y, &FitSettings{Fixed: fixed}); err != nil {
+			_, res, err := FitMulti(start, series, y, &FitSettings{Fixed: fixed})
+			if err != nil {
 				b.Fatal(err)
 			}
+			b.ReportMetric(float64(res.Evaluations), "evals/op")
 		}
 	})
 }

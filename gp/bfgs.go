@@ -45,7 +45,7 @@ func bfgs(f func([]float64) float64, x0 []float64, maxEval int) ([]float64, bool
 	first := true
 	small := 0
 	for evals < maxEval {
-		if normInf(g) < 1e-6*(1+math.Abs(fx)) {
+		if normInf(g) < 1e-5*(1+math.Abs(fx)) {
 			return x, true
 		}
 		// p = −H g
@@ -101,9 +101,11 @@ func bfgs(f func([]float64) float64, x0 []float64, maxEval int) ([]float64, bool
 		copy(x, xn)
 		copy(g, gn)
 		fx = fn
-		if df <= 1e-10*(1+math.Abs(fx)) {
+		// The objectives here are −ln L: a change below 1e-6 is
+		// statistically irrelevant (and near the finite-difference noise).
+		if df <= 1e-9*(1+math.Abs(fx)) || df < 1e-6 {
 			small++
-			if small >= 3 {
+			if small >= 2 {
 				return x, true
 			}
 		} else {

@@ -147,3 +147,41 @@ func TestSemisepBadInput(t *testing.T) {
 		t.Errorf("short y: %v", err)
 	}
 }
+
+// TestSemisepPredictMean checks the O(N + M) predictive mean against the
+// direct sum K*ᵀα at new times before, between, on and after the epochs.
+func TestSemisepPredictMean(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(1, 1))
+	n := 300
+	ts := make([]float64, n)
+	r := make([]float64, n)
+	for i := range ts {
+		ts[i] = 2459000 + 200*rnd.Float64()
+		r[i] = rnd.NormFloat64()
+	}
+	ts[5] = ts[4]
+	slices.Sort(ts)
+	k := Sum{SHO{1, 0.8, 0.3}, RotationTerm{2, 0.5, 15, 7}, SHO{0.4, 3, 4}}
+	s, err := NewSemisep(k, ts, constSlice(n, 0.1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	tn := []float64{ts[0] - 50, ts[0], ts[4], ts[n-1], ts[n-1] + 3, ts[100] + 0.01}
+	for range 50 {
+		tn = append(tn, ts[0]-10+220*rnd.Float64())
+	}
+	mean, _, err := s.Predict(r, tn, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	alpha, _ := s.Solve(nil, r)
+	for m, x := range tn {
+		var want float64
+		for i, ti := range ts {
+			want += k.Cov(x-ti) * alpha[i]
+		}
+		if math.Abs(mean[m]-want) > 1e-10*(1+math.Abs(want)) {
+			t.Errorf("t* = %.4f: mean %.15g, direct %.15g", x, mean[m], want)
+		}
+	}
+}
