@@ -181,3 +181,24 @@ func BenchmarkMultiFit(b *testing.B) {
 		}
 	})
 }
+
+// BenchmarkNoiseLogLikelihoodGrad times ln L and its analytic gradient for
+// a QP kernel with two instrument jitters (O(N³): the explicit inverse).
+func BenchmarkNoiseLogLikelihoodGrad(b *testing.B) {
+	for _, n := range []int{100, 300} {
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			ts, r, v := benchTimes(n)
+			inst := make([]int, n)
+			for i := range inst {
+				inst[i] = i % 2
+			}
+			m := &Noise{Kernel: QuasiPeriodic{1, 50, 25, 1}, Jitter: []float64{0.5, 1}}
+			g := make([]float64, m.NumParams())
+			for b.Loop() {
+				if _, err := m.LogLikelihoodGrad(g, ts, r, v, inst); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

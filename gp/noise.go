@@ -1,6 +1,7 @@
 package gp
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -12,7 +13,9 @@ type SolverKind int
 const (
 	// AutoSolver (the zero value) uses the semiseparable solver when the
 	// kernel is Celerite, the times are sorted and there are more than
-	// AutoSemisepMin points; otherwise the dense solver.
+	// AutoSemisepMin points; otherwise, or when the semiseparable
+	// factorisation finds the covariance not positive definite, the dense
+	// solver (with its stepped jitter).
 	AutoSolver SolverKind = iota
 	// DenseSolver always uses the dense Cholesky solver.
 	DenseSolver
@@ -156,7 +159,12 @@ func (m *Noise) Factor(t, variance []float64, inst []int) (Solver, error) {
 		if s == nil {
 			return nil, err
 		}
-		return s, err
+		// The semiseparable solver cannot add jitter; under AutoSolver a
+		// numerically singular covariance goes to the dense solver, which
+		// can (and reports it in its Status).
+		if err == nil || m.Solver == SemisepSolver || !errors.Is(err, ErrNotPositiveDefinite) {
+			return s, err
+		}
 	}
 	d, err := NewDense(m.Kernel, t, diag, m.Dense)
 	if d == nil {

@@ -94,6 +94,30 @@ func TestNoiseSolversAgree(t *testing.T) {
 	}
 }
 
+// TestNoiseAutoFallback: repeated epochs without noise make K singular; the
+// automatic choice falls back from the semiseparable to the dense solver,
+// which rescues it with jitter and says so.
+func TestNoiseAutoFallback(t *testing.T) {
+	n := 2 * AutoSemisepMin
+	ts := make([]float64, n)
+	for i := range ts {
+		ts[i] = float64(i / 2) // every epoch twice
+	}
+	m := Noise{Kernel: RotationTerm{1, 0.5, 20, 6}}
+	s, err := m.Factor(ts, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, ok := s.(*Dense)
+	if !ok || d.Status() != JitterAdded {
+		t.Errorf("got %T with status %v, want *Dense with JitterAdded", s, s.Status())
+	}
+	m.Solver = SemisepSolver
+	if _, err := m.Factor(ts, nil, nil); !errors.Is(err, ErrNotPositiveDefinite) {
+		t.Errorf("explicit semisep: %v", err)
+	}
+}
+
 func TestNoiseBadInput(t *testing.T) {
 	m := Noise{Kernel: QuasiPeriodic{2, 30, 11, 0.9}, Jitter: []float64{0.5}}
 	ts := []float64{0, 1, 2}
