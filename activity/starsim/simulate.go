@@ -263,6 +263,13 @@ func (s *sim) profileFit(ws *workspace, cv *coverage, inst int) (GaussFit, error
 
 // buildKernels fills ws.k for coverage cv and instrument inst.
 func (s *sim) buildKernels(ws *workspace, cv *coverage, inst int) {
+	s.buildKernelsFor(ws, cv, inst, 0, math.Inf(1))
+}
+
+// buildKernelsFor fills the kernels synth needs for wavelengths in
+// [lmin, lmax] Å only (the nodes around them and the strong lines whose
+// wings reach them); the others are left as they were.
+func (s *sim) buildKernelsFor(ws *workspace, cv *coverage, inst int, lmin, lmax float64) {
 	st := &s.sc.Star
 	m := s.spec
 	k := &ws.k
@@ -272,7 +279,12 @@ func (s *sim) buildKernels(ws *workspace, cv *coverage, inst int) {
 	if len(k.A) != len(m.nodes) {
 		k.A = make([][]float64, len(m.nodes))
 	}
+	j0, _ := m.nodeOf(math.Max(lmin, m.nodes[0]))
+	j1, _ := m.nodeOf(math.Min(lmax, m.nodes[len(m.nodes)-1]))
 	for j, l := range m.nodes {
+		if j < j0 || j > j1+1 {
+			continue
+		}
 		var wsum float64
 		ws.H, wsum = s.d.histogram(ws.H, s.quietH, s.g, cv, s.contrastsAt(l))
 		k.A[j] = gaussSmooth(k.A[j], ws.H, s.g.h, sig, wsum*sig/st.LineSigma)
@@ -286,6 +298,10 @@ func (s *sim) buildKernels(ws *workspace, cv *coverage, inst int) {
 	half := int(math.Ceil((s.d.vmax+6*sigI)/m.pixVel)) + 1
 	pg := velGrid{h: m.pixVel, half: half}
 	for sIdx := range StrongLines {
+		sl := &StrongLines[sIdx]
+		if wing := 41*sl.Gamma + 10*sl.EmissionSigma; sl.Lambda+wing < lmin || sl.Lambda-wing > lmax {
+			continue
+		}
 		ws.H, _ = s.d.histogram(ws.H, s.quietH, s.g, cv, s.contrastsAt(StrongLines[sIdx].Lambda))
 		ker := k.strong[sIdx]
 		if cap(ker) < pg.len() {
@@ -434,8 +450,9 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 	ep.Emission = s.e0 + s.e1*ep.FaculaFilling
 	sErr := math.NaN()
 	ep.TrueSIndex = math.NaN()
+	m0 := s.spec
 	if s.hasCa {
-		s.buildKernels(ws, &ws.cv, v.inst)
+		s.buildKernelsFor(ws, &ws.cv, v.inst, m0.lam[s.caLo], m0.lam[s.caHi-1])
 		s.spec.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, ep.Emission)
 		ep.TrueSIndex, sErr = s.sIndex(ws.spec, ep.SNR)
 	}
@@ -509,10 +526,22 @@ func errorRatios(p *Profile, g GaussFit) (rFWHM, rBIS float64) {
 	rFWHM = fwhmSig * math.Sqrt(col[3][3]) / sRV
 	q := &Profile{Velocity: p.Velocity, Flux: append([]float64(nil), p.Flux...)}
 	b0 := q.BIS()
+	fmin := 1.0
+	for _, f := range q.Flux {
+		fmin = math.Min(fmin, f)
+	}
+	// Bins above the 5 % depth level whose neighbours are too lie outside
+	// every bisector zone and its interpolation (the top zone starts at
+	// 10 %) and do not move the BIS.
+	top := 1 - 0.05*(1-fmin)
+	n := len(q.Flux)
 	const h = 1e-6
 	var vb float64
 	for j := range q.Flux {
 		f := q.Flux[j]
+		if f > top && (j == 0 || q.Flux[j-1] > top) && (j == n-1 || q.Flux[j+1] > top) {
+			continue
+		}
 		q.Flux[j] = f + h
 		d := (q.BIS() - b0) / h
 		q.Flux[j] = f
