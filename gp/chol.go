@@ -53,6 +53,7 @@ func (c *cholesky) factor() bool {
 	}
 	nb := cholNB
 	var pack, packJ []float64
+	invDiag := make([]float64, nb)
 	for j0 := 0; j0 < n; j0 += nb {
 		j1 := min(j0+nb, n)
 		w := j1 - j0
@@ -83,6 +84,9 @@ func (c *cholesky) factor() bool {
 		}
 		packJ = packJ[:w*w]
 		packPanel(packJ, a, ld, j0, j1, j0, w)
+		for jj := 0; jj < w; jj++ {
+			invDiag[jj] = 1 / a[(j0+jj)*ld+j0+jj]
+		}
 		rowTiles := (n - j1 + cholMR - 1) / cholMR
 		par(0, rowTiles, 4, func(t0, t1 int) {
 			for t := t0; t < t1; t++ {
@@ -91,12 +95,23 @@ func (c *cholesky) factor() bool {
 					if q > 0 {
 						gemmTile(q, a[i*ld+j0:], ld, packJ[q*w:], a[i*ld+j0+q:], ld)
 					}
-					for r := i; r < i+cholMR; r++ {
-						ri := a[r*ld+j0 : r*ld+j1]
-						for jj := q; jj < q+cholNR; jj++ {
-							rj := a[(j0+jj)*ld+j0 : (j0+jj)*ld+j0+jj]
-							ri[jj] = (ri[jj] - dot(ri[q:jj], rj[q:jj])) / a[(j0+jj)*ld+j0+jj]
+					// 8×8 triangular solve for the tile's four rows.
+					r0 := a[i*ld+j0 : i*ld+j1]
+					r1 := a[(i+1)*ld+j0 : (i+1)*ld+j1]
+					r2 := a[(i+2)*ld+j0 : (i+2)*ld+j1]
+					r3 := a[(i+3)*ld+j0 : (i+3)*ld+j1]
+					for jj := q; jj < q+cholNR; jj++ {
+						rj := a[(j0+jj)*ld+j0 : (j0+jj)*ld+j0+jj]
+						s0, s1, s2, s3 := r0[jj], r1[jj], r2[jj], r3[jj]
+						for p := q; p < jj; p++ {
+							l := rj[p]
+							s0 -= r0[p] * l
+							s1 -= r1[p] * l
+							s2 -= r2[p] * l
+							s3 -= r3[p] * l
 						}
+						inv := invDiag[jj]
+						r0[jj], r1[jj], r2[jj], r3[jj] = s0*inv, s1*inv, s2*inv, s3*inv
 					}
 				}
 			}
