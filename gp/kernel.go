@@ -7,7 +7,9 @@ import "fmt"
 // Cov returns k(τ) for a lag τ = t_i − t_j in days; k is even in τ. The
 // hyperparameters form a vector in an order documented by each kernel;
 // Params appends it to dst and WithParams returns a copy of the kernel
-// with a new vector, validating it.
+// with a new vector, validating it. Solvers call Cov from several
+// goroutines at once when filling large matrices, so implementations must
+// be safe for concurrent use (plain value types are).
 type Kernel interface {
 	// Cov returns the covariance at lag tau (days).
 	Cov(tau float64) float64
