@@ -156,3 +156,91 @@ func TestSIndexMatchesIndicators(t *testing.T) {
 		}
 	}
 }
+
+// TestChromaticSlopeByIndicators checks that the spot's chromatic RV
+// reaches the spectra: indicators' chromatic slope (per-order RVs against
+// ln λ, Zechmeister et al. 2018, A&A 609, A12) of a spotted star is
+// anticorrelated with its RV (the cool spot removes more light in the blue,
+// so the blue RV is the larger), while a planet alone leaves the slope
+// unchanged.
+func TestChromaticSlopeByIndicators(t *testing.T) {
+	if testing.Short() {
+		t.Skip("measures 20 full spectra")
+	}
+	run := func(sc *starsim.Scenario) (rv, slope, sigma []float64) {
+		res, err := starsim.Simulate(sc, 4, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		wl, depth := res.LineList()
+		mask, err := indicators.NewMask(wl, depth, false)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := range res.Epochs {
+			sp, err := res.Spectrum(i)
+			if err != nil {
+				t.Fatal(err)
+			}
+			m, err := indicators.Measure(sp, mask, &indicators.Options{NoIndices: true})
+			if err != nil {
+				t.Fatalf("epoch %d: %v", i, err)
+			}
+			if !m.Chromatic.OK() {
+				t.Fatalf("epoch %d: chromatic slope: %v", i, m.Chromatic.Err)
+			}
+			rv = append(rv, m.RV.Value)
+			slope = append(slope, m.Chromatic.Value)
+			sigma = append(sigma, m.Chromatic.Sigma)
+		}
+		return rv, slope, sigma
+	}
+	base := starsim.Scenario{
+		Name:        "chromatic",
+		Star:        starsim.Star{VEq: 6, RotationPeriod: 10},
+		Observing:   starsim.Observing{Start: 2460000, End: 2460009.5, Step: 1},
+		Instruments: []starsim.Instrument{{Name: "A", SNR: 300, Resolution: 100000}},
+		Spectrum:    starsim.SpectrumPlan{Full: true, Pixels: 150000, Lines: 1500},
+	}
+	spotted := base
+	spotted.Activity = starsim.Activity{Regions: []starsim.Region{{SpotArea: 0.02}}, SpotTempDiff: 1200}
+	rv, slope, _ := run(&spotted)
+	r := corr(rv, slope)
+	if r > -0.7 {
+		t.Errorf("spotted star: r(RV, chromatic slope) = %.3f, want < −0.7\nRV %.2f\nslope %.2f", r, rv, slope)
+	}
+	planet := base
+	planet.Planets = []starsim.Planet{{Period: 4.1, K: 30}}
+	prv, pslope, sigma := run(&planet)
+	// A fixed per-order zero point (blends, strong lines) gives a constant
+	// slope; a pure shift must not change it: no correlation with RV and a
+	// scatter about the mean within the errors (χ²/ν < 3).
+	if r := corr(prv, pslope); math.Abs(r) > 0.7 {
+		t.Errorf("planet alone: r(RV, chromatic slope) = %.3f, want |r| < 0.7", r)
+	}
+	var mean, chi2 float64
+	for _, v := range pslope {
+		mean += v / float64(len(pslope))
+	}
+	for i, v := range pslope {
+		chi2 += (v - mean) * (v - mean) / (sigma[i] * sigma[i])
+	}
+	if nu := float64(len(pslope) - 1); chi2/nu > 3 {
+		t.Errorf("planet alone: chromatic slope scatters with χ²/ν = %.2f\nslope %.2f ± %.2f", chi2/nu, pslope, sigma)
+	}
+}
+
+func corr(x, y []float64) float64 {
+	var mx, my, sxy, sxx, syy float64
+	n := float64(len(x))
+	for i := range x {
+		mx += x[i] / n
+		my += y[i] / n
+	}
+	for i := range x {
+		sxy += (x[i] - mx) * (y[i] - my)
+		sxx += (x[i] - mx) * (x[i] - mx)
+		syy += (y[i] - my) * (y[i] - my)
+	}
+	return sxy / math.Sqrt(sxx*syy)
+}
