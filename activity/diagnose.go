@@ -136,7 +136,7 @@ func Diagnose(s *rvfit.Series, opts *Options) (*Diagnosis, error) {
 	}
 	rng := rand.New(rand.NewPCG(o.Seed, 0x5eed))
 
-	diag := &Diagnosis{NEpochs: s.Len(), Baseline: Num(d.T), Caution: Caution}
+	diag := &Diagnosis{NEpochs: s.Len(), Baseline: Num(d.T), Caution: Caution, details: &details{grid: d.grid}}
 	if o.Star != nil {
 		diag.Star = o.Star.Name
 	}
@@ -181,6 +181,8 @@ func Diagnose(s *rvfit.Series, opts *Options) (*Diagnosis, error) {
 		tr.run(&sig)
 		Score(&sig, o.FAPThreshold)
 		diag.Signals = append(diag.Signals, sig)
+		tr.det.freq, tr.det.own, tr.det.comp = sg.freq, own, comp
+		diag.details.signals = append(diag.details.signals, tr.det)
 	}
 	return diag, nil
 }
@@ -345,8 +347,10 @@ type trial struct {
 	rng    *rand.Rand
 	// strongRotation reports whether the period sits at P_rot or P_rot/2.
 	strongRotation bool
-	ev             []Evidence
-	skip           []Skipped
+	// det collects what the report draws.
+	det  signalDetails
+	ev   []Evidence
+	skip []Skipped
 }
 
 func (tr *trial) add(e Evidence) { tr.ev = append(tr.ev, e) }
@@ -721,6 +725,13 @@ func (tr *trial) seasonCoherence() {
 		}
 		a, ae := fit.amplitude(0)
 		parts = append(parts, part{v: [2]float64{fit.A[0], fit.B[0]}, inv: [2][2]float64{{c[1][1] / det, -c[0][1] / det}, {-c[1][0] / det, c[0][0] / det}}, snr: a / ae})
+		ph := math.Atan2(fit.B[0], fit.A[0])
+		phErr := math.NaN()
+		if a > 0 {
+			// First-order error of atan2(B, A).
+			phErr = math.Sqrt(math.Max(0, fit.B[0]*fit.B[0]*c[0][0]+fit.A[0]*fit.A[0]*c[1][1]-2*fit.A[0]*fit.B[0]*c[0][1])) / (a * a)
+		}
+		tr.det.seasons = append(tr.det.seasons, seasonPoint{tMid: 0.5 * (ts[0] + ts[len(ts)-1]), amp: a, ampErr: ae, phase: ph, phaseErr: phErr, n: len(ts)})
 	}
 	if len(parts) < 2 {
 		tr.skipped("season_coherence", "fewer than two parts of the data could be fitted")
@@ -817,6 +828,15 @@ func (tr *trial) stackedGrowth() {
 		}
 		return s / float64(len(c))
 	}
+	sc := &stackedCurve{n0: n0, obs: obs, med: med, lo: make([]float64, m), hi: make([]float64, m)}
+	for j := 0; j < m; j++ {
+		for k := range sims {
+			col[k] = sims[k][j]
+		}
+		sort.Float64s(col)
+		sc.lo[j], sc.hi[j] = col[nsim*16/100], col[nsim*84/100]
+	}
+	tr.det.stacked = sc
 	dobs := dist(obs)
 	exceed := 0
 	for _, c := range sims {

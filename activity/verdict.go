@@ -4,6 +4,8 @@ import (
 	"encoding/json"
 	"math"
 	"strconv"
+
+	"spotsift/rvfit"
 )
 
 // Verdicts of a signal.
@@ -149,4 +151,38 @@ type Diagnosis struct {
 	Notes      []string   `json:"notes,omitempty"`
 	Caution    string     `json:"caution"`
 	Provenance Provenance `json:"provenance"`
+
+	// details holds what the figures need beyond the JSON: nil for a
+	// diagnosis read back from a file.
+	details *details
+}
+
+// details is the working data of a diagnosis that the report draws.
+type details struct {
+	grid    rvfit.Grid
+	signals []signalDetails
+}
+
+// signalDetails is what the tests of one signal computed.
+type signalDetails struct {
+	freq    float64
+	own     []float64 // the signal's own RVs (offsets and other signals removed)
+	comp    []float64 // the fitted sinusoid at each epoch
+	seasons []seasonPoint
+	stacked *stackedCurve
+	gp      *gpModel  // GP + sinusoid model of the model comparison, nil if not run
+	gpFit   *gpResult // its MAP
+}
+
+// seasonPoint is the signal fitted in one season (or half).
+type seasonPoint struct {
+	tMid, amp, ampErr, phase, phaseErr float64
+	n                                  int
+}
+
+// stackedCurve is the power at the signal's frequency against the number
+// of epochs, with the band of the strictly periodic simulations.
+type stackedCurve struct {
+	n0               int
+	obs, lo, med, hi []float64
 }

@@ -69,7 +69,7 @@ replace, the team's scientific judgement.`)
 	}
 	dg.Provenance = provenance(c, append([]string{c.data}, nonEmpty(c.star)...), append([]string{"vet"}, args...))
 	if *out != "" {
-		if err := writeVerdict(*out, dg); err != nil {
+		if err := activity.WriteReport(*out, &activity.Report{Diagnosis: dg, Series: s, Star: star}); err != nil {
 			return fail(e, exitFailed, err)
 		}
 	}
@@ -83,7 +83,7 @@ replace, the team's scientific judgement.`)
 	}
 	printDiagnosis(e.stdout, dg)
 	if *out != "" && !c.quiet {
-		fmt.Fprintf(e.stderr, "spotsift: verdict written to %s\n", filepath.Join(*out, "verdict.json"))
+		fmt.Fprintf(e.stderr, "spotsift: report in %s (open %s)\n", *out, filepath.Join(*out, activity.HTMLFile))
 	}
 	return exitOK
 }
@@ -136,18 +136,6 @@ func hashFile(path string) (string, error) {
 		return "", err
 	}
 	return hex.EncodeToString(h.Sum(nil)), nil
-}
-
-// writeVerdict writes verdict.json into dir.
-func writeVerdict(dir string, dg *activity.Diagnosis) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return err
-	}
-	return rvfit.WriteFileAtomic(filepath.Join(dir, "verdict.json"), func(w io.Writer) error {
-		enc := json.NewEncoder(w)
-		enc.SetIndent("", "  ")
-		return enc.Encode(dg)
-	})
 }
 
 // printDiagnosis writes the readable summary.
