@@ -154,7 +154,7 @@ var (
 
 // Indicator columns written by Measure, in order, with their units.
 var measureColumns = []struct{ name, unit string }{
-	{"fwhm", "m/s"}, {"contrast", ""}, {"bis", "m/s"}, {"delta_v", "m/s"},
+	{"fwhm", "m/s"}, {"contrast", ""}, {"bis", "m/s"}, {"delta_v", "m/s"}, {"vspan", "m/s"},
 	{"s_index", ""}, {"log_rhk", "dex"}, {"halpha", ""}, {"naid", ""},
 	{"chromatic_slope", "m/s"},
 }
@@ -162,7 +162,7 @@ var measureColumns = []struct{ name, unit string }{
 // Measure reads and measures the spectra in paths on a bounded pool of
 // workers and assembles a per-epoch series: time (BJD_TDB from each
 // spectrum), the barycentric RV and its photon-noise error, and the
-// indicator columns fwhm, contrast, bis, delta_v (bi-Gaussian ΔV),
+// indicator columns fwhm, contrast, bis, delta_v (bi-Gaussian ΔV), vspan,
 // s_index, log_rhk, halpha, naid and chromatic_slope, each with its error.
 //
 // A spectrum that cannot be read, has no epoch, or yields no RV is left
@@ -271,7 +271,7 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 		ser.RV = append(ser.RV, r.RV.Value)
 		ser.RVErr = append(ser.RVErr, r.RV.Sigma)
 		ser.Instrument = append(ser.Instrument, items[i].instrument)
-		for c, e := range []indicators.Estimate{r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.SIndex, r.LogRHK, r.HAlpha, r.NaD, r.Chromatic} {
+		for c, e := range []indicators.Estimate{r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.Vspan, r.SIndex, r.LogRHK, r.HAlpha, r.NaD, r.Chromatic} {
 			v, s := e.Value, e.Sigma
 			if e.Err != nil {
 				v, s = math.NaN(), math.NaN()
@@ -425,6 +425,7 @@ func partialError(r *indicators.Result) error {
 	add(r.Contrast)
 	add(r.BIS)
 	add(r.DeltaV)
+	add(r.Vspan)
 	add(r.Chromatic)
 	add(r.SIndex)
 	if r.SIndex.Err == nil && !errors.Is(r.LogRHK.Err, indicators.ErrNoColour) {

@@ -141,7 +141,7 @@ func TestMeasure(t *testing.T) {
 	if math.Abs(ser.RV[0]-20e3) > 2e3 {
 		t.Errorf("absolute RV %.0f m/s, want about 20000", ser.RV[0])
 	}
-	for _, name := range []string{"fwhm", "contrast", "bis", "delta_v", "s_index", "log_rhk", "halpha", "naid", "chromatic_slope"} {
+	for _, name := range []string{"fwhm", "contrast", "bis", "delta_v", "vspan", "s_index", "log_rhk", "halpha", "naid", "chromatic_slope"} {
 		ind := ser.Indicator(name)
 		if ind == nil || ind.Count() != ser.Len() {
 			t.Errorf("indicator %s missing or incomplete: %+v", name, ind)

@@ -195,3 +195,44 @@ func TestBisGradFiniteDifference(t *testing.T) {
 		t.Errorf("∂BIS/∂D = %v, finite difference %v", dD, d)
 	}
 }
+
+func TestLineShapeSigns(t *testing.T) {
+	// A CCF whose red half is wider (σ_R = 3.3 > σ_L = 3.0 km/s): BIS and
+	// Vspan are positive (upper part redder; Queloz et al. 2001 and Boisse
+	// et al. 2011 conventions), while ΔV = RV_biGauss − RV_Gauss
+	// (METHODS.md §3) is negative: the bi-Gaussian centre stays at the core
+	// and the plain Gaussian moves towards the wider, red side. The mirror
+	// image flips all three.
+	v := grid(-30e3, 30e3, 250)
+	for _, sgn := range []float64{1, -1} {
+		sl, sr := 3000.0, 3300.0
+		if sgn < 0 {
+			sl, sr = sr, sl
+		}
+		f := halfGaussian(v, 0, 0.5, sl, sr)
+		y := make([]float64, len(f))
+		for i := range f {
+			y[i] = 1e6 * f[i]
+		}
+		w := ones(len(y))
+		g, err := fitGaussian(v, y, w)
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, _, err := bisGradient(v, y, g, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		vs, _, err := vspanGradient(v, y, w, g)
+		if err != nil {
+			t.Fatal(err)
+		}
+		dv, _, err := biGaussDV(v, y, w, g)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !(sgn*b > 0 && sgn*vs > 0 && sgn*dv < 0) {
+			t.Errorf("sign %v: BIS %.2f, Vspan %.2f, ΔV %.2f m/s", sgn, b, vs, dv)
+		}
+	}
+}

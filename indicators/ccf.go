@@ -413,7 +413,7 @@ func (p *ccfPlan) runPlaces(c *CCF, wsum []float64, places []placement) {
 //
 // exactly, including the correlation between neighbouring CCF bins. It
 // needs exactly propQ quantities. Two goroutines share the work: one takes
-// the first three quantities, the other the rest and the segments.
+// the first three quantities and the segments, the other the rest.
 func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 	if len(g) != propQ {
 		panic("indicators: propagate needs propQ gradients")
@@ -421,7 +421,7 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 	vq = make([]float64, propQ)
 	vs = make([]float64, len(sg))
 	if p.serial {
-		a := p.propagate6([6][]float64{g[0], g[1], g[2], g[3], g[4], nil}, sg, vs)
+		a := p.propagate7([7][]float64{g[0], g[1], g[2], g[3], g[4], g[5], nil}, sg, vs)
 		copy(vq, a[:propQ])
 		return vq, vs
 	}
@@ -429,12 +429,12 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 	wg.Add(1)
 	go func() {
 		defer wg.Done()
-		a := p.propagate3([3][]float64{g[0], g[1], g[2]}, nil, nil)
-		copy(vq[0:3], a[:])
+		b := p.propagate3([3][]float64{g[3], g[4], g[5]}, nil, nil)
+		copy(vq[3:6], b[:])
 	}()
-	b := p.propagate3([3][]float64{g[3], g[4], nil}, sg, vs)
+	a := p.propagate4([4][]float64{g[0], g[1], g[2], nil}, sg, vs)
+	copy(vq[0:3], a[:3])
 	wg.Wait()
-	vq[3], vq[4] = b[0], b[1]
 	return vq, vs
 }
 
@@ -546,23 +546,23 @@ func (p *ccfPlan) propagate3(g [3][]float64, sg [][]float64, vs []float64) [3]fl
 	return acc
 }
 
-// propagate6 is propagate3 with six slots (five quantities and the
-// segments) in one pass, for serial use.
-func (p *ccfPlan) propagate6(g [6][]float64, sg [][]float64, vs []float64) [6]float64 {
-	const nq = 6
+
+// propagate4 is propagate3 with four slots, the last one the segments'.
+func (p *ccfPlan) propagate4(g [4][]float64, sg [][]float64, vs []float64) [4]float64 {
+	const nq = 4
 	buf := scratchPool.Get().(*[]float64)
 	if len(*buf) < p.npix*nq {
 		*buf = make([]float64, p.npix*nq)
 	}
 	h := (*buf)[:p.npix*nq]
 	sig2 := p.sig2()
-	var acc [6]float64
+	var acc [4]float64
 	lo, hi := 1-p.h, 1+p.h
 	nk := len(p.dk)
 	gk := make([]float64, nk*nq)
 	nqTot := nq
 	if sg != nil {
-		nqTot = 5 // the last slot is flushed per segment
+		nqTot = 3 // the last slot is flushed per segment
 	}
 	low := 0 // pixels below low are flushed
 	curSeg := -1
@@ -574,7 +574,7 @@ func (p *ccfPlan) propagate6(g [6][]float64, sg [][]float64, vs []float64) [6]fl
 				acc[q] += s2 * hx[q] * hx[q]
 			}
 			if sg != nil && curSeg >= 0 {
-				vs[curSeg] += s2 * hx[5] * hx[5]
+				vs[curSeg] += s2 * hx[3] * hx[3]
 			}
 			*hx = [nq]float64{}
 		}
@@ -585,9 +585,9 @@ func (p *ccfPlan) propagate6(g [6][]float64, sg [][]float64, vs []float64) [6]fl
 	// flushSeg squares and clears the segment slot over [low, to).
 	flushSeg := func(to int) {
 		for x := low; x < to; x++ {
-			v := h[x*nq+5]
+			v := h[x*nq+3]
 			vs[curSeg] += sig2[x] * v * v
-			h[x*nq+5] = 0
+			h[x*nq+3] = 0
 		}
 	}
 	segHi := 0
@@ -607,7 +607,112 @@ func (p *ccfPlan) propagate6(g [6][]float64, sg [][]float64, vs []float64) [6]fl
 					}
 				}
 				if sg != nil {
-					gk[k*nq+5] = sg[curSeg][k]
+					gk[k*nq+3] = sg[curSeg][k]
+				}
+			}
+		}
+		flushTo(off + int(pl.start))
+		w := pl.weight
+		x0 := int(pl.start)
+		for k, d := range p.dk {
+			a := pl.lambda * d * lo
+			b := pl.lambda * d * hi
+			for e[x0+1] <= a {
+				x0++
+			}
+			gq := (*[nq]float64)(gk[k*nq : k*nq+nq])
+			x := x0
+			for ; e[x] < b; x++ {
+				l, r := e[x], e[x+1]
+				if a > l {
+					l = a
+				}
+				if b < r {
+					r = b
+				}
+				t := w * (r - l) * iw[x]
+				hx := (*[nq]float64)(h[(off+x)*nq : (off+x)*nq+nq])
+				hx[0] += t * gq[0]
+				hx[1] += t * gq[1]
+				hx[2] += t * gq[2]
+				hx[3] += t * gq[3]
+			}
+			if off+x > segHi {
+				segHi = off + x
+			}
+		}
+	}
+	if sg != nil && curSeg >= 0 {
+		flushSeg(segHi)
+		curSeg = -1
+	}
+	flushTo(p.npix)
+	scratchPool.Put(buf)
+	return acc
+}
+
+// propagate7 is propagate3 with seven slots (six quantities and the
+// segments) in one pass, for serial use.
+func (p *ccfPlan) propagate7(g [7][]float64, sg [][]float64, vs []float64) [7]float64 {
+	const nq = 7
+	buf := scratchPool.Get().(*[]float64)
+	if len(*buf) < p.npix*nq {
+		*buf = make([]float64, p.npix*nq)
+	}
+	h := (*buf)[:p.npix*nq]
+	sig2 := p.sig2()
+	var acc [7]float64
+	lo, hi := 1-p.h, 1+p.h
+	nk := len(p.dk)
+	gk := make([]float64, nk*nq)
+	nqTot := nq
+	if sg != nil {
+		nqTot = 6 // the last slot is flushed per segment
+	}
+	low := 0 // pixels below low are flushed
+	curSeg := -1
+	flushTo := func(x1 int) {
+		for x := low; x < x1; x++ {
+			hx := (*[nq]float64)(h[x*nq : x*nq+nq])
+			s2 := sig2[x]
+			for q := 0; q < nqTot; q++ {
+				acc[q] += s2 * hx[q] * hx[q]
+			}
+			if sg != nil && curSeg >= 0 {
+				vs[curSeg] += s2 * hx[6] * hx[6]
+			}
+			*hx = [nq]float64{}
+		}
+		if x1 > low {
+			low = x1
+		}
+	}
+	// flushSeg squares and clears the segment slot over [low, to).
+	flushSeg := func(to int) {
+		for x := low; x < to; x++ {
+			v := h[x*nq+6]
+			vs[curSeg] += sig2[x] * v * v
+			h[x*nq+6] = 0
+		}
+	}
+	segHi := 0
+	for _, pl := range p.places {
+		o := &p.orders[pl.order]
+		e, iw := o.edges, o.invw
+		off := o.offset
+		if int(pl.seg) != curSeg || curSeg < 0 {
+			if sg != nil && curSeg >= 0 {
+				flushSeg(segHi)
+			}
+			curSeg = int(pl.seg)
+			for k := 0; k < nk; k++ {
+				for q := 0; q < nq; q++ {
+					if g[q] != nil {
+						gk[k*nq+q] = g[q][k]
+					}
+				}
+				if sg != nil {
+					gk[k*nq+6] = sg[curSeg][k]
 				}
 			}
 		}
@@ -638,6 +743,7 @@ func (p *ccfPlan) propagate6(g [6][]float64, sg [][]float64, vs []float64) [6]fl
 				hx[3] += t * gq[3]
 				hx[4] += t * gq[4]
 				hx[5] += t * gq[5]
+				hx[6] += t * gq[6]
 			}
 			if off+x > segHi {
 				segHi = off + x
@@ -654,7 +760,7 @@ func (p *ccfPlan) propagate6(g [6][]float64, sg [][]float64, vs []float64) [6]fl
 }
 
 // propQ is the number of CCF quantities whose errors propagate computes.
-const propQ = 5
+const propQ = 6
 
 var scratchPool = sync.Pool{New: func() any { return new([]float64) }}
 

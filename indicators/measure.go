@@ -65,8 +65,15 @@ type Result struct {
 	// DeltaV is the bi-Gaussian asymmetry RV_biGauss − RV_Gauss (Nardetto
 	// et al. 2006, A&A 453, 309; Figueira et al. 2013, A&A 557, A93), with
 	// left and right halves of the profile Gaussians of separate width
-	// sharing centre and depth.
+	// sharing centre and depth. It has the opposite sign to BIS for a
+	// line whose red wing is the wider one.
 	DeltaV Estimate
+	// Vspan is the difference between the centres of Gaussians fitted to
+	// the upper and the lower part of the CCF (Boisse et al. 2011, A&A 528,
+	// A4; from memory): v_high from the points with |v − V0| ≥ σ, v_low from
+	// those with |v − V0| ≤ σ or ≥ 3σ (V0, σ of the full fit). Vspan > 0,
+	// like BIS, when the upper part of the line is redder.
+	Vspan Estimate
 	// PhotonLimit is the CCF-domain photon-noise limit of the RV (Bouchy,
 	// Pepe & Queloz 2001, A&A 374, 733, applied to the Gaussian model of the
 	// CCF; see GaussianFit.PhotonLimit), a cross-check of RV.Sigma.
@@ -97,7 +104,7 @@ type OrderRV struct {
 
 // Measure computes every indicator of one spectrum against the mask m: the
 // CCF (ComputeCCF), its Gaussian fit (RV, FWHM, contrast), the bisector
-// span, the bi-Gaussian ΔV, per-order RVs and their chromatic slope, and
+// span, the bi-Gaussian ΔV, Vspan, per-order RVs and their chromatic slope, and
 // the chromospheric indices (S, log R'HK, H-alpha, Na I D), which are
 // measured in the stellar rest frame given by the CCF RV.
 //
@@ -130,7 +137,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	}
 	if err != nil {
 		e := failed(err)
-		r.RV, r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.Chromatic = e, e, e, e, e, e
+		r.RV, r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.Vspan, r.Chromatic = e, e, e, e, e, e, e
 		r.PhotonLimit = math.NaN()
 	} else {
 		r.CCF = ccf
@@ -188,7 +195,7 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 	g, err := fitGaussian(c.V, c.Value, w)
 	if err != nil {
 		e := failed(fmt.Errorf("%s: CCF Gaussian fit: %w", r.Name, err))
-		r.RV, r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.Chromatic = e, e, e, e, e, e
+		r.RV, r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.Vspan, r.Chromatic = e, e, e, e, e, e, e
 		r.PhotonLimit = math.NaN()
 		return 0, false
 	}
@@ -200,6 +207,7 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 		qContrast
 		qBIS
 		qDV
+		qVspan
 	)
 	grads := make([][]float64, propQ)
 	grads[qRV] = g.dtheta[2]
@@ -219,6 +227,11 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 		dvGrad = make([]float64, nv)
 	}
 	grads[qDV] = dvGrad
+	vsVal, vsGrad, vsErr := vspanGradient(c.V, c.Value, w, g)
+	if vsErr != nil {
+		vsGrad = make([]float64, nv)
+	}
+	grads[qVspan] = vsGrad
 	// Per-segment fits, started from the total fit.
 	segGrads := make([][]float64, len(c.Segments))
 	segFit := make([]fitResult, len(c.Segments))
@@ -257,6 +270,11 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 		r.DeltaV = Estimate{Value: dvVal, Sigma: math.Sqrt(vq[qDV])}
 	} else {
 		r.DeltaV = failed(fmt.Errorf("%s: bi-Gaussian: %w", r.Name, dvErr))
+	}
+	if vsErr == nil {
+		r.Vspan = Estimate{Value: vsVal, Sigma: math.Sqrt(vq[qVspan])}
+	} else {
+		r.Vspan = failed(fmt.Errorf("%s: Vspan: %w", r.Name, vsErr))
 	}
 	over := math.Max(1, c.PixelWidth/(c.V[1]-c.V[0]))
 	r.PhotonLimit = r.Fit.PhotonLimit(c.V, c.Var, over)
@@ -331,6 +349,45 @@ func biGaussDV(v, y, w []float64, g fitResult) (float64, []float64, error) {
 		grad[k] = res.dtheta[2][k] - g.dtheta[2][k]
 	}
 	return res.theta[2] - th[2], grad, nil
+}
+
+// vspanGradient returns Vspan = v_high − v_low and its gradient with
+// respect to the CCF values (the point selection, fixed by the full fit,
+// does not move under small changes of the data).
+func vspanGradient(v, y, w []float64, g fitResult) (float64, []float64, error) {
+	th := g.theta
+	v0, sg := th[2], math.Abs(th[3])
+	part := func(keep func(d float64) bool) (fitResult, error) {
+		ws := make([]float64, len(w))
+		n := 0
+		for k := range w {
+			if keep(math.Abs(v[k]-v0) / sg) {
+				ws[k] = w[k]
+				n++
+			}
+		}
+		if n < 8 {
+			return fitResult{}, fmt.Errorf("%w: %d points for a part of the profile", ErrNoLine, n)
+		}
+		res, ok := lmFit(v, y, ws, th, gaussModel, 200)
+		if !ok || !(res.theta[1] > 0) {
+			return fitResult{}, ErrFitFailed
+		}
+		return res, nil
+	}
+	hi, err := part(func(d float64) bool { return d >= 1 })
+	if err != nil {
+		return 0, nil, err
+	}
+	lo, err := part(func(d float64) bool { return d <= 1 || d >= 3 })
+	if err != nil {
+		return 0, nil, err
+	}
+	grad := make([]float64, len(v))
+	for k := range grad {
+		grad[k] = hi.dtheta[2][k] - lo.dtheta[2][k]
+	}
+	return hi.theta[2] - lo.theta[2], grad, nil
 }
 
 // PhotonLimit returns the photon-noise limit of the RV from the Gaussian

@@ -27,7 +27,7 @@ func TestPhotonNoise(t *testing.T) {
 	opts := &Options{NoIndices: true}
 	type draw struct {
 		rv, fwhm, con, bis, rvErr, fwhmErr, conErr, bisErr float64
-		chrom, chromErr                                    float64
+		chrom, chromErr, vspan, vspanErr                   float64
 		orv, orvErr                                        []float64
 	}
 	draws := make([]draw, n)
@@ -42,7 +42,7 @@ func TestPhotonNoise(t *testing.T) {
 				// One source per draw, so the result does not depend on
 				// scheduling.
 				r, err := Measure(addNoise(clean, rand.New(rand.NewPCG(2, uint64(i)))), m, opts)
-				if err != nil || !r.RV.OK() || !r.BIS.OK() {
+				if err != nil || !r.RV.OK() || !r.BIS.OK() || !r.Vspan.OK() {
 					mu.Lock()
 					fail = err
 					mu.Unlock()
@@ -50,7 +50,7 @@ func TestPhotonNoise(t *testing.T) {
 				}
 				d := draw{rv: r.RV.Value, fwhm: r.FWHM.Value, con: r.Contrast.Value, bis: r.BIS.Value,
 					rvErr: r.RV.Sigma, fwhmErr: r.FWHM.Sigma, conErr: r.Contrast.Sigma, bisErr: r.BIS.Sigma,
-					chrom: r.Chromatic.Value, chromErr: r.Chromatic.Sigma}
+					chrom: r.Chromatic.Value, chromErr: r.Chromatic.Sigma, vspan: r.Vspan.Value, vspanErr: r.Vspan.Sigma}
 				for _, o := range r.Orders {
 					d.orv = append(d.orv, o.RV.Value)
 					d.orvErr = append(d.orvErr, o.RV.Sigma)
@@ -87,6 +87,7 @@ func TestPhotonNoise(t *testing.T) {
 		{"contrast", func(d draw) float64 { return d.con }, func(d draw) float64 { return d.conErr }},
 		{"BIS", func(d draw) float64 { return d.bis }, func(d draw) float64 { return d.bisErr }},
 		{"chromatic slope", func(d draw) float64 { return d.chrom }, func(d draw) float64 { return d.chromErr }},
+		{"Vspan", func(d draw) float64 { return d.vspan }, func(d draw) float64 { return d.vspanErr }},
 	} {
 		_, scatter := sd(q.val)
 		reported, _ := sd(q.err)
