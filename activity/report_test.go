@@ -2,12 +2,12 @@ package activity
 
 import (
 	"bytes"
-	"html/template"
-	"regexp"
 	"encoding/json"
+	"html/template"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 
