@@ -546,7 +546,6 @@ func (p *ccfPlan) propagate3(g [3][]float64, sg [][]float64, vs []float64) [3]fl
 	return acc
 }
 
-
 // propagate4 is propagate3 with four slots, the last one the segments'.
 func (p *ccfPlan) propagate4(g [4][]float64, sg [][]float64, vs []float64) [4]float64 {
 	const nq = 4
