@@ -21,12 +21,17 @@ var (
 // is known). Key is the dotted path, with 1-based indices for arrays of
 // tables, e.g. "planet[2].period".
 type ScenarioError struct {
+	// File names the scenario file (or the scenario's Name).
 	File string
+	// Line is the 1-based line of a TOML syntax error, 0 otherwise.
 	Line int
-	Key  string
-	Msg  string
+	// Key is the offending key's dotted path, "" when not tied to a key.
+	Key string
+	// Msg says what is wrong.
+	Msg string
 }
 
+// Error returns "file[:line]: key \"k\": message".
 func (e *ScenarioError) Error() string {
 	s := e.File
 	if s == "" {

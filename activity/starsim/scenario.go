@@ -52,13 +52,21 @@ type Scenario struct {
 	// written scenario file reproduces its run by itself.
 	Seed uint64 `toml:"seed"`
 
-	Star        Star         `toml:"star"`
-	Activity    Activity     `toml:"activity"`
-	Planets     []Planet     `toml:"planet"`
-	Observing   Observing    `toml:"observing"`
+	// Star is the photosphere and rotation ([star]).
+	Star Star `toml:"star"`
+	// Activity is the active-region model ([activity], [[activity.region]]).
+	Activity Activity `toml:"activity"`
+	// Planets are the Keplerian signals ([[planet]]), any number.
+	Planets []Planet `toml:"planet"`
+	// Observing is the observing plan ([observing]).
+	Observing Observing `toml:"observing"`
+	// Instruments are the spectrographs ([[instrument]]); none means one
+	// instrument "SIM" with the defaults.
 	Instruments []Instrument `toml:"instrument"`
-	Spectrum    SpectrumPlan `toml:"spectrum"`
-	Numerics    Numerics     `toml:"numerics"`
+	// Spectrum says whether and how full spectra are made ([spectrum]).
+	Spectrum SpectrumPlan `toml:"spectrum"`
+	// Numerics sets the disk grid and velocity step ([numerics]).
+	Numerics Numerics `toml:"numerics"`
 
 	// zeros holds the keys a scenario file set to 0 explicitly.
 	zeros map[string]bool
@@ -217,6 +225,21 @@ type Observing struct {
 	TimeJitter float64 `toml:"time_jitter"`
 	// MaxEpochs, when > 0, stops after that many epochs.
 	MaxEpochs int `toml:"max_epochs"`
+	// NightLength, when > 0, is the length of the dark night in hours,
+	// centred on local midnight at the fraction of a day Midnight (BJD, in
+	// [0, 1)). The nightly slot (Start + n sidereal days) is then the star's
+	// meridian transit: a transit inside the night is observed as it is, one
+	// outside at the nearer end of the night if that is within MaxHourAngle
+	// hours of the transit, and otherwise not at all, so the seasons follow
+	// from the sky (set SeasonLength to 366 to let them). 0 (the default)
+	// observes at the slot itself, day or night.
+	NightLength float64 `toml:"night_length"`
+	// Midnight is the fraction of a BJD day at local midnight: Julian days
+	// begin at noon UT, so midnight at Greenwich is 0.5 and at a site of
+	// east longitude λ it is 0.5 − λ/360 (mod 1), e.g. 0.694 at 70° W.
+	Midnight float64 `toml:"midnight"`
+	// MaxHourAngle is the largest hour angle observed, in hours (default 4).
+	MaxHourAngle float64 `toml:"max_hour_angle"`
 }
 
 // Instrument is one spectrograph.
@@ -321,6 +344,7 @@ func (sc *Scenario) Defaults() *Scenario {
 	def(&o.ClearFraction, 0.7, "observing.clear_fraction")
 	def(&o.WeatherPersistence, 0.6, "observing.weather_persistence")
 	def(&o.TimeJitter, 0.04, "observing.time_jitter")
+	def(&o.MaxHourAngle, 4, "observing.max_hour_angle")
 	if len(c.Instruments) == 0 {
 		c.Instruments = []Instrument{{Name: "SIM"}}
 	}
@@ -409,6 +433,9 @@ func (sc *Scenario) Check(file string) error {
 		{"observing.weather_persistence", c.Observing.WeatherPersistence, 0, 0.999, false, "must lie in [0, 1)"},
 		{"observing.time_jitter", c.Observing.TimeJitter, 0, 0.5, false, "must lie in [0, 0.5] days"},
 		{"observing.max_epochs", float64(c.Observing.MaxEpochs), 0, 1e6, false, "must lie in [0, 1000000]"},
+		{"observing.night_length", c.Observing.NightLength, 0, 24, false, "must lie in [0, 24] hours"},
+		{"observing.midnight", c.Observing.Midnight, 0, 0.999999, false, "must lie in [0, 1) days"},
+		{"observing.max_hour_angle", c.Observing.MaxHourAngle, 0, 12, false, "must lie in [0, 12] hours"},
 		{"spectrum.lambda_min", c.Spectrum.LambdaMin, 3000, 10000, false, "must lie in [3000, 10000] Å"},
 		{"spectrum.lambda_max", c.Spectrum.LambdaMax, c.Spectrum.LambdaMin + 10, 11000, false, "must exceed lambda_min by 10 Å and be at most 11000 Å"},
 		{"spectrum.pixels", float64(c.Spectrum.Pixels), 1000, 2e7, false, "must lie in [1000, 20000000]"},

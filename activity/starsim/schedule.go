@@ -24,7 +24,9 @@ type visit struct {
 // the one-day aliases of real data appear; seasons of SeasonLength days open
 // every Julian year from Start; nights are clear or cloudy by a two-state
 // Markov chain whose clear fraction is ClearFraction and whose probability
-// that cloud follows cloud is WeatherPersistence. Each visit goes to one of
+// that cloud follows cloud is WeatherPersistence. With NightLength > 0 the
+// slot is the star's transit and the visit is kept inside the night, at the
+// transit or at the night's nearer end within MaxHourAngle of it. Each visit goes to one of
 // the instruments in use that night, drawn by weight.
 func schedule(o *Observing, ins []Instrument, rng *rand.Rand) []visit {
 	var out []visit
@@ -89,6 +91,16 @@ func schedule(o *Observing, ins []Instrument, rng *rand.Rand) []visit {
 			continue
 		}
 		t := slot + jit
+		if o.NightLength > 0 {
+			// The slot is the transit; observe in the nearest night.
+			mid := math.Floor(slot-o.Midnight+0.5) + o.Midnight
+			lo, hi := mid-o.NightLength/48, mid+o.NightLength/48
+			obs := math.Max(lo, math.Min(hi, slot))
+			if math.Abs(obs-slot) > o.MaxHourAngle/24 {
+				continue // too far from the meridian: out of season tonight
+			}
+			t = math.Max(lo, math.Min(hi, obs+jit))
+		}
 		if t < o.Start || t > o.End {
 			continue
 		}

@@ -65,3 +65,43 @@ func TestScheduleUniform(t *testing.T) {
 		t.Errorf("uniform plan: %d visits from %v to %v, want 15 from 10 to 17", len(v), v[0].time, v[len(v)-1].time)
 	}
 }
+
+// TestScheduleNights checks the night-constrained plan: every visit inside
+// its night and within the hour-angle limit of the transit, one per night,
+// and seasons that follow from the sky: for a 9 h night and ±4 h of hour
+// angle the transit is reachable while it lies within ±8.5 h of midnight,
+// 17 h of the 23.93 h sidereal drift a year, so about 259 days a year are
+// observable [computed from the 3.94 min/day drift].
+func TestScheduleNights(t *testing.T) {
+	o := Observing{Start: 2460000.3, End: 2460000.3 + 3*365.25, SeasonLength: 366, ClearFraction: 1,
+		TimeJitter: 0.01, NightLength: 9, Midnight: 0.694, MaxHourAngle: 4}
+	v := schedule(&o, []Instrument{{Name: "A", Weight: 1}}, rand.New(rand.NewPCG(1, 1)))
+	half := 4.5 / 24
+	for i, x := range v {
+		mid := math.Floor(x.time-o.Midnight+0.5) + o.Midnight
+		if math.Abs(x.time-mid) > half+1e-12 {
+			t.Fatalf("visit %d at %.4f outside the night around %.4f", i, x.time, mid)
+		}
+		k := math.Round((x.time - o.Start) / SiderealDay)
+		transit := o.Start + k*SiderealDay
+		if math.Abs(x.time-transit) > 4.0/24+6*o.TimeJitter {
+			t.Fatalf("visit %d at hour angle %.2f h", i, 24*(x.time-transit))
+		}
+		if i > 0 && x.time-v[i-1].time < 0.5 {
+			t.Fatalf("visits %d and %d in one night", i-1, i)
+		}
+	}
+	perYear := float64(len(v)) / 3
+	if math.Abs(perYear-259) > 10 {
+		t.Errorf("%.1f visits a year on clear nights, want about 259", perYear)
+	}
+	gaps := 0
+	for i := 1; i < len(v); i++ {
+		if v[i].time-v[i-1].time > 60 {
+			gaps++
+		}
+	}
+	if gaps < 2 {
+		t.Errorf("%d seasonal gaps over 3 years, want 2 or 3", gaps)
+	}
+}
