@@ -569,8 +569,8 @@ func (r *Result) Profile(i int) (*Profile, error) {
 
 // Spectrum returns the full simulated spectrum of epoch i: one order on the
 // log-linear grid of Scenario.Spectrum, air wavelengths, flux in
-// photo-electrons with photon noise (Gaussian approximation of Poisson
-// statistics, σ = √N), shifted by the Doppler factor of systemic velocity,
+// photo-electrons with photon noise (Poisson draws below 30 expected
+// electrons, the Gaussian approximation σ = √N above), shifted by the Doppler factor of systemic velocity,
 // instrument offset and planets. No barycentric motion is simulated (BERV
 // 0: the spectra are in the barycentric frame). The same epoch always gives
 // the same spectrum; epochs may be made in any order and in parallel.
@@ -611,11 +611,13 @@ func (s *sim) spectrum(ws *workspace, r *Result, i int, flux []float64) *indicat
 			flux[p] = N
 			continue
 		}
-		sd := 1.0
-		if N > 1 {
-			sd = math.Sqrt(N)
+		if N < 30 {
+			flux[p] = poisson(rng, N)
+			continue
 		}
-		if x := N + sd*rng.NormFloat64(); x > 0 {
+		// Above 30 expected electrons the Gaussian approximation of the
+		// Poisson law is good to the skewness 1/√N.
+		if x := N + math.Sqrt(N)*rng.NormFloat64(); x > 0 {
 			flux[p] = x
 		} else {
 			flux[p] = 0
@@ -661,4 +663,21 @@ func (r *Result) Series() *rvfit.Series {
 		s.Indicators = append(s.Indicators, sind)
 	}
 	return s
+}
+
+// poisson draws from the Poisson law of mean mu < 30 by multiplying uniform
+// draws until the product falls below e^{−μ} (Knuth, The Art of Computer
+// Programming, vol. 2, §3.4.1; from memory).
+func poisson(rng *rand.Rand, mu float64) float64 {
+	if mu <= 0 {
+		return 0
+	}
+	L := math.Exp(-mu)
+	k := 0.0
+	p := rng.Float64()
+	for p > L {
+		k++
+		p *= rng.Float64()
+	}
+	return k
 }

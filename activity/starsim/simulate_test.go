@@ -3,6 +3,7 @@ package starsim
 import (
 	"bytes"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"testing"
@@ -245,5 +246,32 @@ func TestSeries(t *testing.T) {
 	n := float64(res.Len())
 	if r := chi2 / n; math.Abs(r-1) > 5*math.Sqrt(2/n) {
 		t.Errorf("χ²/n of RV about the truth = %.3f, want 1", r)
+	}
+}
+
+// TestPoisson checks the low-count noise: mean and variance of 200000 draws
+// equal μ (Poisson law) to 5 standard errors, P(0) = e^{−μ}.
+func TestPoisson(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 1))
+	for _, mu := range []float64{0.3, 4, 25} {
+		const n = 200000
+		var s1, s2, zeros float64
+		for i := 0; i < n; i++ {
+			k := poisson(rng, mu)
+			s1 += k
+			s2 += k * k
+			if k == 0 {
+				zeros++
+			}
+		}
+		mean := s1 / n
+		vr := s2/n - mean*mean
+		// σ(mean) = √(μ/n); σ(var) ≈ √((2μ² + μ)/n) for a Poisson law.
+		if math.Abs(mean-mu) > 5*math.Sqrt(mu/n) || math.Abs(vr-mu) > 5*math.Sqrt((2*mu*mu+mu)/n) {
+			t.Errorf("μ = %g: mean %.4f, variance %.4f", mu, mean, vr)
+		}
+		if p0 := math.Exp(-mu); math.Abs(zeros/n-p0) > 5*math.Sqrt(p0*(1-p0)/n)+1e-12 {
+			t.Errorf("μ = %g: P(0) = %.5f, want %.5f", mu, zeros/n, p0)
+		}
 	}
 }
