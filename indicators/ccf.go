@@ -30,6 +30,10 @@ type CCFOptions struct {
 	// velocity. The zero value means the median velocity width of the
 	// spectrum's pixels.
 	HoleWidth float64
+	// ReadNoise is the detector noise per pixel in electrons, added in
+	// quadrature to the photon noise of spectra without flux errors (it is
+	// ignored when Order.Err is given); zero means none.
+	ReadNoise float64
 	// Serial reports whether the CCF and its error propagation run on the
 	// calling goroutine only; by default they use two goroutines. Set it
 	// when many spectra are measured in parallel already. Results do not
@@ -141,7 +145,10 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 		return nil, fmt.Errorf("%w: CCF options %+v", ErrBadParameter, o)
 	}
 	m = m.onScale(s.Vacuum)
-	orders, slab := prepareOrdersPooled(s)
+	if o.ReadNoise < 0 || math.IsNaN(o.ReadNoise) || math.IsInf(o.ReadNoise, 0) {
+		return nil, fmt.Errorf("%w: read noise %v", ErrBadParameter, o.ReadNoise)
+	}
+	orders, slab := prepareOrdersPooled(s, o.ReadNoise)
 	pixw := medianPixelWidth(s)
 	hole := o.HoleWidth
 	if hole == 0 {
@@ -192,8 +199,8 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 	return c, nil
 }
 
-func prepareOrders(s *Spectrum) []ccfOrder {
-	orders, _ := prepareOrdersPooled(s)
+func prepareOrders(s *Spectrum, readNoise float64) []ccfOrder {
+	orders, _ := prepareOrdersPooled(s, readNoise)
 	return orders
 }
 
@@ -203,7 +210,11 @@ var slabPool = sync.Pool{New: func() any { return new([]float64) }}
 // prepareOrdersPooled computes pixel edges, inverse widths and variances
 // into one array taken from slabPool; the caller may hand the returned slab
 // back with releaseSlab once nothing refers to the orders any more.
-func prepareOrdersPooled(s *Spectrum) ([]ccfOrder, *[]float64) {
+//
+// Without flux errors the variance is photon noise plus detector noise,
+// max(F, 1) + readNoise².
+func prepareOrdersPooled(s *Spectrum, readNoise float64) ([]ccfOrder, *[]float64) {
+	rn2 := readNoise * readNoise
 	out := make([]ccfOrder, len(s.Orders))
 	var total int
 	for i := range s.Orders {
@@ -244,7 +255,7 @@ func prepareOrdersPooled(s *Spectrum) ([]ccfOrder, *[]float64) {
 			}
 		} else {
 			for x, f := range ord.Flux {
-				s2[x] = math.Max(f, 1)
+				s2[x] = math.Max(f, 1) + rn2
 			}
 		}
 		out[i] = ccfOrder{edges: e, invw: iw, flux: ord.Flux, sig2: s2, offset: off}

@@ -157,7 +157,7 @@ func SIndex(s *Spectrum, rv float64, cal *SIndexCalibration) (value, sigma float
 	if err := s.validate(true); err != nil {
 		return 0, 0, err
 	}
-	return sIndex(s, prepareOrders(s), rv, cal)
+	return sIndex(s, prepareOrders(s, 0), rv, cal)
 }
 
 func sIndex(s *Spectrum, orders []ccfOrder, rv float64, cal *SIndexCalibration) (float64, float64, error) {
@@ -231,7 +231,7 @@ func HAlphaIndex(s *Spectrum, rv, coreWidth float64) (value, sigma float64, err 
 	if err := s.validate(true); err != nil {
 		return 0, 0, err
 	}
-	return hAlpha(s, prepareOrders(s), rv, coreWidth)
+	return hAlpha(s, prepareOrders(s, 0), rv, coreWidth)
 }
 
 func hAlpha(s *Spectrum, orders []ccfOrder, rv, coreWidth float64) (float64, float64, error) {
@@ -257,7 +257,7 @@ func NaDIndex(s *Spectrum, rv float64) (value, sigma float64, err error) {
 	if err := s.validate(true); err != nil {
 		return 0, 0, err
 	}
-	return naD(s, prepareOrders(s), rv)
+	return naD(s, prepareOrders(s, 0), rv)
 }
 
 func naD(s *Spectrum, orders []ccfOrder, rv float64) (float64, float64, error) {

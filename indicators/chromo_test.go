@@ -159,3 +159,27 @@ func TestLogRPrimeHK(t *testing.T) {
 		t.Errorf("S below photosphere: err = %v", err)
 	}
 }
+
+func TestReadNoise(t *testing.T) {
+	// A flat spectrum of 100 e⁻ per pixel with 10 e⁻ read noise doubles
+	// every pixel variance (100 + 10²), so each index error grows by
+	// exactly sqrt(2) (analytic identity).
+	s := linearSpectrum(3850, 6700, 0.05, 100, 0, false)
+	m, _ := NewMask([]float64{5000}, []float64{1}, false)
+	get := func(rn float64) *Result {
+		r, _ := Measure(s, m, &Options{CCF: &CCFOptions{ReadNoise: rn}})
+		return r
+	}
+	r0, r1 := get(0), get(10)
+	for _, q := range []struct {
+		name string
+		a, b Estimate
+	}{{"S", r0.SIndex, r1.SIndex}, {"H-alpha", r0.HAlpha, r1.HAlpha}, {"Na D", r0.NaD, r1.NaD}} {
+		if !q.a.OK() || !q.b.OK() || math.Abs(q.b.Sigma/q.a.Sigma-math.Sqrt2) > 1e-12 {
+			t.Errorf("%s: σ %v → %v with read noise (%v, %v), want ×sqrt(2)", q.name, q.a.Sigma, q.b.Sigma, q.a.Err, q.b.Err)
+		}
+	}
+	if _, err := ComputeCCF(s, m, &CCFOptions{ReadNoise: -1}); !errors.Is(err, ErrBadParameter) {
+		t.Errorf("negative read noise: err = %v", err)
+	}
+}

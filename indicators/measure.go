@@ -112,7 +112,8 @@ type OrderRV struct {
 // the CCF, which is linear in the pixel fluxes, so its variance is found by
 // propagating σ_x of each pixel exactly through the linearised fit (the
 // correlation between CCF bins included); indices propagate σ_x through the
-// band sums.
+// band sums. σ_x is Order.Err when given, else photon noise plus
+// CCFOptions.ReadNoise in quadrature.
 //
 // A quantity that cannot be measured carries its own error in its Estimate
 // and the others are still returned. Measure returns an error only when the
@@ -154,7 +155,11 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 		}
 		return r, err
 	}
-	orders := prepareOrders(s)
+	rn := 0.0
+	if opts.CCF != nil && opts.CCF.ReadNoise > 0 {
+		rn = opts.CCF.ReadNoise
+	}
+	orders := prepareOrders(s, rn)
 	if ccf != nil {
 		orders = ccf.plan.orders
 	}
