@@ -240,6 +240,16 @@ type Observing struct {
 	Midnight float64 `toml:"midnight"`
 	// MaxHourAngle is the largest hour angle observed, in hours (default 4).
 	MaxHourAngle float64 `toml:"max_hour_angle"`
+	// BERVAmplitude, when > 0, puts the spectra in the observatory's frame:
+	// they are shifted by −BERV(t), BERV(t) = BERVAmplitude ·
+	// sin(2π(t − Start)/365.25 + BERVPhase), in km/s (at most 30; 29.8 cos β
+	// for a star at ecliptic latitude β), and carry BERV in their header, as
+	// a reduction pipeline's spectra do. It is a simple annual model to
+	// exercise barycentric corrections, not an ephemeris. 0 (the default)
+	// writes barycentric spectra with no BERV.
+	BERVAmplitude float64 `toml:"berv_amplitude"`
+	// BERVPhase is the phase of that model in degrees.
+	BERVPhase float64 `toml:"berv_phase"`
 }
 
 // Instrument is one spectrograph.
@@ -433,6 +443,8 @@ func (sc *Scenario) Check(file string) error {
 		{"observing.weather_persistence", c.Observing.WeatherPersistence, 0, 0.999, false, "must lie in [0, 1)"},
 		{"observing.time_jitter", c.Observing.TimeJitter, 0, 0.5, false, "must lie in [0, 0.5] days"},
 		{"observing.max_epochs", float64(c.Observing.MaxEpochs), 0, 1e6, false, "must lie in [0, 1000000]"},
+		{"observing.berv_amplitude", c.Observing.BERVAmplitude, 0, 30, false, "must lie in [0, 30] km/s"},
+		{"observing.berv_phase", c.Observing.BERVPhase, -360, 360, false, "must lie in [-360, 360] degrees"},
 		{"observing.night_length", c.Observing.NightLength, 0, 24, false, "must lie in [0, 24] hours"},
 		{"observing.midnight", c.Observing.Midnight, 0, 0.999999, false, "must lie in [0, 1) days"},
 		{"observing.max_hour_angle", c.Observing.MaxHourAngle, 0, 12, false, "must lie in [0, 12] hours"},

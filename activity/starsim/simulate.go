@@ -54,6 +54,10 @@ type Epoch struct {
 	Time float64
 	// Instrument names the spectrograph.
 	Instrument string
+	// BERV is the barycentric correction of the epoch's spectrum in m/s
+	// (Observing.BERVAmplitude; 0 for barycentric spectra). RV is
+	// barycentric whatever it is.
+	BERV float64
 	// SNR is the epoch's signal-to-noise ratio per pixel at 5500 Å: the
 	// instrument's SNR times a log-normal factor of σ SNRScatter.
 	SNR float64
@@ -428,6 +432,9 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 	in := &sc.Instruments[v.inst]
 	s.d.cover(&ws.cv, s.regs, v.time)
 	ep := Epoch{Time: v.time, Instrument: in.Name, SpotFilling: ws.cv.spotFill, FaculaFilling: ws.cv.facFill, SNR: in.SNR}
+	if o := &sc.Observing; o.BERVAmplitude > 0 {
+		ep.BERV = 1000 * o.BERVAmplitude * math.Sin(2*math.Pi*(v.time-o.Start)/365.25+o.BERVPhase*math.Pi/180)
+	}
 	if in.SNRScatter > 0 {
 		// Seeing, airmass and clouds: the median S/N is the instrument's.
 		ep.SNR *= math.Exp(in.SNRScatter * rand.New(rand.NewPCG(s.seed, streamSNR+uint64(i))).NormFloat64())
@@ -571,8 +578,8 @@ func (r *Result) Profile(i int) (*Profile, error) {
 // log-linear grid of Scenario.Spectrum, air wavelengths, flux in
 // photo-electrons with photon noise (Poisson draws below 30 expected
 // electrons, the Gaussian approximation σ = √N above), shifted by the Doppler factor of systemic velocity,
-// instrument offset and planets. No barycentric motion is simulated (BERV
-// 0: the spectra are in the barycentric frame). The same epoch always gives
+// instrument offset and planets, and in the observatory frame by −BERV when
+// Observing.BERVAmplitude is set (else barycentric, BERV 0). The same epoch always gives
 // the same spectrum; epochs may be made in any order and in parallel.
 func (r *Result) Spectrum(i int) (*indicators.Spectrum, error) {
 	if i < 0 || i >= len(r.Epochs) {
@@ -592,7 +599,10 @@ func (s *sim) spectrum(ws *workspace, r *Result, i int, flux []float64) *indicat
 	for _, p := range ep.PlanetRV {
 		vel += p
 	}
-	lnD := math.Log(DopplerFactor(vel))
+	// The observed frame: 1 + z_obs = (1 + z_star)/(1 + z_BERV), so that a
+	// reader composing 1 + z = (1 + z_obs)(1 + z_BERV) finds the star's
+	// barycentric velocity.
+	lnD := math.Log(DopplerFactor(vel)) - math.Log(DopplerFactor(ep.BERV))
 	m := s.spec
 	m.synth(ws.spec, ws.absorb, 0, m.n, &ws.k, lnD, ep.Emission)
 	if flux == nil {
@@ -627,6 +637,7 @@ func (s *sim) spectrum(ws *workspace, r *Result, i int, flux []float64) *indicat
 		Name:   fmt.Sprintf("%s epoch %d", s.sc.Name, i),
 		Orders: []indicators.Order{{Wavelength: m.lam, Flux: flux}},
 		BJD:    ep.Time,
+		BERV:   ep.BERV,
 		Header: map[string]string{
 			"OBJECT":   s.sc.Name,
 			"INSTRUME": in.Name,

@@ -161,6 +161,7 @@ feed:
 //	time            BJD_TDB, days
 //	instrument      spectrograph name
 //	snr             the epoch's S/N per pixel at 5500 Å
+//	berv            barycentric correction of the spectrum, m/s
 //	rv_activity     activity RV, m/s (Epoch.ActivityRV)
 //	rv_<planet>     each planet's Keplerian RV, m/s, in scenario order
 //	rv_planets      their sum, m/s
@@ -178,7 +179,7 @@ func (r *Result) WriteTruth(w io.Writer) error {
 	bw := bufio.NewWriter(w)
 	fmt.Fprintf(bw, "# truth of a spotsift simulation: star %q, seed %d\n", r.Scenario.Name, r.Seed)
 	fmt.Fprintf(bw, "# units: time=d rv_*=m/s fwhm=m/s bis=m/s; filling factors are fractions of the projected disk; flux relative to the quiet star at %g A\n", RefWavelength)
-	cols := []string{"time", "instrument", "snr", "rv_activity"}
+	cols := []string{"time", "instrument", "snr", "berv", "rv_activity"}
 	for _, p := range r.Scenario.Planets {
 		cols = append(cols, "rv_"+p.Name)
 	}
@@ -192,7 +193,7 @@ func (r *Result) WriteTruth(w io.Writer) error {
 	bw.WriteByte('\n')
 	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
 	for _, e := range r.Epochs {
-		row := []string{strconv.FormatFloat(e.Time, 'f', -1, 64), e.Instrument, f(e.SNR), f(e.ActivityRV)}
+		row := []string{strconv.FormatFloat(e.Time, 'f', -1, 64), e.Instrument, f(e.SNR), f(e.BERV), f(e.ActivityRV)}
 		var sum float64
 		for _, p := range e.PlanetRV {
 			row = append(row, f(p))
