@@ -1,18 +1,125 @@
 package main
 
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+
+	"spotsift/activity"
+	"spotsift/indicators"
+	"spotsift/rvfit"
+)
+
 // runMeasure is "spotsift measure": spectra to a per-epoch table.
 func runMeasure(args []string, e *env) int {
 	var c common
 	fs := newFlagSet(e, "measure", "--spectra DIR|GLOB --out TABLE [flags]", `
-Measures every spectrum - RV and its photon-noise error, CCF FWHM, contrast,
-bisector span, chromospheric indices, per-order RVs - and writes one row per
-epoch. Spectra that fail are named and left out.`)
+Measures every spectrum - RV and its photon-noise error from the
+cross-correlation with a line mask, CCF FWHM, contrast, bisector span,
+chromospheric indices (S, log R'HK with a star file's B-V, H-alpha, Na D),
+per-order RVs and the chromatic slope - and writes one row per epoch (.csv
+or .fits). Without --mask, a mask is built from the spectra themselves.
+Spectra that fail are named on stderr and left out; so are the indices
+that fail on an otherwise good spectrum.`)
 	c.addStar(fs)
 	c.addRun(fs)
-	fs.String("spectra", "", "a `directory` or glob of spectra (FITS or text)")
-	fs.String("out", "", "the per-epoch `table` to write (.csv or .fits)")
+	spectra := fs.String("spectra", "", "a `directory` of spectra (*.fits, *.fit, *.fts, *.txt, *.dat) or a glob")
+	out := fs.String("out", "", "the per-epoch `table` to write (.csv or .fits)")
+	mask := fs.String("mask", "", "line mask, a text `file` of wavelength and weight (default: built from the spectra)")
+	scale := fs.String("scale", "file", "wavelength scale of the spectra: file (as the header says), air or vacuum")
+	epochKey := fs.String("epoch-keyword", "", "header `keyword` holding the epoch in days (default: BJD_TDB, MJD-OBS, DATE-OBS)")
+	bervKey := fs.String("berv-keyword", "", "header `keyword` holding the barycentric correction in km/s to add")
+	instr := fs.String("instrument", "", "instrument `label` for every epoch (default: the INSTRUME keyword)")
 	if code, ok := parseFlags(fs, args); !ok {
 		return code
 	}
-	return notBuilt(e, "measure", "spectrum measurement")
+	if err := c.workersOK(); err != nil {
+		return fail(e, exitUsage, err)
+	}
+	if *spectra == "" || *out == "" {
+		return fail(e, exitUsage, errorf("measure: --spectra and --out are required"))
+	}
+	ro := &indicators.ReadOptions{EpochKeyword: *epochKey, BERVKeyword: *bervKey}
+	if *bervKey != "" {
+		ro.BERVUnit = 1000 // km/s
+	}
+	switch *scale {
+	case "file":
+	case "air":
+		ro.Scale = indicators.ScaleAir
+	case "vacuum":
+		ro.Scale = indicators.ScaleVacuum
+	default:
+		return fail(e, exitUsage, errorf("measure: --scale %q: want file, air or vacuum", *scale))
+	}
+	paths, err := spectrumPaths(*spectra)
+	if err != nil {
+		return fail(e, exitUsage, err)
+	}
+	star, err := c.loadStar()
+	if err != nil {
+		return fail(e, exitUsage, err)
+	}
+	opts := &activity.MeasureOptions{Read: ro, Star: star, Instrument: *instr, Workers: c.workers}
+	if *mask != "" {
+		m, err := indicators.ReadMaskFile(*mask, ro)
+		if err != nil {
+			return fail(e, exitUsage, err)
+		}
+		opts.Mask = m
+	}
+	bar := newProgress(e.stderr, len(paths), "measuring", c.quiet)
+	opts.Progress = bar.Set
+	s, failures, err := activity.Measure(paths, opts)
+	bar.Done()
+	for _, f := range failures {
+		what := "left out"
+		if f.Partial {
+			what = "kept, without"
+		}
+		fmt.Fprintf(e.stderr, "spotsift: %s: %s: %v\n", f.Path, what, f.Err)
+	}
+	if err != nil {
+		return fail(e, exitFailed, err)
+	}
+	if err := rvfit.WriteTable(*out, s, &rvfit.WriteOptions{Creator: "spotsift " + version}); err != nil {
+		return fail(e, exitFailed, err)
+	}
+	if !c.quiet {
+		fmt.Fprintf(e.stderr, "spotsift: %d of %d spectra measured into %s\n", s.Len(), len(paths), *out)
+	}
+	return exitOK
+}
+
+// spectrumPaths lists the spectra of a folder, or the files of a glob, in
+// name order.
+func spectrumPaths(arg string) ([]string, error) {
+	var paths []string
+	if st, err := os.Stat(arg); err == nil && st.IsDir() {
+		ents, err := os.ReadDir(arg)
+		if err != nil {
+			return nil, err
+		}
+		for _, en := range ents {
+			switch strings.ToLower(filepath.Ext(en.Name())) {
+			case ".fits", ".fit", ".fts", ".txt", ".dat":
+				if !en.IsDir() {
+					paths = append(paths, filepath.Join(arg, en.Name()))
+				}
+			}
+		}
+	} else {
+		m, err := filepath.Glob(arg)
+		if err != nil {
+			return nil, fmt.Errorf("measure: --spectra %q: %v", arg, err)
+		}
+		paths = m
+	}
+	if len(paths) == 0 {
+		return nil, fmt.Errorf("measure: --spectra %q: no spectra found", arg)
+	}
+	sort.Strings(paths)
+	return paths, nil
 }
