@@ -31,6 +31,7 @@ log-linear air wavelengths, flux in photo-electrons).`)
 	demo := fs.String("demo", "", "use a built-in demo scenario instead: "+demoNames())
 	out := fs.String("out", "", "output `directory`")
 	spectra := fs.Bool("spectra", false, "write FITS spectra even if the scenario asks for tables only")
+	float32 := fs.Bool("float32", false, "write spectra with 32-bit float flux (half the size)")
 	if code, ok := parseFlags(fs, args); !ok {
 		return code
 	}
@@ -70,7 +71,7 @@ log-linear air wavelengths, flux in photo-electrons).`)
 	if res.Scenario.Spectrum.Full {
 		prog = newProgress(e.stderr, res.Len(), "spectra", c.quiet)
 	}
-	wopts := &starsim.WriteOptions{Workers: c.workers, Creator: "spotsift " + version}
+	wopts := &starsim.WriteOptions{Workers: c.workers, Creator: "spotsift " + version, Float32: *float32}
 	if prog != nil {
 		wopts.Progress = prog.Set
 	}
