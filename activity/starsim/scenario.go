@@ -46,7 +46,8 @@ import (
 //	[spectrum]
 //	full = true                    # false: profiles and tables only
 type Scenario struct {
-	// Name labels the star in outputs (OBJECT keyword, table comments).
+	// Name labels the star in outputs (OBJECT keyword, table comments):
+	// printable ASCII, at most 60 characters (default "unnamed").
 	Name string `toml:"name"`
 	// Seed, when not 0, replaces the seed passed to Simulate, so that a
 	// written scenario file reproduces its run by itself.
@@ -310,6 +311,9 @@ type Numerics struct {
 // no limb darkening.
 func (sc *Scenario) Defaults() *Scenario {
 	c := sc.clone()
+	if strings.TrimSpace(c.Name) == "" {
+		c.Name = "unnamed"
+	}
 	def := func(p *float64, v float64, key string) {
 		if *p == 0 && !c.zeros[key] {
 			*p = v
@@ -508,8 +512,25 @@ func (sc *Scenario) Check(file string) error {
 				fmt.Sprintf("too low for clear_fraction %v (a clear night would have to be followed by cloud more than always)", c.Observing.ClearFraction))
 		}
 	}
+	ascii := func(key, v string) error {
+		for _, r := range v {
+			if r < 32 || r > 126 {
+				return &ScenarioError{File: file, Key: key, Msg: fmt.Sprintf("%q: only printable ASCII goes into FITS headers", v)}
+			}
+		}
+		if len(v) > 60 {
+			return &ScenarioError{File: file, Key: key, Msg: fmt.Sprintf("%q: at most 60 characters", v)}
+		}
+		return nil
+	}
+	if err := ascii("name", c.Name); err != nil {
+		return err
+	}
 	seen := map[string]bool{}
 	for i, in := range c.Instruments {
+		if err := ascii(fmt.Sprintf("instrument[%d].name", i+1), in.Name); err != nil {
+			return err
+		}
 		k := fmt.Sprintf("instrument[%d].name", i+1)
 		if strings.TrimSpace(in.Name) == "" {
 			return &ScenarioError{File: file, Key: k, Msg: "missing: every instrument needs a name"}

@@ -47,6 +47,7 @@ func TestParseScenario(t *testing.T) {
 		{"end before start", strings.Replace(goodScenario, "end = 2460100.5", "end = 2459000.5", 1), "observing.end"},
 		{"eccentricity", strings.Replace(goodScenario, "k = 3", "k = 3\ne = 0.99", 1), "planet[1].e"},
 		{"wrong type", strings.Replace(goodScenario, "v_eq = 2.5", `v_eq = "fast"`, 1), ""},
+		{"non-ASCII name", strings.Replace(goodScenario, `name = "Test-Star"`, `name = "Tëst-Star"`, 1), "name"},
 		{"twice the same instrument", goodScenario + "\n[[instrument]]\nname = \"A\"\n", "instrument[2].name"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
