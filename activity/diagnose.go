@@ -1021,13 +1021,21 @@ func (tr *trial) chromaticity() {
 	tr.add(e)
 }
 
-// summaryOf joins the reasons of the items with the largest weights.
+// summaryOf joins the reasons of the two items with the largest weights
+// on the side of the verdict (either side for an inconclusive one).
 func summaryOf(sig *Signal) string {
 	ev := append([]Evidence(nil), sig.Evidence...)
 	sort.SliceStable(ev, func(a, b int) bool { return math.Abs(ev[a].Weight) > math.Abs(ev[b].Weight) })
+	side := ""
+	switch sig.Verdict {
+	case PlanetLike:
+		side = TowardPlanet
+	case ActivityLike:
+		side = TowardActivity
+	}
 	var parts []string
 	for _, e := range ev {
-		if e.Weight == 0 || len(parts) == 2 {
+		if e.Weight == 0 || len(parts) == 2 || (side != "" && e.Points != side) {
 			continue
 		}
 		parts = append(parts, e.Reason)

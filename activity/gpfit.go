@@ -181,7 +181,7 @@ func (m *gpModel) fit(starts [][]float64) gpResult {
 	best := gpResult{lnPost: math.Inf(-1)}
 	for _, x0 := range starts {
 		p := optimize.Problem{Func: obj}
-		set := &optimize.Settings{FuncEvaluations: 400 * m.nParams(), Converger: &optimize.FunctionConverge{Absolute: 1e-6, Iterations: 60}}
+		set := &optimize.Settings{FuncEvaluations: 250 * m.nParams(), Converger: &optimize.FunctionConverge{Absolute: 1e-3, Iterations: 40}}
 		res, err := optimize.Minimize(p, x0, set, &optimize.NelderMead{})
 		if res == nil || (err != nil && res.X == nil) {
 			continue

@@ -74,13 +74,7 @@ that fail on an otherwise good spectrum.`)
 	opts.Progress = bar.Set
 	s, failures, err := activity.Measure(paths, opts)
 	bar.Done()
-	for _, f := range failures {
-		what := "left out"
-		if f.Partial {
-			what = "kept, without"
-		}
-		fmt.Fprintf(e.stderr, "spotsift: %s: %s: %v\n", f.Path, what, f.Err)
-	}
+	reportFailures(e, failures, false)
 	if err != nil {
 		return fail(e, exitFailed, err)
 	}
@@ -91,6 +85,42 @@ that fail on an otherwise good spectrum.`)
 		fmt.Fprintf(e.stderr, "spotsift: %d of %d spectra measured into %s\n", s.Len(), len(paths), *out)
 	}
 	return exitOK
+}
+
+// reportFailures names the spectra that failed on stderr: every one that
+// was left out, and the partial failures (an index missing on a spectrum
+// kept) up to five per kind of problem, then a count. With quiet, partial
+// failures are not shown.
+func reportFailures(e *env, failures []activity.MeasureFailure, quiet bool) {
+	shown := map[string]int{}
+	var kinds []string
+	for _, f := range failures {
+		msg := strings.TrimPrefix(f.Err.Error(), f.Path+": ")
+		if !f.Partial {
+			fmt.Fprintf(e.stderr, "spotsift: %s: left out: %s\n", f.Path, msg)
+			continue
+		}
+		if quiet {
+			continue
+		}
+		// The kind of problem: the message up to its first number.
+		kind := msg
+		if i := strings.IndexAny(kind, "0123456789"); i > 0 {
+			kind = kind[:i]
+		}
+		if shown[kind] == 0 {
+			kinds = append(kinds, kind)
+		}
+		shown[kind]++
+		if shown[kind] <= 5 {
+			fmt.Fprintf(e.stderr, "spotsift: warning: %s: kept without %s\n", f.Path, msg)
+		}
+	}
+	for _, k := range kinds {
+		if n := shown[k]; n > 5 {
+			fmt.Fprintf(e.stderr, "spotsift: warning: ... and %d more spectra with %q\n", n-5, strings.TrimSpace(k))
+		}
+	}
 }
 
 // spectrumPaths lists the spectra of a folder, or the files of a glob, in
