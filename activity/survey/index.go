@@ -1,0 +1,254 @@
+package survey
+
+import (
+	"fmt"
+	"html/template"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"spotsift/activity"
+)
+
+// verdictColour gives each verdict its colour in the figures and tables
+// (a palette readable by colour-blind viewers: blue, vermilion, grey).
+var verdictColour = map[string]string{
+	activity.PlanetLike:   "#0072b2",
+	activity.ActivityLike: "#d55e00",
+	activity.Inconclusive: "#7f7f7f",
+}
+
+// point is one marker of a scatter figure.
+type point struct {
+	x, y   float64
+	colour string
+	title  string
+}
+
+// scatterSVG draws a log-log (logX, logY) scatter figure as SVG text, with
+// optional reference lines y = c·x (one per ratio). Points with a
+// non-positive or non-finite coordinate on a log axis are left out.
+func scatterSVG(pts []point, xlabel, ylabel string, logX, logY bool, ratios []float64) string {
+	const W, H, ml, mr, mt, mb = 520.0, 360.0, 64.0, 16.0, 12.0, 48.0
+	tx := func(v float64) float64 { return v }
+	if logX {
+		tx = math.Log10
+	}
+	ty := func(v float64) float64 { return v }
+	if logY {
+		ty = math.Log10
+	}
+	var keep []point
+	x0, x1, y0, y1 := math.Inf(1), math.Inf(-1), math.Inf(1), math.Inf(-1)
+	for _, p := range pts {
+		if (logX && !(p.x > 0)) || (logY && !(p.y > 0)) {
+			continue
+		}
+		X, Y := tx(p.x), ty(p.y)
+		if math.IsNaN(X) || math.IsInf(X, 0) || math.IsNaN(Y) || math.IsInf(Y, 0) {
+			continue
+		}
+		keep = append(keep, point{X, Y, p.colour, p.title})
+		x0, x1, y0, y1 = math.Min(x0, X), math.Max(x1, X), math.Min(y0, Y), math.Max(y1, Y)
+	}
+	var b strings.Builder
+	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%g" height="%g" viewBox="0 0 %g %g" font-family="sans-serif" font-size="12">`, W, H, W, H)
+	fmt.Fprintf(&b, `<rect x="%g" y="%g" width="%g" height="%g" fill="none" stroke="#333"/>`, ml, mt, W-ml-mr, H-mt-mb)
+	if len(keep) == 0 {
+		fmt.Fprintf(&b, `<text x="%g" y="%g" text-anchor="middle">no data to show</text></svg>`, W/2, H/2)
+		return b.String()
+	}
+	pad := func(a, c float64) (float64, float64) {
+		if c-a < 1e-9 {
+			return a - 0.5, c + 0.5
+		}
+		d := 0.06 * (c - a)
+		return a - d, c + d
+	}
+	x0, x1 = pad(x0, x1)
+	y0, y1 = pad(y0, y1)
+	px := func(X float64) float64 { return ml + (X-x0)/(x1-x0)*(W-ml-mr) }
+	py := func(Y float64) float64 { return H - mb - (Y-y0)/(y1-y0)*(H-mt-mb) }
+	ticks := func(a, c float64, log bool) []float64 {
+		var out []float64
+		if log {
+			for e := math.Floor(a); e <= math.Ceil(c); e++ {
+				if e >= a && e <= c {
+					out = append(out, e)
+				}
+			}
+			if len(out) >= 2 {
+				return out
+			}
+			out = nil
+		}
+		step := math.Pow(10, math.Floor(math.Log10((c-a)/4)))
+		for _, m := range []float64{1, 2, 5, 10} {
+			if (c-a)/(m*step) <= 6 {
+				step *= m
+				break
+			}
+		}
+		for v := math.Ceil(a/step) * step; v <= c; v += step {
+			out = append(out, v)
+		}
+		return out
+	}
+	label := func(v float64, log bool) string {
+		if log {
+			return fmt.Sprintf("%.3g", math.Pow(10, v))
+		}
+		return fmt.Sprintf("%.3g", v)
+	}
+	for _, v := range ticks(x0, x1, logX) {
+		fmt.Fprintf(&b, `<line x1="%.1f" y1="%g" x2="%.1f" y2="%g" stroke="#333"/><text x="%.1f" y="%g" text-anchor="middle">%s</text>`,
+			px(v), H-mb, px(v), H-mb+5, px(v), H-mb+18, label(v, logX))
+	}
+	for _, v := range ticks(y0, y1, logY) {
+		fmt.Fprintf(&b, `<line x1="%g" y1="%.1f" x2="%g" y2="%.1f" stroke="#333"/><text x="%g" y="%.1f" text-anchor="end">%s</text>`,
+			ml-5, py(v), ml, py(v), ml-8, py(v)+4, label(v, logY))
+	}
+	fmt.Fprintf(&b, `<text x="%g" y="%g" text-anchor="middle">%s</text>`, (ml+W-mr)/2, H-10, template.HTMLEscapeString(xlabel))
+	fmt.Fprintf(&b, `<text x="14" y="%g" text-anchor="middle" transform="rotate(-90 14 %g)">%s</text>`, (mt+H-mb)/2, (mt+H-mb)/2, template.HTMLEscapeString(ylabel))
+	if logX && logY {
+		for _, c := range ratios {
+			lc := math.Log10(c)
+			// y = x + lc, clipped to the box.
+			a, z := math.Max(x0, y0-lc), math.Min(x1, y1-lc)
+			if a < z {
+				fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#bbb" stroke-dasharray="4 3"/><text x="%.1f" y="%.1f" fill="#999" font-size="10">P = Prot/%g</text>`,
+					px(a), py(a+lc), px(z), py(z+lc), px(z)-52, py(z+lc)+12, 1/c)
+			}
+		}
+	}
+	for _, p := range keep {
+		fmt.Fprintf(&b, `<circle cx="%.1f" cy="%.1f" r="4.5" fill="%s" fill-opacity="0.8" stroke="#222" stroke-width="0.5"><title>%s</title></circle>`,
+			px(p.x), py(p.y), p.colour, template.HTMLEscapeString(p.title))
+	}
+	b.WriteString(`</svg>`)
+	return b.String()
+}
+
+// indexStar is one row of the index page.
+type indexStar struct {
+	Name, Folder, Status, Error, Link string
+	Rotation                          string
+	Signals                           []indexSignal
+}
+
+type indexSignal struct {
+	Text, Verdict, Colour, Summary string
+}
+
+var indexTmpl = template.Must(template.New("index").Parse(`<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8"><title>spotsift survey</title>
+<style>
+body{font-family:sans-serif;margin:2em;max-width:72em;color:#222}
+table{border-collapse:collapse}td,th{padding:.25em .6em;border-bottom:1px solid #ddd;text-align:left;vertical-align:top}
+.v{display:inline-block;padding:0 .4em;border-radius:.3em;color:#fff;margin:.1em 0}
+.failed{color:#b00}.fig{display:inline-block;margin-right:1.5em}.caution{font-style:italic;color:#555}
+</style></head><body>
+<h1>spotsift survey</h1>
+<p>{{.NStars}} stars: {{.NDone}} analysed, {{.NFailed}} failed, {{.NPending}} not analysed with their current inputs; {{.NSignals}} signals ({{.NPlanet}} planet-like, {{.NActivity}} activity-like, {{.NInconclusive}} inconclusive).
+Tables: <a href="summary.csv">summary.csv</a>, <a href="summary.fits">summary.fits</a>, catalogue <a href="catalogue.sqlite">catalogue.sqlite</a>.</p>
+<p class="caution">{{.Caution}}</p>
+<div class="fig"><h2>Signals against the rotation period</h2>{{.Fig1}}<p>Each signal's period against its star's adopted rotation period; dashed: P = Prot, Prot/2, Prot/3.</p></div>
+<div class="fig"><h2>Activity level against RV scatter</h2>{{.Fig2}}<p>{{.Fig2Caption}}</p></div>
+<p>Colours: <span class="v" style="background:#0072b2">planet-like</span> <span class="v" style="background:#d55e00">activity-like</span> <span class="v" style="background:#7f7f7f">inconclusive</span></p>
+{{if .Failures}}<h2>Failed stars</h2><table><tr><th>star</th><th>reason</th></tr>
+{{range .Failures}}<tr><td>{{.Name}}</td><td class="failed">{{.Error}}</td></tr>
+{{end}}</table>{{end}}
+<h2>Stars</h2>
+<table><tr><th>star</th><th>status</th><th>rotation</th><th>signals</th></tr>
+{{range .Stars}}<tr><td>{{if .Link}}<a href="{{.Link}}">{{.Name}}</a>{{else}}{{.Name}}{{end}}</td><td{{if eq .Status "failed"}} class="failed"{{end}}>{{.Status}}</td><td>{{.Rotation}}</td><td>{{range .Signals}}<span class="v" style="background:{{.Colour}}" title="{{.Summary}}">{{.Text}}: {{.Verdict}}</span><br>{{end}}</td></tr>
+{{end}}</table>
+<p>Written by {{.Creator}}.</p>
+</body></html>
+`))
+
+// writeIndex writes the index page of recs.
+func writeIndex(w io.Writer, outDir string, recs []record, creator string) error {
+	type page struct {
+		NStars, NDone, NFailed, NPending            int
+		NSignals, NPlanet, NActivity, NInconclusive int
+		Caution, Creator, Fig2Caption               string
+		Fig1, Fig2                                  template.HTML
+		Stars, Failures                             []indexStar
+	}
+	p := page{NStars: len(recs), Caution: activity.Caution, Creator: creator}
+	var f1, f2 []point
+	useRHK := false
+	for _, r := range recs {
+		if r.State != nil && !math.IsNaN(float64(r.State.MeanLogRHK)) {
+			useRHK = true
+		}
+	}
+	for _, r := range recs {
+		is := indexStar{Name: r.Name, Folder: r.Folder, Status: r.Status, Rotation: "–"}
+		switch r.Status {
+		case StatusDone:
+			p.NDone++
+		case StatusFailed:
+			p.NFailed++
+			is.Error = r.State.Error
+			p.Failures = append(p.Failures, is)
+		default:
+			p.NPending++
+		}
+		if r.Diag != nil {
+			dir := filepath.Join(outDir, StarsDir, r.Folder)
+			is.Link = StarsDir + "/" + r.Folder + "/" + activity.VerdictFile
+			if _, err := os.Stat(filepath.Join(dir, activity.HTMLFile)); err == nil {
+				is.Link = StarsDir + "/" + r.Folder + "/" + activity.HTMLFile
+			}
+			rot := float64(r.Diag.Rotation.Period)
+			if rot > 0 {
+				is.Rotation = fmt.Sprintf("%.3g ± %.2g d (%s)", rot, float64(r.Diag.Rotation.Err), r.Diag.Rotation.Source)
+			}
+			worst := ""
+			for k, s := range r.Diag.Signals {
+				p.NSignals++
+				switch s.Verdict {
+				case activity.PlanetLike:
+					p.NPlanet++
+				case activity.ActivityLike:
+					p.NActivity++
+					worst = activity.ActivityLike
+				default:
+					p.NInconclusive++
+				}
+				c := verdictColour[s.Verdict]
+				is.Signals = append(is.Signals, indexSignal{Text: fmt.Sprintf("%.4g d", float64(s.Period)), Verdict: s.Verdict, Colour: c, Summary: s.Summary})
+				f1 = append(f1, point{x: rot, y: float64(s.Period), colour: c, title: fmt.Sprintf("%s signal %d: %.4g d, %s", r.Name, k+1, float64(s.Period), s.Verdict)})
+			}
+			if worst == "" && len(r.Diag.Signals) > 0 {
+				worst = activity.PlanetLike
+				for _, s := range r.Diag.Signals {
+					if s.Verdict != activity.PlanetLike {
+						worst = activity.Inconclusive
+					}
+				}
+			}
+			level := float64(r.State.MeanSIndex)
+			if useRHK {
+				level = float64(r.State.MeanLogRHK)
+			}
+			c := verdictColour[worst]
+			if c == "" {
+				c = "#ffffff"
+			}
+			f2 = append(f2, point{x: level, y: float64(r.State.RVRMS), colour: c, title: fmt.Sprintf("%s: rms %.3g m/s", r.Name, float64(r.State.RVRMS))})
+		}
+		p.Stars = append(p.Stars, is)
+	}
+	p.Fig1 = template.HTML(scatterSVG(f1, "rotation period (d)", "signal period (d)", true, true, []float64{1, 0.5, 1.0 / 3}))
+	xl := "mean S-index"
+	if useRHK {
+		xl = "mean log R'HK"
+	}
+	p.Fig2 = template.HTML(scatterSVG(f2, xl, "RV rms (m/s)", false, true, nil))
+	p.Fig2Caption = "Each star's " + xl + " against the scatter of its RVs about each instrument's mean; coloured by its most activity-like verdict (white: no signal)."
+	return indexTmpl.Execute(w, p)
+}

@@ -1,0 +1,504 @@
+package survey
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"runtime"
+	"runtime/debug"
+	"strings"
+	"sync"
+	"time"
+
+	"spotsift/activity"
+	"spotsift/rvfit"
+)
+
+// Options controls Run. A nil *Options gives the defaults.
+type Options struct {
+	// Workers bounds the number of stars analysed at once; zero means
+	// runtime.GOMAXPROCS(0).
+	Workers int
+	// Seed is the survey seed; each star's seed is StarSeed(Seed, name).
+	Seed uint64
+	// Shard selects a share of the manifest; the zero value takes all.
+	Shard Shard
+	// Progress, when not nil, is called after each star (analysed,
+	// unchanged or failed) with the number of stars finished and the
+	// number in the shard, from one goroutine at a time.
+	Progress func(done, total int)
+	// SkipModels leaves out the Gaussian-process fits of the diagnosis
+	// (activity.Options.SkipModels): much faster, fewer tests.
+	SkipModels bool
+	// Diagnose holds further settings of the diagnosis (FAPThreshold,
+	// MaxSignals, PMin, PMax, Oversampling, Permutations); its Periods,
+	// Star, Seed and SkipModels are set for each star. Nil means the
+	// defaults.
+	Diagnose *activity.Options
+	// Force reanalyses every star, changed or not; RetryFailed reanalyses
+	// the stars that failed last time even when their inputs are
+	// unchanged (by default an unchanged failed star keeps its failure).
+	Force, RetryFailed bool
+	// Version is the program version, recorded in every output and part of
+	// every star's input hash; "" means "dev".
+	Version string
+	// Command is the command line, recorded in the run's record.
+	Command string
+}
+
+// Star statuses in a Summary.
+const (
+	// StatusDone: analysed in this run.
+	StatusDone = "done"
+	// StatusUnchanged: inputs and settings unchanged since the run that
+	// analysed it; not analysed again.
+	StatusUnchanged = "unchanged"
+	// StatusFailed: the star could not be analysed; Error says why.
+	StatusFailed = "failed"
+	// StatusNotRun: the survey was interrupted before the star was
+	// finished.
+	StatusNotRun = "not-run"
+)
+
+// StarResult is the outcome of one star in a run.
+type StarResult struct {
+	Name   string
+	Folder string
+	// Status is one of StatusDone, StatusUnchanged, StatusFailed,
+	// StatusNotRun; Error is the reason of a failure.
+	Status string
+	Error  string
+	// Hash is the star's input hash (hex SHA-256; see InputHash).
+	Hash string
+	// Signals is the number of signals judged.
+	Signals int
+	// Seconds is the wall time of the star's analysis in this run.
+	Seconds float64
+}
+
+// Summary is the outcome of a run.
+type Summary struct {
+	Run RunRecord
+	// Stars are the stars of the shard, sorted by name.
+	Stars []StarResult
+}
+
+// Failed returns the stars that failed or were not run.
+func (s *Summary) Failed() []StarResult {
+	var out []StarResult
+	for _, r := range s.Stars {
+		if r.Status == StatusFailed || r.Status == StatusNotRun {
+			out = append(out, r)
+		}
+	}
+	return out
+}
+
+// Run statuses of a RunRecord.
+const (
+	RunComplete    = "complete"
+	RunPartial     = "partial"
+	RunInterrupted = "interrupted"
+)
+
+// RunRecord describes one run of a survey into an output folder.
+type RunRecord struct {
+	// ID identifies the run: its start time (UTC) and shard.
+	ID string `json:"id"`
+	// Started and Finished are RFC 3339 UTC times.
+	Started  string `json:"started"`
+	Finished string `json:"finished"`
+	Version  string `json:"version"`
+	Seed     uint64 `json:"seed"`
+	Shard    string `json:"shard,omitempty"`
+	Workers  int    `json:"workers"`
+	// SkipModels records whether the GP fits were left out.
+	SkipModels bool   `json:"skip_models"`
+	Command    string `json:"command,omitempty"`
+	// Status is RunComplete, RunPartial (some stars failed) or
+	// RunInterrupted.
+	Status string `json:"status"`
+	// Counts of the shard's stars by outcome.
+	Stars     int `json:"stars"`
+	Analysed  int `json:"analysed"`
+	Unchanged int `json:"unchanged"`
+	Failed    int `json:"failed"`
+	NotRun    int `json:"not_run"`
+}
+
+// Output file and folder names inside a survey's output folder.
+const (
+	StarsDir       = "stars"
+	StateFile      = "survey-star.json"
+	SummaryCSV     = "summary.csv"
+	SummaryFITS    = "summary.fits"
+	CatalogueFile  = "catalogue.sqlite"
+	IndexFile      = "index.html"
+	RunsFile       = "runs.json"
+	defaultVersion = "dev"
+)
+
+// Run analyses the stars of a manifest (the share of opts.Shard) into
+// outDir, then writes the summary table, the catalogue and the index page
+// of those stars (see the package documentation for the layout).
+//
+// Each star is diagnosed by activity.Diagnose with the seed
+// StarSeed(opts.Seed, name) and written by activity.WriteReport into
+// stars/<Folder(name)>/, with its state file written last. A star whose
+// input hash (InputHash) equals the one in its state file is not analysed
+// again. A star that fails - unreadable data, a bad star file, too few
+// epochs, even a panic in the analysis - is recorded with its reason and
+// the others go on.
+//
+// When ctx is cancelled, no new star is started, stars in progress are
+// abandoned (nothing of theirs is written) and the finished ones stay
+// intact; the outputs are written for what is finished and the run is
+// recorded as interrupted.
+//
+// Run returns the summary with an error wrapping ErrPartial when some
+// stars failed or were not run (the outputs are written all the same),
+// ctx.Err() as well when interrupted, and only an error without a summary
+// when the manifest or options are bad or the outputs cannot be written.
+func Run(ctx context.Context, m *Manifest, outDir string, opts *Options) (*Summary, error) {
+	var o Options
+	if opts != nil {
+		o = *opts
+	}
+	if err := m.Check(); err != nil {
+		return nil, err
+	}
+	if err := o.Shard.check(); err != nil {
+		return nil, err
+	}
+	if o.Workers < 0 {
+		return nil, fmt.Errorf("%w: %d workers", ErrOptions, o.Workers)
+	}
+	if o.Workers == 0 {
+		o.Workers = runtime.GOMAXPROCS(0)
+	}
+	if o.Version == "" {
+		o.Version = defaultVersion
+	}
+	if outDir == "" {
+		return nil, fmt.Errorf("%w: no output folder", ErrOptions)
+	}
+	if err := os.MkdirAll(filepath.Join(outDir, StarsDir), 0o755); err != nil {
+		return nil, err
+	}
+	start := time.Now().UTC()
+	rec := RunRecord{ID: runID(start, o.Shard), Started: start.Format(time.RFC3339), Version: o.Version, Seed: o.Seed,
+		Shard: o.Shard.String(), Workers: o.Workers, SkipModels: o.SkipModels, Command: o.Command}
+
+	pick := o.Shard.pick(m.Stars)
+	results := make([]StarResult, len(pick))
+	for i, j := range pick {
+		results[i] = StarResult{Name: m.Stars[j].Name, Folder: Folder(m.Stars[j].Name), Status: StatusNotRun}
+	}
+	jobs := make(chan int)
+	done := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < min(o.Workers, len(pick)); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range jobs {
+				results[i] = runStar(ctx, m, &m.Stars[pick[i]], outDir, &o, rec.ID)
+				done <- i
+			}
+		}()
+	}
+	go func() {
+		defer close(jobs)
+		for i := range pick {
+			select {
+			case jobs <- i:
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	go func() { wg.Wait(); close(done) }()
+	n := 0
+	for range done {
+		n++
+		if o.Progress != nil {
+			o.Progress(n, len(pick))
+		}
+	}
+	interrupted := ctx.Err() != nil
+	for i := range results {
+		r := &results[i]
+		if interrupted && r.Status != StatusDone && r.Status != StatusUnchanged && r.Status != StatusFailed {
+			r.Status = StatusNotRun
+		}
+		switch r.Status {
+		case StatusDone:
+			rec.Analysed++
+		case StatusUnchanged:
+			rec.Unchanged++
+		case StatusFailed:
+			rec.Failed++
+		default:
+			rec.NotRun++
+		}
+	}
+	rec.Stars = len(pick)
+	rec.Status = RunComplete
+	if rec.Failed > 0 {
+		rec.Status = RunPartial
+	}
+	if interrupted {
+		rec.Status = RunInterrupted
+	}
+	rec.Finished = time.Now().UTC().Format(time.RFC3339)
+
+	runs, err := readRuns(outDir)
+	if err != nil {
+		return nil, err
+	}
+	runs = append(runs, rec)
+	if err := writeRuns(outDir, runs); err != nil {
+		return nil, err
+	}
+	recs, err := collect(outDir, results)
+	if err != nil {
+		return nil, err
+	}
+	if err := writeOutputs(outDir, recs, runs); err != nil {
+		return nil, err
+	}
+	sum := &Summary{Run: rec, Stars: results}
+	switch {
+	case interrupted:
+		return sum, fmt.Errorf("%w: interrupted with %d of %d stars not run: %w", ErrPartial, rec.NotRun, rec.Stars, ctx.Err())
+	case rec.Failed > 0:
+		return sum, fmt.Errorf("%w: %d of %d stars failed", ErrPartial, rec.Failed, rec.Stars)
+	}
+	return sum, nil
+}
+
+// runID names a run by its start time and shard.
+func runID(t time.Time, s Shard) string {
+	id := t.Format("20060102T150405.000Z")
+	if s.N > 0 {
+		id += fmt.Sprintf("-shard%dof%d", s.K, s.N)
+	}
+	return id
+}
+
+// outcome is what the analysis of one star gives.
+type outcome struct {
+	diag   *activity.Diagnosis
+	series *rvfit.Series
+	star   *activity.Star
+	notes  []string
+	err    error
+}
+
+// runStar handles one star: hash, skip when unchanged, else analyse and
+// write.
+func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Options, runID string) StarResult {
+	res := StarResult{Name: e.Name, Folder: Folder(e.Name), Status: StatusNotRun}
+	if ctx.Err() != nil {
+		return res
+	}
+	dir := filepath.Join(outDir, StarsDir, res.Folder)
+	seed := StarSeed(o.Seed, e.Name)
+	hash, inputs, herr := InputHash(m, e, o)
+	res.Hash = hash
+	old, _ := readState(dir)
+	if herr == nil && old != nil && old.Hash == hash && !o.Force {
+		_, verr := os.Stat(filepath.Join(dir, activity.VerdictFile))
+		switch {
+		case old.Status == StatusDone && verr == nil:
+			res.Status, res.Signals = StatusUnchanged, old.Signals
+			return res
+		case old.Status == StatusFailed && !o.RetryFailed:
+			res.Status, res.Error = StatusFailed, old.Error
+			return res
+		}
+	}
+	st := &state{Name: e.Name, Folder: res.Folder, Data: e.Data, Hash: hash, Seed: seed, Run: runID, Version: o.Version}
+	t0 := time.Now()
+	var out outcome
+	if herr != nil {
+		out.err = herr
+	} else {
+		ch := make(chan outcome, 1)
+		go func() { ch <- analyse(m, e, seed, o, inputs) }()
+		select {
+		case out = <-ch:
+		case <-ctx.Done():
+			return res
+		}
+	}
+	st.Seconds = time.Since(t0).Seconds()
+	res.Seconds = st.Seconds
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		out.err = err
+	}
+	if out.err == nil {
+		st.fill(out.diag, out.series, out.star)
+		st.Notes = out.notes
+		if err := activity.WriteReport(dir, &activity.Report{Diagnosis: out.diag, Series: out.series, Star: out.star}); err != nil {
+			out.err = fmt.Errorf("writing the report: %w", err)
+		}
+	}
+	if out.err != nil {
+		st.Status, st.Error = StatusFailed, oneLine(out.err.Error())
+		res.Status, res.Error = StatusFailed, st.Error
+	} else {
+		st.Status = StatusDone
+		res.Status, res.Signals = StatusDone, len(out.diag.Signals)
+	}
+	if err := writeState(dir, st); err != nil {
+		res.Status, res.Error = StatusFailed, oneLine("writing the state file: "+err.Error())
+	}
+	return res
+}
+
+// oneLine joins the lines of a message.
+func oneLine(s string) string { return strings.Join(strings.Fields(s), " ") }
+
+// analyse loads and diagnoses one star; a panic becomes an error.
+func analyse(m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.InputHash) (out outcome) {
+	defer func() {
+		if r := recover(); r != nil {
+			out = outcome{err: fmt.Errorf("internal error (please report it): %v\n%s", r, firstFrames(debug.Stack()))}
+		}
+	}()
+	star, err := loadStar(m, e)
+	if err != nil {
+		return outcome{err: err}
+	}
+	s, notes, err := loadSeries(m, e, star)
+	if err != nil {
+		return outcome{err: err}
+	}
+	var do activity.Options
+	if o.Diagnose != nil {
+		do = *o.Diagnose
+	}
+	do.Periods = append([]float64(nil), e.Periods...)
+	do.Star = star
+	do.Seed = seed
+	do.SkipModels = o.SkipModels
+	dg, err := activity.Diagnose(s, &do)
+	if err != nil {
+		return outcome{err: err}
+	}
+	dg.Star = e.Name
+	dg.Provenance = activity.Provenance{Version: o.Version, Seed: seed, Command: "survey", Inputs: inputs}
+	return outcome{diag: dg, series: s, star: star, notes: notes}
+}
+
+// firstFrames keeps the start of a stack trace.
+func firstFrames(b []byte) string {
+	lines := strings.Split(string(b), "\n")
+	if len(lines) > 12 {
+		lines = lines[:12]
+	}
+	return strings.Join(lines, " | ")
+}
+
+// loadStar reads the star file and applies the inline parameters; it
+// returns a star with at least the name.
+func loadStar(m *Manifest, e *Entry) (*activity.Star, error) {
+	st := &activity.Star{}
+	if e.StarFile != "" {
+		f, err := activity.ReadStar(m.path(e.StarFile))
+		if err != nil {
+			return nil, fmt.Errorf("star file: %w", err)
+		}
+		st = f
+	}
+	if in := e.Star; in != nil {
+		set := func(dst *float64, v float64) {
+			if v != 0 {
+				*dst = v
+			}
+		}
+		set(&st.BV, in.BV)
+		set(&st.Mass, in.Mass)
+		set(&st.Teff, in.Teff)
+		set(&st.VSinI, in.VSinI)
+		set(&st.RotationPeriod, in.RotationPeriod)
+		set(&st.RotationPeriodErr, in.RotationPeriodErr)
+		if in.SIndex != (activity.SCalibration{}) {
+			st.SIndex = in.SIndex
+		}
+		st.Vacuum = st.Vacuum || in.Vacuum
+	}
+	st.Name = e.Name
+	return st, nil
+}
+
+// spectrumExts are the file extensions taken from a folder of spectra.
+var spectrumExts = map[string]bool{".fits": true, ".fit": true, ".fts": true, ".txt": true, ".dat": true}
+
+// spectrumFiles lists the spectra of a folder, sorted.
+func spectrumFiles(dir string) ([]string, error) {
+	ents, err := os.ReadDir(dir)
+	if err != nil {
+		return nil, err
+	}
+	var out []string
+	for _, d := range ents {
+		if d.IsDir() || strings.HasPrefix(d.Name(), ".") || !spectrumExts[strings.ToLower(filepath.Ext(d.Name()))] {
+			continue
+		}
+		out = append(out, filepath.Join(dir, d.Name()))
+	}
+	if len(out) == 0 {
+		return nil, fmt.Errorf("%w: %s holds no spectra (.fits, .fit, .fts, .txt, .dat)", activity.ErrNoSpectra, dir)
+	}
+	return out, nil
+}
+
+// loadSeries reads the star's data: in memory, a table, or a folder of
+// spectra. Reader warnings and spectra left out come back as notes.
+func loadSeries(m *Manifest, e *Entry, star *activity.Star) (*rvfit.Series, []string, error) {
+	if e.Series != nil {
+		s := e.Series.Clone()
+		return s, nil, s.Require(activity.MinEpochs, "the diagnosis")
+	}
+	p := m.path(e.Data)
+	fi, err := os.Stat(p)
+	if err != nil {
+		return nil, nil, fmt.Errorf("data: %w", err)
+	}
+	var s *rvfit.Series
+	var notes []string
+	if fi.IsDir() {
+		files, err := spectrumFiles(p)
+		if err != nil {
+			return nil, nil, err
+		}
+		var fails []activity.MeasureFailure
+		s, fails, err = activity.Measure(files, &activity.MeasureOptions{Star: star, Workers: 1})
+		if err != nil {
+			return nil, nil, fmt.Errorf("measuring the spectra of %s: %w", p, err)
+		}
+		for _, f := range fails {
+			what := "left out"
+			if f.Partial {
+				what = "kept, some indicators missing"
+			}
+			notes = append(notes, fmt.Sprintf("spectrum %s %s: %v", filepath.Base(f.Path), what, f.Err))
+		}
+	} else {
+		s, notes, err = rvfit.ReadTable(p, &rvfit.ReadOptions{Columns: e.Columns, RVUnit: e.RVUnit})
+		if err != nil {
+			return nil, nil, err
+		}
+	}
+	if err := s.Require(activity.MinEpochs, "the diagnosis"); err != nil {
+		return nil, nil, fmt.Errorf("%s: %w", p, err)
+	}
+	return s, notes, nil
+}
+
+// errStateMissing reports a star folder without a state file.
+var errStateMissing = errors.New("survey: no state file")
