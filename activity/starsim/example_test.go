@@ -248,3 +248,53 @@ func corr(x, y []float64) float64 {
 	}
 	return sxy / math.Sqrt(sxx*syy)
 }
+
+// TestHAlphaNaDFollowFaculae checks that the H-alpha and Na I D emission
+// cores of the spectra strengthen with the visible facular coverage, as
+// indicators' H-alpha (Gomes da Silva et al. 2011 bands) and Na I D (Díaz
+// et al. 2007) indices see them: both correlate with the facular filling
+// factor (r > 0.95) on noise-free spectra.
+func TestHAlphaNaDFollowFaculae(t *testing.T) {
+	sc := &starsim.Scenario{
+		Name:        "chromo-red",
+		Star:        starsim.Star{VEq: 3, RotationPeriod: 10},
+		Activity:    starsim.Activity{Regions: []starsim.Region{{Lat: 20, SpotArea: 0.005, FaculaArea: 0.08}}},
+		Observing:   starsim.Observing{Start: 2460000, End: 2460009.5, Step: 0.75},
+		Instruments: []starsim.Instrument{{Name: "A", SNR: 150}},
+		Spectrum:    starsim.SpectrumPlan{Full: true, Pixels: 60000, LambdaMin: 5700, LambdaMax: 6700, Lines: 100},
+	}
+	res, err := starsim.Simulate(sc, 2, &starsim.Options{NoNoise: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ff, ha, na []float64
+	for i, e := range res.Epochs {
+		sp, err := res.Spectrum(i)
+		if err != nil {
+			t.Fatal(err)
+		}
+		h, _, err := indicators.HAlphaIndex(sp, 0, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		d, _, err := indicators.NaDIndex(sp, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		// The range lacks Ca II: the S-index comes from the side model of
+		// the window, on the same law S = s_quiet + s_gain f_fac (defaults
+		// 0.17 and 3).
+		if want := 0.17 + 3*e.FaculaFilling; math.Abs(e.TrueSIndex-want) > 1e-3 {
+			t.Errorf("epoch %d: S = %.5f, want %.5f", i, e.TrueSIndex, want)
+		}
+		ff = append(ff, e.FaculaFilling)
+		ha = append(ha, h)
+		na = append(na, d)
+	}
+	if r := corr(ff, ha); r < 0.95 {
+		t.Errorf("r(facular filling, H-alpha index) = %.3f, want > 0.95\n%.4f\n%.5f", r, ff, ha)
+	}
+	if r := corr(ff, na); r < 0.95 {
+		t.Errorf("r(facular filling, Na I D index) = %.3f, want > 0.95\n%.4f\n%.5f", r, ff, na)
+	}
+}

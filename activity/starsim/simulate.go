@@ -27,6 +27,7 @@ const (
 	streamTable    = 1 << 32 // + epoch index
 	streamSpectrum = 2 << 32 // + epoch index
 	streamSNR      = 3 << 32 // + epoch index
+	streamCaLines  = 4
 )
 
 // Options controls Simulate. A nil *Options uses the defaults.
@@ -77,8 +78,7 @@ type Epoch struct {
 	Emission float64
 	// TrueFWHM, TrueBIS (m/s), TrueContrast and TrueSIndex are the noise-free
 	// values measured on the profile and on the synthetic Ca II spectrum
-	// (TrueSIndex and SIndex are NaN when the spectral range lacks the Ca II
-	// bands).
+	// (a side model of the Ca II window when the spectral range lacks it).
 	TrueFWHM, TrueBIS, TrueContrast, TrueSIndex float64
 
 	// RV is the measured velocity: systemic + instrument offset + ActivityRV
@@ -124,10 +124,10 @@ type sim struct {
 	inst    []instModel
 	visits  []visit
 	spec    *specModel
-	e0, e1  float64 // chromospheric emission: e = e0 + e1·facular filling
-	caLo    int     // pixel range of the Ca II window
+	e0, e1  float64    // chromospheric emission: e = e0 + e1·facular filling
+	ca      *specModel // the model holding the Ca II window: spec, or a side model
+	caLo    int        // pixel range of the Ca II window in ca
 	caHi    int
-	hasCa   bool // the spectrum holds the S-index bands
 	workers int
 	noNoise bool
 }
@@ -175,9 +175,22 @@ func Simulate(sc *Scenario, seed uint64, opts *Options) (*Result, error) {
 	s.g = newVelGrid(s.d.vmax+8*sigEff+1, c.Numerics.VelocityStep)
 	s.quietH = s.d.quietHistogram(s.g)
 	s.spec = newSpecModel(c, rand.New(rand.NewPCG(seed, streamLines)))
+	s.ca = s.spec
 	s.caLo = int((math.Log(sBandV0-5) - s.spec.lnl0) / s.spec.dl)
 	s.caHi = int((math.Log(sBandR1+5)-s.spec.lnl0)/s.spec.dl) + 1
-	s.hasCa = s.caLo >= 0 && s.caHi <= s.spec.n
+	if s.caLo < 0 || s.caHi > s.spec.n {
+		// The spectrum lacks the S-index bands: a side model of the Ca II
+		// window, at the same pixel step and line density, gives the S-index
+		// and calibrates the emission cores all the same.
+		cc := *c
+		lo, hi := sBandV0-12, sBandR1+12
+		cc.Spectrum.LambdaMin, cc.Spectrum.LambdaMax = lo, hi
+		cc.Spectrum.Pixels = max(1000, int(math.Log(hi/lo)/s.spec.dl)+1)
+		cc.Spectrum.Lines = int(math.Round(float64(c.Spectrum.Lines) * (hi - lo) / (c.Spectrum.LambdaMax - c.Spectrum.LambdaMin)))
+		s.ca = newSpecModel(&cc, rand.New(rand.NewPCG(seed, streamCaLines)))
+		s.caLo = int((math.Log(sBandV0-5) - s.ca.lnl0) / s.ca.dl)
+		s.caHi = int((math.Log(sBandR1+5)-s.ca.lnl0)/s.ca.dl) + 1
+	}
 
 	ws := s.newWorkspace()
 	var quiet coverage
@@ -223,8 +236,8 @@ func Simulate(sc *Scenario, seed uint64, opts *Options) (*Result, error) {
 
 func (s *sim) newWorkspace() *workspace {
 	return &workspace{
-		spec:   make([]float64, s.spec.n),
-		absorb: make([]float64, s.spec.n),
+		spec:   make([]float64, max(s.spec.n, s.ca.n)),
+		absorb: make([]float64, max(s.spec.n, s.ca.n)),
 	}
 }
 
@@ -267,15 +280,14 @@ func (s *sim) profileFit(ws *workspace, cv *coverage, inst int) (GaussFit, error
 
 // buildKernels fills ws.k for coverage cv and instrument inst.
 func (s *sim) buildKernels(ws *workspace, cv *coverage, inst int) {
-	s.buildKernelsFor(ws, cv, inst, 0, math.Inf(1))
+	s.buildKernelsFor(ws, cv, inst, s.spec, 0, math.Inf(1))
 }
 
 // buildKernelsFor fills the kernels synth needs for wavelengths in
 // [lmin, lmax] Å only (the nodes around them and the strong lines whose
 // wings reach them); the others are left as they were.
-func (s *sim) buildKernelsFor(ws *workspace, cv *coverage, inst int, lmin, lmax float64) {
+func (s *sim) buildKernelsFor(ws *workspace, cv *coverage, inst int, m *specModel, lmin, lmax float64) {
 	st := &s.sc.Star
-	m := s.spec
 	k := &ws.k
 	k.g = s.g
 	sigI := s.inst[inst].sigInst
@@ -376,7 +388,7 @@ func (s *sim) photonRV(ws *workspace, cv *coverage, inst int) float64 {
 // with H, K = Σ F T Δλ (triangular bands) and R, V = Σ F Δλ (METHODS.md
 // §4.1; SIndexScale).
 func (s *sim) sIndex(spec []float64, snr float64) (S, sErr float64) {
-	m := s.spec
+	m := s.ca
 	var hk, rv, vhk, vrv float64
 	snr2 := snr * snr
 	for i := s.caLo; i < s.caHi; i++ {
@@ -404,14 +416,8 @@ func (s *sim) sIndex(spec []float64, snr float64) (S, sErr float64) {
 // quiet star has S = SQuiet and dS/df_fac = SGain. S is linear in e because
 // the emission cores lie inside the H and K bands only.
 func (s *sim) calibrateEmission(ws *workspace, quiet *coverage) error {
-	if !s.hasCa {
-		// Without the Ca II window the S-index is not measured; the
-		// emission cores of the other lines follow a unit law.
-		s.e0, s.e1 = 0.1, 1
-		return nil
-	}
-	s.buildKernels(ws, quiet, 0)
-	m := s.spec
+	m := s.ca
+	s.buildKernelsFor(ws, quiet, 0, m, 0, math.Inf(1))
 	m.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, 0)
 	S0, _ := s.sIndex(ws.spec, 100)
 	m.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, 1)
@@ -455,14 +461,11 @@ func (s *sim) epoch(ws *workspace, i int) (Epoch, error) {
 		planets += rv
 	}
 	ep.Emission = s.e0 + s.e1*ep.FaculaFilling
-	sErr := math.NaN()
-	ep.TrueSIndex = math.NaN()
-	m0 := s.spec
-	if s.hasCa {
-		s.buildKernelsFor(ws, &ws.cv, v.inst, m0.lam[s.caLo], m0.lam[s.caHi-1])
-		s.spec.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, ep.Emission)
-		ep.TrueSIndex, sErr = s.sIndex(ws.spec, ep.SNR)
-	}
+	m0 := s.ca
+	s.buildKernelsFor(ws, &ws.cv, v.inst, m0, m0.lam[s.caLo], m0.lam[s.caHi-1])
+	m0.synth(ws.spec, ws.absorb, s.caLo, s.caHi, &ws.k, 0, ep.Emission)
+	var sErr float64
+	ep.TrueSIndex, sErr = s.sIndex(ws.spec, ep.SNR)
 
 	rng := rand.New(rand.NewPCG(s.seed, streamTable+uint64(i)))
 	gauss := rng.NormFloat64
@@ -652,8 +655,8 @@ func (s *sim) spectrum(ws *workspace, r *Result, i int, flux []float64) *indicat
 
 // Series returns the simulated measurements as a per-epoch series: time,
 // rv, rv_err, instrument and the indicators fwhm, bis (m/s, with errors)
-// and s_index (with its error; left out when the spectral range lacks the
-// Ca II bands), in time order. Each call returns a new Series.
+// and s_index (with its error), in time order. Each call returns a new
+// Series.
 func (r *Result) Series() *rvfit.Series {
 	n := len(r.Epochs)
 	s := &rvfit.Series{Name: r.Scenario.Name}
@@ -669,10 +672,7 @@ func (r *Result) Series() *rvfit.Series {
 		bis.Value[i], bis.Err[i] = e.BIS, e.BISErr
 		sind.Value[i], sind.Err[i] = e.SIndex, e.SIndErr
 	}
-	s.Indicators = []rvfit.Indicator{fwhm, bis}
-	if r.s.hasCa {
-		s.Indicators = append(s.Indicators, sind)
-	}
+	s.Indicators = []rvfit.Indicator{fwhm, bis, sind}
 	return s
 }
 
