@@ -199,7 +199,7 @@ func ParseManifestCSV(r io.Reader, name string) (*Manifest, error) {
 			}
 			inline[k] = x
 		}
-		if err := e.setInline(inline, name, line); err != nil {
+		if err := e.setInline(inline, name, line, ""); err != nil {
 			return nil, err
 		}
 		m.Stars = append(m.Stars, e)
@@ -269,7 +269,7 @@ func ParseManifestTOML(b []byte, name string) (*Manifest, error) {
 				inline[k] = *p
 			}
 		}
-		if err := e.setInline(inline, name, line); err != nil {
+		if err := e.setInline(inline, name, line, fmt.Sprintf("star[%d].", i+1)); err != nil {
 			return nil, err
 		}
 		m.Stars = append(m.Stars, e)
@@ -296,7 +296,13 @@ func starLine(b []byte, k int) int {
 
 // setInline checks inline star parameters with the rules of a star file
 // (activity.ParseStar) and stores them in e.Star.
-func (e *Entry) setInline(inline map[string]float64, file string, line int) error {
+func (e *Entry) setInline(inline map[string]float64, file string, line int, keyPrefix string) error {
+	merr := func(k, msg string) error {
+		if keyPrefix != "" {
+			return &ManifestError{File: file, Line: line, Key: keyPrefix + k, Msg: msg}
+		}
+		return &ManifestError{File: file, Line: line, Column: k, Msg: msg}
+	}
 	if len(inline) == 0 {
 		return nil
 	}
@@ -310,7 +316,7 @@ func (e *Entry) setInline(inline map[string]float64, file string, line int) erro
 	for _, k := range keys {
 		v := inline[k]
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return &ManifestError{File: file, Line: line, Column: k, Msg: fmt.Sprintf("%g is not a finite number", v)}
+			return merr(k, fmt.Sprintf("%g is not a finite number", v))
 		}
 		fmt.Fprintf(&sb, "%s = %s\n", k, strconv.FormatFloat(v, 'e', -1, 64))
 	}
@@ -318,7 +324,7 @@ func (e *Entry) setInline(inline map[string]float64, file string, line int) erro
 	if err != nil {
 		var se *activity.StarError
 		if errors.As(err, &se) {
-			return &ManifestError{File: file, Line: line, Column: se.Key, Msg: se.Msg}
+			return merr(se.Key, se.Msg)
 		}
 		return &ManifestError{File: file, Line: line, Msg: err.Error()}
 	}
@@ -344,7 +350,12 @@ func (m *Manifest) Check() error {
 	folders := map[string]string{}
 	for i := range m.Stars {
 		e := &m.Stars[i]
-		bad := func(c, msg string) error { return &ManifestError{File: m.file(), Line: e.Line, Column: c, Msg: msg} }
+		bad := func(c, msg string) error {
+			if strings.EqualFold(filepath.Ext(m.File), ".toml") {
+				return &ManifestError{File: m.file(), Line: e.Line, Key: fmt.Sprintf("star[%d].%s", i+1, c), Msg: msg}
+			}
+			return &ManifestError{File: m.file(), Line: e.Line, Column: c, Msg: msg}
+		}
 		if strings.TrimSpace(e.Name) == "" {
 			return bad("name", fmt.Sprintf("star %d has no name", i+1))
 		}

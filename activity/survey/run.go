@@ -64,25 +64,25 @@ const (
 
 // StarResult is the outcome of one star in a run.
 type StarResult struct {
-	Name   string
-	Folder string
+	Name   string `json:"name"`
+	Folder string `json:"folder"`
 	// Status is one of StatusDone, StatusUnchanged, StatusFailed,
 	// StatusNotRun; Error is the reason of a failure.
-	Status string
-	Error  string
+	Status string `json:"status"`
+	Error  string `json:"error,omitempty"`
 	// Hash is the star's input hash (hex SHA-256; see InputHash).
-	Hash string
+	Hash string `json:"input_hash,omitempty"`
 	// Signals is the number of signals judged.
-	Signals int
+	Signals int `json:"signals"`
 	// Seconds is the wall time of the star's analysis in this run.
-	Seconds float64
+	Seconds float64 `json:"seconds"`
 }
 
 // Summary is the outcome of a run.
 type Summary struct {
-	Run RunRecord
+	Run RunRecord `json:"run"`
 	// Stars are the stars of the shard, sorted by name.
-	Stars []StarResult
+	Stars []StarResult `json:"stars"`
 }
 
 // Failed returns the stars that failed or were not run.
