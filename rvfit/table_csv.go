@@ -202,8 +202,15 @@ func clip(s string) string {
 	return s
 }
 
-// formatFloat writes x in the shortest form that reads back bit for bit.
-func formatFloat(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+// formatFloat writes x in the shortest form that reads back bit for bit,
+// without an exponent for magnitudes from 1e-4 to 1e21 (so epochs read as
+// 2460100.6066378187, not 2.4601006066378187e+06).
+func formatFloat(x float64) string {
+	if a := math.Abs(x); a == 0 || (a >= 1e-4 && a < 1e21) {
+		return strconv.FormatFloat(x, 'f', -1, 64)
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64)
+}
 
 // WriteCSV writes s as CSV: a comment naming the creator, a units comment,
 // the header row and one row per epoch. Values are written in the shortest
