@@ -82,19 +82,26 @@ func scatterSVG(pts []point, xlabel, ylabel string, logX, logY bool, ratios []fl
 			if len(out) >= 2 {
 				return out
 			}
+			// Less than two decades: ticks at 1, 2 and 5 times powers of 10.
 			out = nil
-		}
-		step := math.Pow(10, math.Floor(math.Log10((c-a)/4)))
-		for _, m := range []float64{1, 2, 5, 10} {
-			if (c-a)/(m*step) <= 6 {
-				step *= m
-				break
+			for e := math.Floor(a) - 1; e <= math.Ceil(c); e++ {
+				for _, m := range []float64{1, 2, 5} {
+					if v := e + math.Log10(m); v >= a && v <= c {
+						out = append(out, v)
+					}
+				}
 			}
+			if len(out) >= 2 {
+				return out
+			}
+			// A narrow range: round values in data space.
+			lo, hi := math.Pow(10, a), math.Pow(10, c)
+			for _, v := range linearTicks(lo, hi) {
+				out = append(out, math.Log10(v))
+			}
+			return out
 		}
-		for v := math.Ceil(a/step) * step; v <= c; v += step {
-			out = append(out, v)
-		}
-		return out
+		return linearTicks(a, c)
 	}
 	label := func(v float64, log bool) string {
 		if log {
@@ -118,8 +125,8 @@ func scatterSVG(pts []point, xlabel, ylabel string, logX, logY bool, ratios []fl
 			// y = x + lc, clipped to the box.
 			a, z := math.Max(x0, y0-lc), math.Min(x1, y1-lc)
 			if a < z {
-				fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#bbb" stroke-dasharray="4 3"/><text x="%.1f" y="%.1f" fill="#999" font-size="10">P = Prot/%g</text>`,
-					px(a), py(a+lc), px(z), py(z+lc), px(z)-52, py(z+lc)+12, 1/c)
+				fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#bbb" stroke-dasharray="4 3"/><text x="%.1f" y="%.1f" fill="#999" font-size="10">%s</text>`,
+					px(a), py(a+lc), px(z), py(z+lc), px(z)-52, py(z+lc)+12, ratioLabel(c))
 			}
 		}
 	}
@@ -181,7 +188,7 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 	var f1, f2 []point
 	useRHK := false
 	for _, r := range recs {
-		if r.State != nil && !math.IsNaN(float64(r.State.MeanLogRHK)) {
+		if r.Diag != nil && !math.IsNaN(float64(r.State.MeanLogRHK)) {
 			useRHK = true
 		}
 	}
@@ -251,4 +258,32 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 	p.Fig2 = template.HTML(scatterSVG(f2, xl, "RV rms (m/s)", false, true, nil))
 	p.Fig2Caption = "Each star's " + xl + " against the scatter of its RVs about each instrument's mean; coloured by its most activity-like verdict (white: no signal)."
 	return indexTmpl.Execute(w, p)
+}
+
+// ratioLabel names the line P = c·Prot.
+func ratioLabel(c float64) string {
+	if c == 1 {
+		return "P = Prot"
+	}
+	return fmt.Sprintf("P = Prot/%.3g", 1/c)
+}
+
+// linearTicks returns round tick values (1, 2 or 5 times a power of 10
+// apart, at most 6 steps) between a and c.
+func linearTicks(a, c float64) []float64 {
+	if !(c > a) {
+		return []float64{a}
+	}
+	step := math.Pow(10, math.Floor(math.Log10((c-a)/4)))
+	for _, m := range []float64{1, 2, 5, 10} {
+		if (c-a)/(m*step) <= 6 {
+			step *= m
+			break
+		}
+	}
+	var out []float64
+	for k := math.Ceil(a / step); k*step <= c; k++ {
+		out = append(out, k*step)
+	}
+	return out
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -320,7 +321,9 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 			return res
 		}
 	}
-	st := &state{Name: e.Name, Folder: res.Folder, Data: e.Data, Hash: hash, Seed: seed, Run: runID, Version: o.Version}
+	nan := activity.Num(math.NaN())
+	st := &state{Name: e.Name, Folder: res.Folder, Data: e.Data, Hash: hash, Seed: seed, Run: runID, Version: o.Version,
+		RVRMS: nan, MedianRVErr: nan, MeanSIndex: nan, MeanLogRHK: nan}
 	t0 := time.Now()
 	var out outcome
 	if herr != nil {
