@@ -66,6 +66,20 @@ partial survey), 2 bad usage or a bad manifest.`)
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
+	finished := make(chan struct{})
+	defer close(finished)
+	go func() {
+		select {
+		case <-ctx.Done():
+			// A second Ctrl-C kills at once; every file is renamed into
+			// place whole, so nothing half-written is left either way.
+			stop()
+			if !c.quiet {
+				fmt.Fprintln(e.stderr, "\nspotsift: interrupted: keeping the finished stars and writing the catalogue (Ctrl-C again to quit now)")
+			}
+		case <-finished:
+		}
+	}()
 	var bar *progress
 	opts := &survey.Options{
 		Workers: c.workers, Seed: c.seed, Shard: sh, SkipModels: *noGP, Force: *force, RetryFailed: *retry,
@@ -118,8 +132,11 @@ func printSurvey(e *env, sum *survey.Summary, out string) {
 			fmt.Fprintf(e.stdout, "  failed: %s: %s\n", f.Name, f.Error)
 		}
 	}
-	if r.Failed > 0 || r.NotRun > 0 {
-		fmt.Fprintf(e.stdout, "this survey is partial: rerun the same command to redo the stars not done\n")
+	if r.NotRun > 0 {
+		fmt.Fprintf(e.stdout, "this survey is partial: run the same command again to finish it (finished stars are kept)\n")
+	}
+	if r.Failed > 0 {
+		fmt.Fprintf(e.stdout, "this survey is partial: mend the failed stars' inputs and run it again (--retry-failed retries the failures of unchanged stars)\n")
 	}
 	fmt.Fprintf(e.stdout, "outputs: %s (catalogue %s, summary %s)\n",
 		filepath.Join(out, survey.IndexFile), filepath.Join(out, survey.CatalogueFile), filepath.Join(out, survey.SummaryCSV))
