@@ -46,7 +46,7 @@ CREATE TABLE stars (
   input_hash      TEXT,                 -- SHA-256 of inputs and settings
   seed            TEXT,                 -- the star's seed (decimal)
   run_id          TEXT,                 -- the run that analysed it
-  seconds         REAL,                 -- wall time of its analysis
+  seconds         REAL,                 -- wall time of its analysis and report
   n_epochs        INTEGER,
   n_instruments   INTEGER,
   baseline        REAL,                 -- days

@@ -75,7 +75,8 @@ type StarResult struct {
 	Hash string `json:"input_hash,omitempty"`
 	// Signals is the number of signals judged.
 	Signals int `json:"signals"`
-	// Seconds is the wall time of the star's analysis in this run.
+	// Seconds is the wall time of the star's analysis and report in this
+	// run.
 	Seconds float64 `json:"seconds"`
 }
 
@@ -337,8 +338,6 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 			return res
 		}
 	}
-	st.Seconds = time.Since(t0).Seconds()
-	res.Seconds = st.Seconds
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		out.err = err
 	}
@@ -349,6 +348,8 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 			out.err = fmt.Errorf("writing the report: %w", err)
 		}
 	}
+	st.Seconds = time.Since(t0).Seconds()
+	res.Seconds = st.Seconds
 	if out.err != nil {
 		st.Status, st.Error = StatusFailed, oneLine(out.err.Error())
 		res.Status, res.Error = StatusFailed, st.Error
