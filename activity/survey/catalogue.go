@@ -14,6 +14,10 @@ import (
 	"spotsift/activity"
 )
 
+// SchemaVersion is stored in the catalogue as PRAGMA user_version; it
+// changes whenever Schema does.
+const SchemaVersion = 1
+
 // Schema is the SQL schema of the catalogue (SQLite). Numbers that are not
 // known (NaN) are NULL. Stars, signals and evidence items are numbered in
 // name order, so that the same sample gives the same rows however it was
@@ -138,7 +142,7 @@ func writeCatalogue(path string, recs []record, runs []RunRecord) (err error) {
 			err = os.Rename(tmp, path)
 		}
 	}()
-	if _, err = db.Exec(Schema); err != nil {
+	if _, err = db.Exec(Schema + fmt.Sprintf("PRAGMA user_version = %d;", SchemaVersion)); err != nil {
 		return fmt.Errorf("survey: catalogue schema: %w", err)
 	}
 	tx, err := db.Begin()

@@ -3,6 +3,7 @@ package survey
 import (
 	"context"
 	"errors"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -55,6 +56,9 @@ func TestCatalogueSQLiteShell(t *testing.T) {
 	}
 	if s := run(".schema"); !strings.Contains(s, "CREATE TABLE evidence") {
 		t.Errorf(".schema: %s", s)
+	}
+	if s := run("PRAGMA user_version;"); strings.TrimSpace(s) != fmt.Sprintf("user_version\n%d", SchemaVersion) {
+		t.Errorf("user_version: %q", s)
 	}
 	if s := run("PRAGMA integrity_check;"); strings.TrimSpace(s) != "integrity_check\nok" {
 		t.Errorf("integrity_check: %q", s)
