@@ -165,8 +165,9 @@ func (d *data) gpRotation(p indicatorPeak, rel []RotationEstimate) (RotationEsti
 }
 
 // meanLogRHK returns the star's mean log R'HK: the log_rhk column's
-// median, else the median S-index (calibrated with the star file) turned
-// into log R'HK.
+// median, else the median S-index turned into log R'HK. A table's s_index
+// is on the Mount Wilson scale already (measure applies the star file's
+// calibration), so it is not calibrated again.
 func (d *data) meanLogRHK(star *Star) (float64, bool) {
 	med := func(name string) (float64, bool) {
 		ind := d.s.Indicator(name)
@@ -189,7 +190,7 @@ func (d *data) meanLogRHK(star *Star) (float64, bool) {
 		return v, true
 	}
 	if s, ok := med("s_index"); ok {
-		lr, _, err := indicators.LogRPrimeHK(star.SIndex.Apply(s), 0, indicators.RHKOptions{BV: star.BV, Extrapolate: true})
+		lr, _, err := indicators.LogRPrimeHK(s, 0, indicators.RHKOptions{BV: star.BV, Extrapolate: true})
 		if err == nil && isFinite(lr) {
 			return lr, true
 		}

@@ -31,7 +31,7 @@ var CanonicalUnits = map[string]string{
 	"time":            "d",
 	"rv":              "m/s",
 	"fwhm":            "m/s",
-	"contrast":        "%",
+	"contrast":        "", // fraction of the continuum
 	"bis":             "m/s",
 	"vspan":           "m/s",
 	"delta_v":         "m/s",

@@ -223,8 +223,8 @@ func (r *Result) WriteTruth(w io.Writer) error {
 func (r *Result) WriteStar(w io.Writer) error {
 	st := &r.Scenario.Star
 	vsini := st.VEq * math.Sin(st.Inclination*math.Pi/180)
-	_, err := fmt.Fprintf(w, "# star file of a spotsift simulation (seed %d)\nname = %q\nb_v = %s\nteff = %s\nvsini = %s\nrotation_period = %s\nvacuum = false\n\n[s_index]\na = 1.0\nb = 0.0\n",
-		r.Seed, r.Scenario.Name, fmtG(st.BV), fmtG(st.Teff), fmtG(vsini), fmtG(st.RotationPeriod))
+	_, err := fmt.Fprintf(w, "# star file of a spotsift simulation (seed %d)\nname = %q\nb_v = %s\nteff = %s\nvsini = %s\nrotation_period = %s\nvacuum = false\n\n# the simulated spectrograph's S-index calibration: S_MW = a (H+K)/(R+V) + b\n[s_index]\na = %s\nb = 0.0\n",
+		r.Seed, r.Scenario.Name, fmtG(st.BV), fmtG(st.Teff), fmtG(vsini), fmtG(st.RotationPeriod), fmtG(SIndexScale))
 	return err
 }
 

@@ -83,11 +83,6 @@ func demoStar(e *env, c *common, d starsim.Demo, out string, spectra bool) (*act
 	var s *rvfit.Series
 	dataPath := filepath.Join(simDir, starsim.TableFile)
 	if spectra {
-		// The simulated table is on a Mount Wilson-like scale already; an
-		// S-index measured on the simulated spectra is the raw
-		// (H+K)/(R+V) ratio, which the simulator's instrument turns into
-		// that scale with the factor starsim.SIndexScale.
-		star.SIndex = activity.SCalibration{A: starsim.SIndexScale}
 		paths, err := spectrumPaths(filepath.Join(simDir, starsim.SpectraDir))
 		if err != nil {
 			return nil, "", err
