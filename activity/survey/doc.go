@@ -21,5 +21,6 @@
 //	summary.fits             the same table as a FITS binary table
 //	catalogue.sqlite         stars, signals, evidence, skipped tests, runs
 //	index.html               links to every report, sample-wide figures
+//	figures/                 the figures as SVG files
 //	runs.json                the history of runs into this folder
 package survey

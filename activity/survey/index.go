@@ -10,6 +10,7 @@ import (
 	"strings"
 
 	"spotsift/activity"
+	"spotsift/rvfit"
 )
 
 // verdictColour gives each verdict its colour in the figures and tables
@@ -257,8 +258,30 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 	}
 	p.Fig2 = template.HTML(scatterSVG(f2, xl, "RV rms (m/s)", false, true, nil))
 	p.Fig2Caption = "Each star's " + xl + " against the scatter of its RVs about each instrument's mean; coloured by its most activity-like verdict (white: no signal)."
+	if err := os.MkdirAll(filepath.Join(outDir, FiguresDir), 0o755); err != nil {
+		return err
+	}
+	for _, f := range []struct {
+		name string
+		svg  template.HTML
+	}{{FigurePeriodRotation, p.Fig1}, {FigureActivityScatter, p.Fig2}} {
+		err := rvfit.WriteFileAtomic(filepath.Join(outDir, FiguresDir, f.name), func(w io.Writer) error {
+			_, err := io.WriteString(w, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"+string(f.svg)+"\n")
+			return err
+		})
+		if err != nil {
+			return err
+		}
+	}
 	return indexTmpl.Execute(w, p)
 }
+
+// The sample-wide figures, also written as SVG files into FiguresDir.
+const (
+	FiguresDir            = "figures"
+	FigurePeriodRotation  = "period-rotation.svg"
+	FigureActivityScatter = "activity-rv-scatter.svg"
+)
 
 // ratioLabel names the line P = c·Prot.
 func ratioLabel(c float64) string {

@@ -1,6 +1,7 @@
 package survey
 
 import (
+	"bufio"
 	"bytes"
 	"encoding/csv"
 	"errors"
@@ -118,7 +119,12 @@ func ReadManifest(path string) (*Manifest, error) {
 // ParseManifestCSV parses a CSV manifest (see ReadManifest); name is used
 // in messages. Relative paths are left as they are (Manifest.Dir is "").
 func ParseManifestCSV(r io.Reader, name string) (*Manifest, error) {
-	cr := csv.NewReader(r)
+	// A spreadsheet may start the file with a UTF-8 byte-order mark.
+	br := bufio.NewReader(r)
+	if bom, err := br.Peek(3); err == nil && string(bom) == "\ufeff" {
+		br.Discard(3)
+	}
+	cr := csv.NewReader(br)
 	cr.Comment = '#'
 	cr.FieldsPerRecord = -1
 	cr.TrimLeadingSpace = true
@@ -249,7 +255,7 @@ func ParseManifestTOML(b []byte, name string) (*Manifest, error) {
 		return nil, &ManifestError{File: name, Msg: err.Error()}
 	}
 	if und := md.Undecoded(); len(und) > 0 {
-		return nil, &ManifestError{File: name, Line: starLine(b, len(doc.Star)), Key: und[0].String(), Msg: "unknown key"}
+		return nil, &ManifestError{File: name, Line: keyLine(b, und[0][len(und[0])-1]), Key: und[0].String(), Msg: "unknown key"}
 	}
 	m := &Manifest{File: name}
 	for i, t := range doc.Star {
@@ -289,6 +295,21 @@ func starLine(b []byte, k int) int {
 			if n == k {
 				return i + 1
 			}
+		}
+	}
+	return 0
+}
+
+// keyLine returns the first line that assigns key or opens a table of
+// that name, or 0.
+func keyLine(b []byte, key string) int {
+	for i, line := range strings.Split(string(b), "\n") {
+		f := strings.TrimSpace(line)
+		if strings.Trim(f, "[] ") == key {
+			return i + 1
+		}
+		if rest, ok := strings.CutPrefix(f, key); ok && strings.HasPrefix(strings.TrimSpace(rest), "=") {
+			return i + 1
 		}
 	}
 	return 0

@@ -52,6 +52,7 @@ func TestManifestErrors(t *testing.T) {
 		{"name,data\nA b,a.csv\nA_b,b.csv\n", "share the output folder"},
 		{"name,data,rv_unit\nA,a.csv,furlong/s\n", `column "rv_unit"`},
 		{"name,data\n", "no stars"},
+		{"\ufeffname,data,colour\n", `m.csv:1: column "colour"`},
 	}
 	for _, c := range csvCases {
 		_, err := ParseManifestCSV(strings.NewReader(c.text), "m.csv")
@@ -62,11 +63,12 @@ func TestManifestErrors(t *testing.T) {
 	tomlCases := []struct {
 		text, want string
 	}{
-		{"[[star]]\nname = \"A\"\ndata = \"a.csv\"\ncolour = 1\n", `m.toml:1: key "star.colour": unknown key`},
+		{"[[star]]\nname = \"A\"\ndata = \"a.csv\"\ncolour = 1\n", `m.toml:4: key "star.colour": unknown key`},
 		{"[[star]]\nname = \"A\"\n", `star "A" has no data`},
 		{"[[star]]\nname = \"A\"\ndata = 3\n", "m.toml"},
 		{"[[star]]\nname = \"A\"\ndata = \"a\"\n[[star]]\nname = \"B\"\ndata = \"b\"\nmass = -1\n", `m.toml:4: key "star[2].mass": -1 is out of range`},
 		{"[[star]\n", "m.toml:2"},
+		{"[[star]]\nname = \"A\"\ndata = \"a\"\n\n[defaults]\nseed = 3\n", `m.toml:5: key "defaults": unknown key`},
 	}
 	for _, c := range tomlCases {
 		_, err := ParseManifestTOML([]byte(c.text), "m.toml")

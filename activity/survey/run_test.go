@@ -168,6 +168,12 @@ func TestRunSimulatedSample(t *testing.T) {
 	if strings.Count(string(idx), "<svg") != 2 {
 		t.Errorf("index.html: want 2 figures")
 	}
+	for _, f := range []string{FigurePeriodRotation, FigureActivityScatter} {
+		b, err := os.ReadFile(filepath.Join(out, FiguresDir, f))
+		if err != nil || strings.Count(string(b), "<circle") == 0 {
+			t.Errorf("figure %s: %v", f, err)
+		}
+	}
 	fitsverify(t, filepath.Join(out, SummaryFITS))
 }
 
