@@ -22,6 +22,9 @@ var (
 	ErrPartial = errors.New("survey: partial survey")
 )
 
+// errStateMissing reports a star folder without a state file.
+var errStateMissing = errors.New("survey: no state file")
+
 // ManifestError reports a problem in a manifest: the file, the line (and
 // column of a CSV file, or key of a TOML file) when known, and what is
 // wrong.
@@ -33,6 +36,7 @@ type ManifestError struct {
 	Msg    string
 }
 
+// Error returns "file:line: column \"c\": message" (or key for TOML).
 func (e *ManifestError) Error() string {
 	s := e.File
 	if e.Line > 0 {

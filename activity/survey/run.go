@@ -2,7 +2,6 @@ package survey
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -155,8 +154,9 @@ const (
 // the others go on.
 //
 // When ctx is cancelled, no new star is started, stars in progress are
-// abandoned (nothing of theirs is written) and the finished ones stay
-// intact; the outputs are written for what is finished and the run is
+// abandoned (nothing of theirs is written; their computation, which
+// activity.Diagnose cannot stop midway, ends in the background and is
+// discarded) and the finished ones stay intact; the outputs are written for what is finished and the run is
 // recorded as interrupted.
 //
 // Run returns the summary with an error wrapping ErrPartial when some
@@ -503,6 +503,3 @@ func loadSeries(m *Manifest, e *Entry, star *activity.Star) (*rvfit.Series, []st
 	}
 	return s, notes, nil
 }
-
-// errStateMissing reports a star folder without a state file.
-var errStateMissing = errors.New("survey: no state file")
