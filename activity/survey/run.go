@@ -312,7 +312,7 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 	res.Hash = hash
 	old, _ := readState(dir)
 	if herr == nil && old != nil && old.Hash == hash && !o.Force {
-		_, verr := os.Stat(filepath.Join(dir, activity.VerdictFile))
+		_, verr := readVerdict(dir)
 		switch {
 		case old.Status == StatusDone && verr == nil:
 			res.Status, res.Signals = StatusUnchanged, old.Signals

@@ -473,3 +473,19 @@ func TestShardPick(t *testing.T) {
 		t.Errorf("ParseShard: %v %v", s, err)
 	}
 }
+
+// TestDamagedFolder: a star whose verdict was damaged after it finished
+// is redone by the next run.
+func TestDamagedFolder(t *testing.T) {
+	stars := sample12(t)[:2]
+	m := manifestOf(stars)
+	out := t.TempDir()
+	if _, err := Run(context.Background(), m, out, fastOpts()); err != nil {
+		t.Fatal(err)
+	}
+	os.WriteFile(filepath.Join(out, StarsDir, Folder(stars[0].name), activity.VerdictFile), []byte("{truncated"), 0o644)
+	sum, err := Run(context.Background(), m, out, fastOpts())
+	if err != nil || sum.Run.Analysed != 1 || sum.Run.Unchanged != 1 {
+		t.Errorf("%v %+v", err, sum.Run)
+	}
+}

@@ -301,7 +301,12 @@ func collect(outDir string, results []StarResult) ([]record, error) {
 			if st.Status == StatusDone {
 				dg, err := readVerdict(dir)
 				if err != nil {
-					return nil, err
+					// The folder was damaged after the star finished:
+					// show it as failed; the next run redoes it.
+					bad := *st
+					bad.Status, bad.Error = StatusFailed, oneLine("the verdict cannot be read: "+err.Error())
+					rec.State, rec.Status = &bad, StatusFailed
+					break
 				}
 				rec.Diag = dg
 			}
