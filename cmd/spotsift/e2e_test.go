@@ -39,19 +39,28 @@ func TestCommandsOnSimulatedTables(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("model: exit %d\n%s", code, stderr)
 	}
-	var fit struct {
-		Planets []struct {
-			P float64 `json:"period"`
-			K float64 `json:"k"`
-		} `json:"planets"`
+	var res struct {
+		Fit struct {
+			Planets []struct {
+				P float64 `json:"period"`
+				K float64 `json:"k"`
+			} `json:"planets"`
+		} `json:"fit"`
 	}
-	if err := json.Unmarshal([]byte(stdout), &fit); err != nil || len(fit.Planets) != 1 {
+	err := json.Unmarshal([]byte(stdout), &res)
+	fit := res.Fit
+	if err != nil || len(fit.Planets) != 1 {
 		t.Fatalf("model --json: %v\n%.300s", err, stdout)
 	}
 	// Truth: P = 9.73 d, K = 3.4 m/s (the demo scenario); tolerances a few
 	// sigma of the fit (σ_P ≈ 0.003 d, σ_K ≈ 0.1 m/s).
 	if math.Abs(fit.Planets[0].P-9.73) > 0.02 || math.Abs(fit.Planets[0].K-3.4) > 0.5 {
 		t.Errorf("model found P = %v d, K = %v m/s; want 9.73, 3.4", fit.Planets[0].P, fit.Planets[0].K)
+	}
+
+	code, stdout, stderr = runCmd("model", "--data", table, "--planets", "1", "--starts", "2", "--sample", "300")
+	if code != exitOK || !strings.Contains(stdout, "posterior:") || !strings.Contains(stdout, "K1") {
+		t.Errorf("model --sample: exit %d\n%s\n%s", code, stdout, stderr)
 	}
 
 	out := filepath.Join(dir, "vet")

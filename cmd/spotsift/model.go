@@ -24,8 +24,14 @@ Laplace evidence; --json prints everything including the residuals, and
 --residuals writes them as CSV.
 
 Activity models: none (white noise), rotation (two damped oscillators at P
-and P/2, fast), qp (the quasi-periodic kernel). The GP's period takes a
-Gaussian prior around the star file's rotation period when it has one.`)
+and P/2, fast), qp (the quasi-periodic kernel), multi (one latent
+quasi-periodic process and its derivative driving RV, a chromospheric index
+and the bisector span at once, Rajpaul et al. 2015; needs log_rhk, s_index
+or halpha and/or bis columns with errors; slow). The GP's period takes a
+Gaussian prior around the star file's rotation period when it has one.
+--sample N then draws N steps of an ensemble MCMC (Goodman & Weare 2010)
+from the fit and reports medians and 16th/84th percentiles, with the
+autocorrelation time and convergence.`)
 	c.addData(fs)
 	c.addStar(fs)
 	c.addRun(fs)
@@ -34,6 +40,7 @@ Gaussian prior around the star file's rotation period when it has one.`)
 	starts := fs.Int("starts", 0, "optimiser starts (default 8)")
 	periods := fs.String("period", "", "comma-separated starting `periods` in days, one per planet (default: periodogram peaks)")
 	resid := fs.String("residuals", "", "write the residuals to this CSV `file`")
+	sample := fs.Int("sample", 0, "after the fit, run an ensemble MCMC of this many `steps` (0: none)")
 	if code, ok := parseFlags(fs, args); !ok {
 		return code
 	}
@@ -78,14 +85,39 @@ Gaussian prior around the star file's rotation period when it has one.`)
 			return fail(e, exitFailed, err)
 		}
 	}
+	var post *rvfit.Posterior
+	if *sample < 0 {
+		return fail(e, exitUsage, errorf("model: --sample must be 0 or more, got %d", *sample))
+	}
+	if *sample > 0 {
+		so := &rvfit.SampleOptions{Steps: *sample, Seed: c.seed, Workers: c.workers}
+		if star != nil {
+			so.StarMass = star.Mass
+		}
+		if post, err = rvfit.SampleModel(fit, so); err != nil {
+			return fail(e, exitFailed, err)
+		}
+	}
 	if c.json {
-		if err := json.NewEncoder(e.stdout).Encode(fit); err != nil {
+		out := struct {
+			Fit       *rvfit.FitResult `json:"fit"`
+			Posterior *rvfit.Posterior `json:"posterior,omitempty"`
+		}{fit, post}
+		if err := json.NewEncoder(e.stdout).Encode(out); err != nil {
 			return fail(e, exitFailed, err)
 		}
 		return exitOK
 	}
 	if err := fit.WriteParams(e.stdout); err != nil {
 		return fail(e, exitFailed, err)
+	}
+	if post != nil {
+		fmt.Fprintf(e.stdout, "\nposterior: %d walkers x %d steps, burn-in %d, thinning %d, autocorrelation time %.1f, converged %v\n",
+			post.Walkers, post.Steps, post.Burn, post.Thin, post.TauMax, post.Converged)
+		fmt.Fprintf(e.stdout, "%-20s %16s %16s %16s\n", "parameter", "median", "-1 sigma", "+1 sigma")
+		for _, sm := range append(append([]rvfit.Summary(nil), post.Params...), post.Derived...) {
+			fmt.Fprintf(e.stdout, "%-20s %16.8g %16.4g %16.4g\n", sm.Name, sm.Median, sm.Median-sm.Lo, sm.Hi-sm.Median)
+		}
 	}
 	return exitOK
 }
@@ -146,13 +178,74 @@ func activityNoise(kind string, s *rvfit.Series, star *activity.Star) (rvfit.Noi
 		priors["gp_eta3"] = pPrior
 		priors["gp_eta4"] = rvfit.LogUniform{Min: 0.1, Max: 5}
 	case "multi":
-		return nil, nil, fmt.Errorf("model: --activity multi (the multi-output GP with indicators) is not built into the command line yet")
+		return multiNoise(s, priors, pPrior, pLo, T, sd)
 	default:
 		return nil, nil, fmt.Errorf("model: --activity %q: want none, rotation or qp", kind)
 	}
 	n, err := rvgp.New(k, names, instruments, gp.AutoSolver)
 	if err != nil {
 		return nil, nil, err
+	}
+	return n, priors, nil
+}
+
+// multiNoise builds the multi-output model of --activity multi on the
+// series' chromospheric index (log_rhk, else s_index, else halpha) and
+// bisector span, with priors scaled by each series' scatter. Vc is taken
+// positive, which fixes the sign of the latent process.
+func multiNoise(s *rvfit.Series, priors map[string]rvfit.Prior, pPrior rvfit.Prior, pLo, T, sd float64) (rvfit.NoiseModel, map[string]rvfit.Prior, error) {
+	index := ""
+	for _, name := range []string{"log_rhk", "s_index", "halpha"} {
+		if ind := s.Indicator(name); ind != nil && ind.Err != nil {
+			index = name
+			break
+		}
+	}
+	bis := ""
+	if ind := s.Indicator("bis"); ind != nil && ind.Err != nil {
+		bis = "bis"
+	}
+	n, err := rvgp.NewMultiNoise(s, index, bis)
+	if err != nil {
+		return nil, nil, fmt.Errorf("model: --activity multi: %w", err)
+	}
+	scatter := func(name string) float64 {
+		ind := s.Indicator(name)
+		var v []float64
+		for i := range ind.Value {
+			if ind.Valid(i) {
+				v = append(v, ind.Value[i])
+			}
+		}
+		m, q := 0.0, 0.0
+		for _, x := range v {
+			m += x
+		}
+		m /= float64(len(v))
+		for _, x := range v {
+			q += (x - m) * (x - m)
+		}
+		return math.Max(math.Sqrt(q/float64(len(v))), 1e-9)
+	}
+	priors["gp_lambda_e"] = rvfit.LogUniform{Min: pLo / 2, Max: 10 * T}
+	priors["gp_period"] = pPrior
+	priors["gp_lambda_p"] = rvfit.LogUniform{Min: 0.1, Max: 5}
+	priors["gp_vc"] = rvfit.Uniform{Min: 0, Max: 10 * sd}
+	priors["gp_vr"] = rvfit.Uniform{Min: -10 * sd * T, Max: 10 * sd * T}
+	for _, c := range []struct{ key, col string }{{"gp_lc", index}, {"gp_bc", bis}, {"gp_br", bis}} {
+		w := 1.0
+		if c.col != "" {
+			w = 10 * scatter(c.col)
+		}
+		if c.key == "gp_br" {
+			w *= T
+		}
+		priors[c.key] = rvfit.Uniform{Min: -w, Max: w}
+	}
+	for _, col := range []string{index, bis} {
+		if col != "" {
+			priors["jitter_"+col] = rvfit.Uniform{Min: 0, Max: 5 * scatter(col)}
+		}
 	}
 	return n, priors, nil
 }
