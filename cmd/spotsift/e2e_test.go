@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"spotsift/activity"
+	"spotsift/activity/survey"
 )
 
 // TestCommandsOnSimulatedTables runs simulate, scan, model and vet on a
@@ -100,12 +101,12 @@ func TestDemo(t *testing.T) {
 		if code != exitOK {
 			t.Fatalf("demo: exit %d\n%s\n%s", code, stdout, stderr)
 		}
-		if !strings.Contains(stdout, "report.html") {
+		if !strings.Contains(stdout, "report.html") || !strings.Contains(stdout, "index.html") {
 			t.Errorf("demo does not say where the reports are:\n%s", stdout)
 		}
 		verdicts[k] = map[string][]byte{}
-		for _, star := range []string{"quiet-planet", "active-no-planet"} {
-			b, err := os.ReadFile(filepath.Join(out, star, "report", activity.VerdictFile))
+		for star, name := range map[string]string{"quiet-planet": "Veyla-9", "active-no-planet": "Corvane-3"} {
+			b, err := os.ReadFile(filepath.Join(out, demoSurveyDir, survey.StarsDir, survey.Folder(name), activity.VerdictFile))
 			if err != nil {
 				t.Fatal(err)
 			}
