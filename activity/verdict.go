@@ -1,8 +1,12 @@
 package activity
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"encoding/json"
+	"io"
 	"math"
+	"os"
 	"strconv"
 
 	"spotsift/rvfit"
@@ -185,4 +189,19 @@ type seasonPoint struct {
 type stackedCurve struct {
 	n0               int
 	obs, lo, med, hi []float64
+}
+
+// HashFile returns the hex SHA-256 of a file's bytes, as provenance blocks
+// record their inputs.
+func HashFile(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", err
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
 }

@@ -206,7 +206,7 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 	var inputs []activity.InputHash
 	if e.StarFile != "" {
 		p := m.path(e.StarFile)
-		sum, err := fileHash(p)
+		sum, err := activity.HashFile(p)
 		if err != nil {
 			return "", nil, fmt.Errorf("star file: %w", err)
 		}
@@ -234,7 +234,7 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 			}
 			fh := sha256.New()
 			for _, f := range files {
-				sum, err := fileHash(f)
+				sum, err := activity.HashFile(f)
 				if err != nil {
 					return "", nil, fmt.Errorf("data: %w", err)
 				}
@@ -244,7 +244,7 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 			line("spectra", sum)
 			inputs = append(inputs, activity.InputHash{Path: e.Data, SHA256: sum})
 		} else {
-			sum, err := fileHash(p)
+			sum, err := activity.HashFile(p)
 			if err != nil {
 				return "", nil, fmt.Errorf("data: %w", err)
 			}
@@ -253,19 +253,6 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 		}
 	}
 	return hex.EncodeToString(h.Sum(nil)), inputs, nil
-}
-
-func fileHash(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", err
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", err
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
 // record is one star as the outputs show it.

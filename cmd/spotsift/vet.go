@@ -1,13 +1,10 @@
 package main
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -115,27 +112,13 @@ func nonEmpty(s string) []string {
 func provenance(c common, inputs, argv []string) activity.Provenance {
 	p := activity.Provenance{Version: version, Seed: c.seed, Command: "spotsift " + strings.Join(argv, " ")}
 	for _, in := range inputs {
-		h, err := hashFile(in)
+		h, err := activity.HashFile(in)
 		if err != nil {
 			continue
 		}
 		p.Inputs = append(p.Inputs, activity.InputHash{Path: in, SHA256: h})
 	}
 	return p
-}
-
-// hashFile returns the hex SHA-256 of a file.
-func hashFile(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", err
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", err
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
 // printDiagnosis writes the readable summary.
