@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"runtime"
+	"sort"
 	"sync"
 
 	"spotsift/activity/starsim"
@@ -92,18 +93,13 @@ func (c *Confusion) Write(w io.Writer) {
 	}
 }
 
+// sortedKeysOf returns the keys of m in order.
 func sortedKeysOf[V any](m map[string]V) []string {
-	var k []string
+	k := make([]string, 0, len(m))
 	for s := range m {
 		k = append(k, s)
 	}
-	for i := range k {
-		for j := i + 1; j < len(k); j++ {
-			if k[j] < k[i] {
-				k[i], k[j] = k[j], k[i]
-			}
-		}
-	}
+	sort.Strings(k)
 	return k
 }
 

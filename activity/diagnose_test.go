@@ -39,7 +39,7 @@ func synth(seed uint64, rvErr float64, rv func(t float64) float64, inds map[stri
 		s.RVErr = append(s.RVErr, rvErr)
 		s.Instrument = append(s.Instrument, "NORTH-1")
 	}
-	for _, name := range sortedNames(inds) {
+	for _, name := range sortedKeysOf(inds) {
 		f := inds[name]
 		ind := rvfit.Indicator{Name: name, Value: make([]float64, len(t)), Err: make([]float64, len(t))}
 		for i, ti := range t {
@@ -49,21 +49,6 @@ func synth(seed uint64, rvErr float64, rv func(t float64) float64, inds map[stri
 		s.Indicators = append(s.Indicators, ind)
 	}
 	return s
-}
-
-func sortedNames(m map[string]func(float64) float64) []string {
-	var k []string
-	for n := range m {
-		k = append(k, n)
-	}
-	for i := range k {
-		for j := i + 1; j < len(k); j++ {
-			if k[j] < k[i] {
-				k[i], k[j] = k[j], k[i]
-			}
-		}
-	}
-	return k
 }
 
 func noise(float64) float64 { return 0 }
