@@ -12,9 +12,9 @@ import (
 	"testing"
 )
 
-// readmeQueries returns the ```sql blocks of README-section.md.
+// readmeQueries returns the ```sql blocks of the project README.
 func readmeQueries(t *testing.T) []string {
-	b, err := os.ReadFile("README-section.md")
+	b, err := os.ReadFile("../../README.md")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -24,7 +24,7 @@ func readmeQueries(t *testing.T) []string {
 		out = append(out, m[1])
 	}
 	if len(out) < 5 {
-		t.Fatalf("README-section.md has %d SQL examples", len(out))
+		t.Fatalf("README.md has %d SQL examples", len(out))
 	}
 	return out
 }
