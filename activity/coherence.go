@@ -300,7 +300,6 @@ func redNoiseBeta(t, resid, sigma []float64, period float64) float64 {
 	var betas []float64
 	for _, w := range []float64{period / 4, period / 2, period} {
 		var means []float64
-		var counts []int
 		for i := 0; i < len(t); {
 			j := i
 			s := 0.0
@@ -309,7 +308,6 @@ func redNoiseBeta(t, resid, sigma []float64, period float64) float64 {
 				j++
 			}
 			means = append(means, s/float64(j-i))
-			counts = append(counts, j-i)
 			i = j
 		}
 		m := len(means)
@@ -342,12 +340,4 @@ func fitBeta(t, y, sigma []float64, fit *sineFit, period float64) float64 {
 		}
 	}
 	return redNoiseBeta(ts, rs, es, period)
-}
-
-func mean(v []float64) float64 {
-	s := 0.0
-	for _, x := range v {
-		s += x
-	}
-	return s / float64(len(v))
 }

@@ -117,15 +117,15 @@ func (tr *trial) rotationMatch() {
 func (tr *trial) indicatorTests() {
 	d := tr.d
 	type res struct {
-		name          string
-		fap           float64
-		amp, snr      float64
-		corr          Correlation
-		lag           LaggedCorrelation
-		raw           Correlation
-		ok            bool
-		why           string
-		nvalid, nlagP int
+		name     string
+		fap      float64
+		amp, snr float64
+		corr     Correlation
+		lag      LaggedCorrelation
+		raw      Correlation
+		ok       bool
+		why      string
+		nvalid   int
 	}
 	var rs []res
 	for _, ind := range d.s.Indicators {
@@ -263,29 +263,6 @@ func indicatorErrors(ind *rvfit.Indicator) []float64 {
 		out[i] = sd
 	}
 	return out
-}
-
-// chi2About is the χ² of y (NaN skipped) about per-group weighted means.
-func chi2About(y, sigma []float64, group []int, ng int) float64 {
-	sw := make([]float64, ng)
-	swy := make([]float64, ng)
-	for i := range y {
-		if !isFinite(y[i]) {
-			continue
-		}
-		w := 1 / (sigma[i] * sigma[i])
-		sw[group[i]] += w
-		swy[group[i]] += w * y[i]
-	}
-	c := 0.0
-	for i := range y {
-		if !isFinite(y[i]) {
-			continue
-		}
-		r := (y[i] - swy[group[i]]/sw[group[i]]) / sigma[i]
-		c += r * r
-	}
-	return c
 }
 
 func stddev(v []float64) float64 {

@@ -122,11 +122,9 @@ func (m *Noise) diagonal(t, variance []float64, inst []int) ([]float64, error) {
 		}
 		diag[i] += m.Jitter[k] * m.Jitter[k]
 	}
-	if variance != nil {
-		for i, v := range variance {
-			if v < 0 || isBad(v) {
-				return nil, &IndexError{Slice: "variance", Index: i, Value: v, Err: ErrNegativeVariance}
-			}
+	for i, v := range variance {
+		if v < 0 || isBad(v) {
+			return nil, &IndexError{Slice: "variance", Index: i, Value: v, Err: ErrNegativeVariance}
 		}
 	}
 	return diag, nil

@@ -5,7 +5,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"sort"
 	"strings"
 )
 
@@ -121,22 +120,6 @@ func parseFlags(fs *flag.FlagSet, args []string) (code int, ok bool) {
 func fail(e *env, code int, err error) int {
 	fmt.Fprintf(e.stderr, "spotsift: %v\n", err)
 	return code
-}
-
-// notBuilt reports that a command's machinery does not exist yet.
-func notBuilt(e *env, cmd, what string) int {
-	fmt.Fprintf(e.stderr, "spotsift %s: %s is not built yet in this version\n", cmd, what)
-	return exitUsage
-}
-
-// sortedKeys returns the keys of m in order.
-func sortedKeys[V any](m map[string]V) []string {
-	keys := make([]string, 0, len(m))
-	for k := range m {
-		keys = append(keys, k)
-	}
-	sort.Strings(keys)
-	return keys
 }
 
 // errorf is fmt.Errorf, shortened for the commands.
