@@ -9,9 +9,14 @@ import (
 	"spotsift/rvfit"
 )
 
-// ErrPeriodOutOfReach is wrapped by Diagnose when a period to judge lies
-// outside what the data can constrain.
-var ErrPeriodOutOfReach = errors.New("activity: period outside the data's reach")
+// Sentinel errors of Diagnose; test for them with errors.Is.
+var (
+	// ErrPeriodOutOfReach: a period to judge, or the range searched, lies
+	// outside what the data can constrain.
+	ErrPeriodOutOfReach = errors.New("activity: period outside the data's reach")
+	// ErrBadOption: an option value out of its range.
+	ErrBadOption = errors.New("activity: bad option")
+)
 
 // MinEpochs is the fewest epochs Diagnose works with.
 const MinEpochs = 12
@@ -105,7 +110,7 @@ func Diagnose(s *rvfit.Series, opts *Options) (*Diagnosis, error) {
 		return nil, err
 	}
 	if !(o.FAPThreshold > 0 && o.FAPThreshold < 1) {
-		return nil, fmt.Errorf("activity: false-alarm threshold %g must lie in (0, 1)", o.FAPThreshold)
+		return nil, fmt.Errorf("%w: false-alarm threshold %g must lie in (0, 1)", ErrBadOption, o.FAPThreshold)
 	}
 	d := &data{s: s, t: s.Time, rv: s.RV, err: s.RVErr, t0: s.Time[0], T: s.Baseline(), opts: o}
 	d.inst, d.ninst = groupIndex(s.Instrument)
@@ -114,7 +119,7 @@ func Diagnose(s *rvfit.Series, opts *Options) (*Diagnosis, error) {
 		pmax = d.T
 	}
 	if !(o.PMin > 0) || !(pmax > o.PMin) {
-		return nil, fmt.Errorf("activity: period range [%g, %g] d is empty", o.PMin, pmax)
+		return nil, fmt.Errorf("%w: the periods searched, %g to %g d, are an empty range (the baseline is %.3g d)", ErrPeriodOutOfReach, o.PMin, pmax, d.T)
 	}
 	var err error
 	d.grid, err = rvfit.NewGrid(s.Time, &rvfit.GridOptions{Oversampling: o.Oversampling, PMin: o.PMin, PMax: pmax})

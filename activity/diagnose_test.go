@@ -183,8 +183,17 @@ func TestDiagnoseBadInput(t *testing.T) {
 			t.Errorf("period %g: err = %v, want ErrPeriodOutOfReach", p, err)
 		}
 	}
-	if _, err := Diagnose(s, &Options{FAPThreshold: 2}); err == nil {
-		t.Error("FAP threshold 2 accepted")
+	// Twelve epochs within half a day: no period above the 1.05 d floor
+	// fits in the baseline.
+	short := s.Subset([]int{0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11})
+	for i := range short.Time {
+		short.Time[i] = 2460000 + 0.04*float64(i)
+	}
+	if _, err := Diagnose(short, nil); !errors.Is(err, ErrPeriodOutOfReach) {
+		t.Errorf("half-day baseline: err = %v, want ErrPeriodOutOfReach", err)
+	}
+	if _, err := Diagnose(s, &Options{FAPThreshold: 2}); !errors.Is(err, ErrBadOption) {
+		t.Errorf("FAP threshold 2: err = %v, want ErrBadOption", err)
 	}
 }
 

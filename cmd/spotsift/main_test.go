@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -13,6 +14,15 @@ func runCmd(args ...string) (code int, stdout, stderr string) {
 	var o, e bytes.Buffer
 	code = run(args, &o, &e)
 	return code, o.String(), e.String()
+}
+
+// shortRows returns twelve epochs within half a day.
+func shortRows() string {
+	var b strings.Builder
+	for i := 0; i < 12; i++ {
+		fmt.Fprintf(&b, "%.2f,%d,1\n", 2460000+0.04*float64(i), i%3)
+	}
+	return b.String()
 }
 
 // write puts content into a file in dir and returns its path.
@@ -50,6 +60,11 @@ func TestBadInput(t *testing.T) {
 	good := "time,rv,rv_err,fwhm\n" +
 		"1,1,1,7000\n2,2,1,7001\n3,0,1,7003\n4,1,1,7002\n5,3,1,7004\n6,2,1,7000\n7,1,1,7001\n8,0,1,7005\n9,2,1,7003\n"
 	goodPath := write(t, dir, "good.csv", good)
+	good20 := "time,rv,rv_err\n"
+	for i := 0; i < 20; i++ {
+		good20 += fmt.Sprintf("%d,%d,1\n", 2460000+i, (i*7)%5)
+	}
+	good20Path := write(t, dir, "good20.csv", good20)
 	table := func(name, content string) string { return write(t, dir, name, content) }
 	star := func(name, content string) string { return write(t, dir, name, content) }
 	for _, tt := range []struct {
@@ -89,6 +104,10 @@ func TestBadInput(t *testing.T) {
 		{"star without name", []string{"vet", "--data", goodPath, "--star", star("s5.toml", "b_v = 0.6\n")}, `key "name": missing`},
 		{"star file absent", []string{"vet", "--data", goodPath, "--star", filepath.Join(dir, "none.toml")}, "none.toml: no such file"},
 		{"bad seed", []string{"vet", "--data", goodPath, "--seed", "-3"}, `invalid value "-3" for flag -seed`},
+		{"bad fap", []string{"vet", "--data", good20Path, "--fap", "2"}, "activity: bad option: false-alarm threshold 2"},
+		{"bad period list", []string{"vet", "--data", good20Path, "--period", "12,x"}, `--period: "x" is not a number of days`},
+		{"period out of reach", []string{"vet", "--data", good20Path, "--period", "500"}, "activity: period outside the data's reach"},
+		{"half-day baseline", []string{"vet", "--data", table("short.csv", "time,rv,rv_err\n"+shortRows())}, "are an empty range"},
 	} {
 		t.Run(tt.name, func(t *testing.T) {
 			code, stdout, stderr := runCmd(tt.args...)

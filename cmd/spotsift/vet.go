@@ -56,7 +56,7 @@ replace, the team's scientific judgement.`)
 		Star: star, Seed: c.seed, SkipModels: *noGP}
 	dg, err := activity.Diagnose(s, opts)
 	if err != nil {
-		if errors.Is(err, activity.ErrPeriodOutOfReach) || errors.Is(err, rvfit.ErrTooFewEpochs) || errors.Is(err, rvfit.ErrGridOutOfReach) {
+		if errors.Is(err, activity.ErrPeriodOutOfReach) || errors.Is(err, activity.ErrBadOption) || errors.Is(err, rvfit.ErrTooFewEpochs) || errors.Is(err, rvfit.ErrGridOutOfReach) {
 			return fail(e, exitUsage, err)
 		}
 		return fail(e, exitFailed, err)
