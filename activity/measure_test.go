@@ -332,8 +332,8 @@ func TestMeasureSimulatedSpots(t *testing.T) {
 	}
 	// The simulator's own noise-free RV–BIS correlation for this star
 	// (faculae and convective blueshift dilute the spot signal).
-	t.Logf("FWHM vs spot filling r = %.3f, vs facular filling r = %.3f, vs spot+facula r = %.3f", pearson(fwhm, spot), pearson(fwhm, fac), pearson(fwhm, add(spot, fac)))
-	rTrue := pearson(tRV, tBIS)
+	t.Logf("FWHM vs spot filling r = %.3f, vs facular filling r = %.3f, vs spot+facula r = %.3f", Pearson(fwhm, spot).R, Pearson(fwhm, fac).R, Pearson(fwhm, add(spot, fac)).R)
+	rTrue := Pearson(tRV, tBIS).R
 	t.Logf("simulator truth: RV vs BIS r = %.3f", rTrue)
 	if rTrue >= 0 {
 		t.Fatalf("the simulated star has no RV–BIS anticorrelation (r = %.3f)", rTrue)
@@ -350,7 +350,7 @@ func TestMeasureSimulatedSpots(t *testing.T) {
 		{"S vs simulator S", s, tS, 0.9, 1},
 		{"S vs facular filling", s, fac, 0.9, 1},
 	} {
-		r := pearson(c.x, c.y)
+		r := Pearson(c.x, c.y).R
 		t.Logf("%s: r = %.3f", c.name, r)
 		if !(r >= c.lo && r <= c.hi) {
 			t.Errorf("%s: correlation %.3f, want in [%.2f, %.2f]", c.name, r, c.lo, c.hi)
@@ -364,23 +364,6 @@ func add(x, y []float64) []float64 {
 		z[i] = x[i] + y[i]
 	}
 	return z
-}
-
-func pearson(x, y []float64) float64 {
-	var mx, my float64
-	for i := range x {
-		mx += x[i]
-		my += y[i]
-	}
-	mx /= float64(len(x))
-	my /= float64(len(y))
-	var sxy, sxx, syy float64
-	for i := range x {
-		sxy += (x[i] - mx) * (y[i] - my)
-		sxx += (x[i] - mx) * (x[i] - mx)
-		syy += (y[i] - my) * (y[i] - my)
-	}
-	return sxy / math.Sqrt(sxx*syy)
 }
 
 // BenchmarkMeasure times Measure over n FITS spectra of 300 000 pixels

@@ -72,23 +72,6 @@ func halfWidth(v, f []float64) float64 {
 	return hi - lo
 }
 
-func pearson(x, y []float64) float64 {
-	var mx, my float64
-	for i := range x {
-		mx += x[i]
-		my += y[i]
-	}
-	mx /= float64(len(x))
-	my /= float64(len(x))
-	var sxy, sxx, syy float64
-	for i := range x {
-		sxy += (x[i] - mx) * (y[i] - my)
-		sxx += (x[i] - mx) * (x[i] - mx)
-		syy += (y[i] - my) * (y[i] - my)
-	}
-	return sxy / math.Sqrt(sxx*syy)
-}
-
 // glsPeak returns the frequency (cycles/day) of the highest power of a
 // floating-mean Lomb–Scargle periodogram (unit weights) of y(t) over
 // [fmin, fmax], on a grid oversampled 10 times the baseline's resolution.
