@@ -6,6 +6,8 @@ import (
 	"sort"
 	"strings"
 
+	"gonum.org/v1/gonum/stat"
+
 	"spotsift/rvfit"
 )
 
@@ -265,20 +267,13 @@ func indicatorErrors(ind *rvfit.Indicator) []float64 {
 	return out
 }
 
+// stddev is the sample standard deviation of v, 0 for fewer than two
+// values.
 func stddev(v []float64) float64 {
 	if len(v) < 2 {
 		return 0
 	}
-	m := 0.0
-	for _, x := range v {
-		m += x
-	}
-	m /= float64(len(v))
-	s := 0.0
-	for _, x := range v {
-		s += (x - m) * (x - m)
-	}
-	return math.Sqrt(s / float64(len(v)-1))
+	return stat.StdDev(v, nil)
 }
 
 // waldFAP returns the false-alarm probability of the first sinusoid of a

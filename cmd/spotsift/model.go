@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/stat"
+
 	"spotsift/activity"
 	"spotsift/gp"
 	"spotsift/rvfit"
@@ -133,16 +135,8 @@ func activityNoise(kind string, s *rvfit.Series, star *activity.Star) (rvfit.Noi
 		return nil, nil, nil
 	}
 	T := s.Baseline()
-	sd := 0.0
-	m := 0.0
-	for _, v := range s.RV {
-		m += v
-	}
-	m /= float64(s.Len())
-	for _, v := range s.RV {
-		sd += (v - m) * (v - m)
-	}
-	sd = math.Max(math.Sqrt(sd/float64(s.Len())), 1e-3)
+	_, sd := stat.PopMeanStdDev(s.RV, nil)
+	sd = math.Max(sd, 1e-3)
 	pLo, pHi, p0 := 2.0, math.Max(T/2, 3), math.Min(20, T/4)
 	var pPrior rvfit.Prior = rvfit.Uniform{Min: pLo, Max: pHi}
 	if star != nil && star.RotationPeriod > 0 {
@@ -217,15 +211,8 @@ func multiNoise(s *rvfit.Series, priors map[string]rvfit.Prior, pPrior rvfit.Pri
 				v = append(v, ind.Value[i])
 			}
 		}
-		m, q := 0.0, 0.0
-		for _, x := range v {
-			m += x
-		}
-		m /= float64(len(v))
-		for _, x := range v {
-			q += (x - m) * (x - m)
-		}
-		return math.Max(math.Sqrt(q/float64(len(v))), 1e-9)
+		_, sd := stat.PopMeanStdDev(v, nil)
+		return math.Max(sd, 1e-9)
 	}
 	priors["gp_lambda_e"] = rvfit.LogUniform{Min: pLo / 2, Max: 10 * T}
 	priors["gp_period"] = pPrior
