@@ -1,6 +1,7 @@
 package activity
 
 import (
+	"context"
 	"fmt"
 	"io"
 	"math"
@@ -144,7 +145,7 @@ func Calibrate(cases []CalibrationCase, nseeds, workers int, opts *Options) (*Co
 				}
 				o := opts.withDefaults()
 				o.Periods, o.Star, o.Seed = cs.Periods, cs.Star, it.seed
-				dg, err := Diagnose(sim.Series(), &o)
+				dg, err := Diagnose(context.Background(), sim.Series(), &o)
 				if err != nil {
 					r.err = fmt.Errorf("%s seed %d: %w", cs.Name, it.seed, err)
 					continue

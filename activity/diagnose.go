@@ -1,6 +1,7 @@
 package activity
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -103,8 +104,9 @@ type data struct {
 // listed as skipped and pull the score toward zero.
 //
 // Errors: too few epochs (ErrTooFewEpochs from rvfit), a period outside the
-// data's reach (ErrPeriodOutOfReach), bad options.
-func Diagnose(s *rvfit.Series, opts *Options) (*Diagnosis, error) {
+// data's reach (ErrPeriodOutOfReach), bad options, or ctx's error when ctx
+// is cancelled or times out (checked between the steps of the diagnosis).
+func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, error) {
 	o := opts.withDefaults()
 	if err := s.Require(MinEpochs, "the diagnosis"); err != nil {
 		return nil, err
@@ -144,6 +146,9 @@ func Diagnose(s *rvfit.Series, opts *Options) (*Diagnosis, error) {
 		diag.Star = o.Star.Name
 	}
 	diag.Rotation = d.estimateRotation(rng)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 
 	sigs, err := d.findSignals()
 	if err != nil {
@@ -164,6 +169,9 @@ func Diagnose(s *rvfit.Series, opts *Options) (*Diagnosis, error) {
 		}
 	}
 	for k, sg := range sigs {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
 		// The signal's own data: the RVs less the offsets and every other
 		// signal's sinusoid.
 		own := make([]float64, len(d.t))

@@ -1,6 +1,9 @@
 package activity
 
-import "testing"
+import (
+	"context"
+	"testing"
+)
 
 // BenchmarkDiagnose is the diagnosis with default settings on about 200
 // epochs with three indicators (the benchmark for vet).
@@ -16,7 +19,7 @@ func BenchmarkDiagnose(b *testing.B) {
 		}
 		b.Run(name, func(b *testing.B) {
 			for b.Loop() {
-				if _, err := Diagnose(s, &Options{Star: &Star{Name: "b", BV: 0.7}, Seed: 1, SkipModels: skip}); err != nil {
+				if _, err := Diagnose(context.Background(), s, &Options{Star: &Star{Name: "b", BV: 0.7}, Seed: 1, SkipModels: skip}); err != nil {
 					b.Fatal(err)
 				}
 			}

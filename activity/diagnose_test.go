@@ -1,6 +1,7 @@
 package activity
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"math"
@@ -71,7 +72,7 @@ var star25 = &Star{Name: "Test-25", BV: 0.65, RotationPeriod: 25, RotationPeriod
 // A stable sinusoid unrelated to rotation, indicators flat: planet-like.
 func TestDiagnosePlanet(t *testing.T) {
 	s := synth(1, 1.0, sine(5, 7.3, 0.4), map[string]func(float64) float64{"fwhm": noise, "bis": noise}, map[string]float64{"fwhm": 2, "bis": 1})
-	dg, err := Diagnose(s, &Options{Star: star25, Seed: 1})
+	dg, err := Diagnose(context.Background(), s, &Options{Star: star25, Seed: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -94,7 +95,7 @@ func TestDiagnosePlanet(t *testing.T) {
 // indicator test must point to activity.
 func TestDiagnoseSharedSinusoidAtHalfRotation(t *testing.T) {
 	s := synth(2, 1.0, sine(6, 12.5, 0), map[string]func(float64) float64{"fwhm": sine(15, 12.5, 0), "bis": noise}, map[string]float64{"fwhm": 2, "bis": 1})
-	dg, err := Diagnose(s, &Options{Star: star25, Seed: 2})
+	dg, err := Diagnose(context.Background(), s, &Options{Star: star25, Seed: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -125,7 +126,7 @@ func TestDiagnosePhaseFlip(t *testing.T) {
 		return 6 * math.Sin(2*math.Pi*t/9.1+ph)
 	}
 	s := synth(3, 1.0, flip, nil, nil)
-	dg, err := Diagnose(s, &Options{Periods: []float64{9.1}, Seed: 3, SkipModels: true})
+	dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{9.1}, Seed: 3, SkipModels: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -155,7 +156,7 @@ func TestDiagnosePhaseFlip(t *testing.T) {
 // Pure noise: no signal, and a note saying so.
 func TestDiagnoseNoSignal(t *testing.T) {
 	s := synth(4, 1.0, noise, map[string]func(float64) float64{"fwhm": noise}, map[string]float64{"fwhm": 2})
-	dg, err := Diagnose(s, &Options{Seed: 4, SkipModels: true})
+	dg, err := Diagnose(context.Background(), s, &Options{Seed: 4, SkipModels: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -163,7 +164,7 @@ func TestDiagnoseNoSignal(t *testing.T) {
 		t.Errorf("signals %d, notes %q; want none and a note", len(dg.Signals), dg.Notes)
 	}
 	// A given period on noise: inconclusive.
-	dg, err = Diagnose(s, &Options{Periods: []float64{5}, Seed: 4, SkipModels: true})
+	dg, err = Diagnose(context.Background(), s, &Options{Periods: []float64{5}, Seed: 4, SkipModels: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -175,11 +176,11 @@ func TestDiagnoseNoSignal(t *testing.T) {
 func TestDiagnoseBadInput(t *testing.T) {
 	s := synth(5, 1.0, sine(5, 7.3, 0), nil, nil)
 	few := s.Subset([]int{0, 1, 2, 3, 4})
-	if _, err := Diagnose(few, nil); !errors.Is(err, rvfit.ErrTooFewEpochs) {
+	if _, err := Diagnose(context.Background(), few, nil); !errors.Is(err, rvfit.ErrTooFewEpochs) {
 		t.Errorf("5 epochs: err = %v, want ErrTooFewEpochs", err)
 	}
 	for _, p := range []float64{5000, -3, 0.01, math.Inf(1)} {
-		if _, err := Diagnose(s, &Options{Periods: []float64{p}}); !errors.Is(err, ErrPeriodOutOfReach) {
+		if _, err := Diagnose(context.Background(), s, &Options{Periods: []float64{p}}); !errors.Is(err, ErrPeriodOutOfReach) {
 			t.Errorf("period %g: err = %v, want ErrPeriodOutOfReach", p, err)
 		}
 	}
@@ -189,17 +190,17 @@ func TestDiagnoseBadInput(t *testing.T) {
 	for i := range short.Time {
 		short.Time[i] = 2460000 + 0.04*float64(i)
 	}
-	if _, err := Diagnose(short, nil); !errors.Is(err, ErrPeriodOutOfReach) {
+	if _, err := Diagnose(context.Background(), short, nil); !errors.Is(err, ErrPeriodOutOfReach) {
 		t.Errorf("half-day baseline: err = %v, want ErrPeriodOutOfReach", err)
 	}
-	if _, err := Diagnose(s, &Options{FAPThreshold: 2}); !errors.Is(err, ErrBadOption) {
+	if _, err := Diagnose(context.Background(), s, &Options{FAPThreshold: 2}); !errors.Is(err, ErrBadOption) {
 		t.Errorf("FAP threshold 2: err = %v, want ErrBadOption", err)
 	}
 }
 
 func TestDiagnosisJSON(t *testing.T) {
 	s := synth(6, 1.0, sine(5, 7.3, 0), nil, nil)
-	dg, err := Diagnose(s, &Options{Seed: 6, SkipModels: true})
+	dg, err := Diagnose(context.Background(), s, &Options{Seed: 6, SkipModels: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -215,7 +216,7 @@ func TestDiagnosisJSON(t *testing.T) {
 		t.Errorf("JSON round trip lost content: %s", b)
 	}
 	// Same seed, same bytes.
-	dg2, _ := Diagnose(s, &Options{Seed: 6, SkipModels: true})
+	dg2, _ := Diagnose(context.Background(), s, &Options{Seed: 6, SkipModels: true})
 	b2, _ := json.Marshal(dg2)
 	if string(b) != string(b2) {
 		t.Error("same seed gave different JSON")

@@ -2,6 +2,7 @@ package activity
 
 import (
 	"bufio"
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -170,8 +171,9 @@ var measureColumns = []struct{ name, unit string }{
 // with NaN there and named with Partial set. The series is sorted by time;
 // results do not depend on the number of workers. Measure returns an error
 // only when no spectrum could be measured (wrapping ErrNoSpectra) or no
-// mask could be built.
-func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFailure, error) {
+// mask could be built, or with ctx's error when ctx is cancelled (no new
+// spectrum is started after that).
+func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFailure, error) {
 	if opts == nil {
 		opts = &MeasureOptions{}
 	}
@@ -234,10 +236,16 @@ func Measure(paths []string, opts *MeasureOptions) (*rvfit.Series, []MeasureFail
 		}()
 	}
 	for i := range paths {
+		if ctx.Err() != nil {
+			break
+		}
 		jobs <- i
 	}
 	close(jobs)
 	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, nil, err
+	}
 
 	var keep []int
 	for i, it := range items {

@@ -1,6 +1,7 @@
 package activity
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -102,7 +103,7 @@ func TestMeasure(t *testing.T) {
 		}
 		lastDone = done
 	}}
-	ser, fails, err := Measure(all, opts)
+	ser, fails, err := Measure(context.Background(), all, opts)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -152,7 +153,7 @@ func TestMeasure(t *testing.T) {
 	}
 
 	// The number of workers does not change the result.
-	ser1, _, err := Measure(all, &MeasureOptions{Workers: 1, Star: &Star{BV: 0.65, SIndex: SCalibration{A: 12}}})
+	ser1, _, err := Measure(context.Background(), all, &MeasureOptions{Workers: 1, Star: &Star{BV: 0.65, SIndex: SCalibration{A: 12}}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -160,7 +161,7 @@ func TestMeasure(t *testing.T) {
 		t.Error("results differ between 1 and 2 workers")
 	}
 
-	if _, _, err := Measure([]string{bad}, &MeasureOptions{Mask: mustMask(t)}); !errors.Is(err, ErrNoSpectra) {
+	if _, _, err := Measure(context.Background(), []string{bad}, &MeasureOptions{Mask: mustMask(t)}); !errors.Is(err, ErrNoSpectra) {
 		t.Errorf("only bad files: err = %v, want ErrNoSpectra", err)
 	}
 }
@@ -209,7 +210,7 @@ func TestMeasureSideTable(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	base, _, err := Measure(paths, &MeasureOptions{Workers: 1, Mask: mask})
+	base, _, err := Measure(context.Background(), paths, &MeasureOptions{Workers: 1, Mask: mask})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -220,7 +221,7 @@ func TestMeasureSideTable(t *testing.T) {
 		filepath.Base(paths[0]): {BJD: 2450000.5},
 		filepath.Base(paths[1]): {BERV: specs[1].BERV + 1000},
 	}
-	got, _, err := Measure(paths, &MeasureOptions{Workers: 1, Mask: mask, Side: side})
+	got, _, err := Measure(context.Background(), paths, &MeasureOptions{Workers: 1, Mask: mask, Side: side})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -398,7 +399,7 @@ func BenchmarkMeasure(b *testing.B) {
 				Indicators: &indicators.Options{CCF: &indicators.CCFOptions{Center: 20e3, Search: -1, HalfWidth: 20e3, Step: 250}}}
 			b.ResetTimer()
 			for b.Loop() {
-				ser, fails, err := Measure(paths, opts)
+				ser, fails, err := Measure(context.Background(), paths, opts)
 				if err != nil || ser.Len() != n {
 					b.Fatal(err, fails)
 				}

@@ -2,6 +2,7 @@ package activity
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"html/template"
 	"os"
@@ -27,7 +28,7 @@ func reportFixture(t *testing.T) (*Report, string) {
 		}
 	}
 	star := &Star{Name: `<script>alert("star")</script> & Co`, BV: 0.65, RotationPeriod: 25, RotationPeriodErr: 1}
-	dg, err := Diagnose(s, &Options{Star: star, Seed: 21})
+	dg, err := Diagnose(context.Background(), s, &Options{Star: star, Seed: 21})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -124,7 +125,7 @@ func TestWriteReportBadInput(t *testing.T) {
 	// A diagnosis read back from JSON has no working data: the report
 	// still writes, with the figures it can draw.
 	s := synth(22, 1.0, sine(5, 7.3, 0), nil, nil)
-	dg, err := Diagnose(s, &Options{Seed: 22, SkipModels: true})
+	dg, err := Diagnose(context.Background(), s, &Options{Seed: 22, SkipModels: true})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -331,7 +331,7 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 		out.err = herr
 	} else {
 		ch := make(chan outcome, 1)
-		go func() { ch <- analyse(m, e, seed, o, inputs) }()
+		go func() { ch <- analyse(ctx, m, e, seed, o, inputs) }()
 		select {
 		case out = <-ch:
 		case <-ctx.Done():
@@ -367,7 +367,7 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 func oneLine(s string) string { return strings.Join(strings.Fields(s), " ") }
 
 // analyse loads and diagnoses one star; a panic becomes an error.
-func analyse(m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.InputHash) (out outcome) {
+func analyse(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.InputHash) (out outcome) {
 	defer func() {
 		if r := recover(); r != nil {
 			out = outcome{err: fmt.Errorf("internal error (please report it): %v\n%s", r, firstFrames(debug.Stack()))}
@@ -377,7 +377,7 @@ func analyse(m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.I
 	if err != nil {
 		return outcome{err: err}
 	}
-	s, notes, err := loadSeries(m, e, star)
+	s, notes, err := loadSeries(ctx, m, e, star)
 	if err != nil {
 		return outcome{err: err}
 	}
@@ -389,7 +389,7 @@ func analyse(m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.I
 	do.Star = star
 	do.Seed = seed
 	do.SkipModels = o.SkipModels
-	dg, err := activity.Diagnose(s, &do)
+	dg, err := activity.Diagnose(ctx, s, &do)
 	if err != nil {
 		return outcome{err: err}
 	}
@@ -463,7 +463,7 @@ func spectrumFiles(dir string) ([]string, error) {
 
 // loadSeries reads the star's data: in memory, a table, or a folder of
 // spectra. Reader warnings and spectra left out come back as notes.
-func loadSeries(m *Manifest, e *Entry, star *activity.Star) (*rvfit.Series, []string, error) {
+func loadSeries(ctx context.Context, m *Manifest, e *Entry, star *activity.Star) (*rvfit.Series, []string, error) {
 	if e.Series != nil {
 		s := e.Series.Clone()
 		return s, nil, s.Require(activity.MinEpochs, "the diagnosis")
@@ -481,7 +481,7 @@ func loadSeries(m *Manifest, e *Entry, star *activity.Star) (*rvfit.Series, []st
 			return nil, nil, err
 		}
 		var fails []activity.MeasureFailure
-		s, fails, err = activity.Measure(files, &activity.MeasureOptions{Star: star, Workers: 1})
+		s, fails, err = activity.Measure(ctx, files, &activity.MeasureOptions{Star: star, Workers: 1})
 		if err != nil {
 			return nil, nil, fmt.Errorf("measuring the spectra of %s: %w", p, err)
 		}

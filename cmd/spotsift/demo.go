@@ -18,6 +18,8 @@ const demoSurveyDir = "survey"
 
 // runDemo is "spotsift demo": the whole job on invented stars.
 func runDemo(args []string, e *env) int {
+	ctx, stop := interruptible()
+	defer stop()
 	var c common
 	fs := newFlagSet(e, "demo", "[--out DIR] [flags]", `
 Runs the whole job on two invented stars: a quiet G dwarf with a planet and
@@ -46,14 +48,14 @@ verdicts.`)
 	// verdicts' provenance is the same wherever the demo runs.
 	m := &survey.Manifest{File: "demo", Dir: *out}
 	for _, d := range demos {
-		entry, err := demoStar(e, &c, d, *out, !*tables)
+		entry, err := demoStar(ctx, e, &c, d, *out, !*tables)
 		if err != nil {
 			return fail(e, exitFailed, fmt.Errorf("demo %s: %w", d.Name, err))
 		}
 		m.Stars = append(m.Stars, entry)
 	}
 	bar := newProgress(e.stderr, len(m.Stars), "vetting", c.quiet)
-	sum, err := survey.Run(context.Background(), m, filepath.Join(*out, demoSurveyDir), &survey.Options{
+	sum, err := survey.Run(ctx, m, filepath.Join(*out, demoSurveyDir), &survey.Options{
 		Workers: c.workers, Seed: c.seed, Progress: bar.Set, Version: version, Command: "spotsift demo", Force: true})
 	bar.Done()
 	if err != nil {
@@ -79,7 +81,7 @@ verdicts.`)
 
 // demoStar simulates one demo star and measures its spectra; it returns
 // the star's survey entry.
-func demoStar(e *env, c *common, d starsim.Demo, out string, spectra bool) (survey.Entry, error) {
+func demoStar(ctx context.Context, e *env, c *common, d starsim.Demo, out string, spectra bool) (survey.Entry, error) {
 	simRel := filepath.Join(d.Name, "simulated")
 	simDir := filepath.Join(out, simRel)
 	sc := d.Scenario
@@ -107,7 +109,7 @@ func demoStar(e *env, c *common, d starsim.Demo, out string, spectra bool) (surv
 		return survey.Entry{}, err
 	}
 	mbar := newProgress(e.stderr, len(paths), d.Name+": measuring", c.quiet)
-	s, failures, err := activity.Measure(paths, &activity.MeasureOptions{Star: star, Workers: c.workers, Progress: mbar.Set})
+	s, failures, err := activity.Measure(ctx, paths, &activity.MeasureOptions{Star: star, Workers: c.workers, Progress: mbar.Set})
 	mbar.Done()
 	if err != nil {
 		return survey.Entry{}, err

@@ -14,6 +14,8 @@ import (
 
 // runMeasure is "spotsift measure": spectra to a per-epoch table.
 func runMeasure(args []string, e *env) int {
+	ctx, stop := interruptible()
+	defer stop()
 	var c common
 	fs := newFlagSet(e, "measure", "--spectra DIR|GLOB --out TABLE [flags]", `
 Measures every spectrum - RV and its photon-noise error from the
@@ -72,7 +74,7 @@ that fail on an otherwise good spectrum.`)
 	}
 	bar := newProgress(e.stderr, len(paths), "measuring", c.quiet)
 	opts.Progress = bar.Set
-	s, failures, err := activity.Measure(paths, opts)
+	s, failures, err := activity.Measure(ctx, paths, opts)
 	bar.Done()
 	reportFailures(e, failures, false)
 	if err != nil {

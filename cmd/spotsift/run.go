@@ -1,11 +1,15 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"flag"
 	"fmt"
 	"io"
+	"os"
+	"os/signal"
 	"strings"
+	"syscall"
 )
 
 // Exit codes of every subcommand.
@@ -124,3 +128,10 @@ func fail(e *env, code int, err error) int {
 
 // errorf is fmt.Errorf, shortened for the commands.
 func errorf(format string, a ...any) error { return fmt.Errorf(format, a...) }
+
+// interruptible returns a context cancelled by Ctrl-C or SIGTERM (what a
+// batch scheduler sends at the end of a job's time), and the function that
+// stops listening for them.
+func interruptible() (context.Context, context.CancelFunc) {
+	return signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+}

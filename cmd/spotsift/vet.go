@@ -15,6 +15,8 @@ import (
 
 // runVet is "spotsift vet": the full diagnosis of each signal.
 func runVet(args []string, e *env) int {
+	ctx, stop := interruptible()
+	defer stop()
 	var c common
 	fs := newFlagSet(e, "vet", "--data TABLE [--star FILE] [--period P[,P...]] [flags]", `
 Judges each signal - the periods given with --period, or else the significant
@@ -54,7 +56,7 @@ replace, the team's scientific judgement.`)
 	}
 	opts := &activity.Options{Periods: ps, FAPThreshold: *fap, MaxSignals: *maxSig, PMin: *pmin, PMax: *pmax,
 		Star: star, Seed: c.seed, SkipModels: *noGP}
-	dg, err := activity.Diagnose(s, opts)
+	dg, err := activity.Diagnose(ctx, s, opts)
 	if err != nil {
 		if errors.Is(err, activity.ErrPeriodOutOfReach) || errors.Is(err, activity.ErrBadOption) || errors.Is(err, rvfit.ErrTooFewEpochs) || errors.Is(err, rvfit.ErrGridOutOfReach) {
 			return fail(e, exitUsage, err)
