@@ -97,7 +97,7 @@ type data struct {
 //
 // The signals are opts.Periods, or else the periodogram peaks with a
 // false-alarm probability below opts.FAPThreshold, found one after the
-// other by iterative prewhitening. For each it runs the tests of METHODS.md
+// other by iterative prewhitening. For each it runs the tests of docs/methods.md
 // §12 (see the Evidence names), scores them with the weights of Weights
 // and turns the score into a verdict (see Score). Tests that cannot run on
 // these data (no indicator columns, too few epochs per season...) are

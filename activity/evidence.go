@@ -13,12 +13,12 @@ import (
 
 // harmonicsOf lists the rotation period's harmonics and their aliases:
 // frequencies n/P (n = 1 … 4), and each shifted by ±1 sidereal day and
-// ±1 year (METHODS.md §6, common practice). When the period was estimated
+// ±1 year (docs/methods.md §6, common practice). When the period was estimated
 // from the data rather than known (estimated), twice the period is added:
 // a star with spots on opposite hemispheres shows its strongest indicator
 // signal at P_rot/2, so the estimate may itself be a harmonic.
 func harmonicsOf(prot float64, estimated bool) []harmonic {
-	const sidereal = 1.0027379 // c/d, METHODS.md §0 [memory]
+	const sidereal = 1.0027379 // c/d, docs/methods.md §0 [memory]
 	const year = 1 / 365.25    // c/d
 	var out []harmonic
 	ns := []float64{1, 2, 3, 4}

@@ -87,7 +87,7 @@ type RotationEstimate struct {
 //
 // The uncertainties are the scatter of the calibrations: about 0.1 dex in
 // period for Noyes et al. (1984) and about 15 % for Mamajek & Hillenbrand
-// (2008) (both from memory); METHODS.md §5 notes that the relations predict
+// (2008) (both from memory); docs/methods.md §5 notes that the relations predict
 // the solar period to 10–20 %.
 func RelationEstimates(logRHK, bv float64) []RotationEstimate {
 	if math.IsNaN(logRHK) || math.IsNaN(bv) || bv == 0 {

@@ -5,7 +5,7 @@ import (
 	"testing"
 )
 
-// Check values: METHODS.md §5 table [computed from the formulas there],
+// Check values: docs/methods.md §5 table [computed from the formulas there],
 // quoted to four significant figures, hence the relative tolerances.
 func TestActivityRotationRelations(t *testing.T) {
 	for _, tt := range []struct {

@@ -18,7 +18,7 @@ type Weight struct {
 func (w Weight) max() float64 { return math.Max(w.Activity, w.Planet) }
 
 // Weights holds every test's weight, in one place. The asymmetries follow
-// METHODS.md §3 and §12: a period at a rotation harmonic or an indicator
+// docs/methods.md §3 and §12: a period at a rotation harmonic or an indicator
 // varying with the signal is strong evidence of activity, while their
 // absence is weak evidence of a planet (spot signals of slow rotators may
 // leave the line shape untouched, Desort et al. 2007); a Keplerian that

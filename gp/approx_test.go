@@ -7,7 +7,7 @@ import (
 
 // TestApproximateQP fits the rotation kernels to quasi-periodic
 // autocorrelations and reports the difference (the issue asks for it to be
-// reported, not hidden). METHODS.md §8 only says the rotation term
+// reported, not hidden). docs/methods.md §8 only says the rotation term
 // "approximates" the QP kernel, with no number; the bounds below are the
 // misfits measured here (spotsift, this commit) with a margin of about
 // 1.3×, so a regression in the fit fails the test. The misfits are large:

@@ -27,7 +27,7 @@ func refKernel(t *testing.T, c refCase) Kernel {
 
 // TestDenseAgainstScipy compares the dense solver with scipy's Cholesky
 // (testdata/gp/ref.json, make_ref.py) to 1e-8 relative (the issue's
-// tolerance), and METHODS.md Appendix B [computed].
+// tolerance), and docs/methods.md Appendix B [computed].
 func TestDenseAgainstScipy(t *testing.T) {
 	ref := loadRef(t)
 	for _, name := range []string{"appendixB", "qp60", "matern_sho_low_q"} {
@@ -82,7 +82,7 @@ func TestDenseAgainstScipy(t *testing.T) {
 			}
 		})
 	}
-	// Appendix B of METHODS.md [computed]: rᵀK⁻¹r = 2.183464484611,
+	// Appendix B of docs/methods.md [computed]: rᵀK⁻¹r = 2.183464484611,
 	// ln det K = 10.667471783577, ln L = −15.614853466141.
 	c := ref["appendixB"]
 	d, err := NewDense(refKernel(t, c), c.T, c.Variance, nil)

@@ -56,7 +56,7 @@ type FitResult struct {
 // natural parameters.
 //
 // References: Nocedal & Wright 2006, Numerical Optimization, ch. 6 (BFGS);
-// the Laplace approximation as in METHODS.md §9 [common practice].
+// the Laplace approximation as in docs/methods.md §9 [common practice].
 func MAP(lnPost func(p []float64) float64, p0 []float64, positive []bool, s *FitSettings) (*FitResult, error) {
 	n := len(p0)
 	if positive != nil && len(positive) != n {

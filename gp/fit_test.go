@@ -10,7 +10,7 @@ import (
 
 // TestMAPGaussian checks MAP and the Laplace interval on a problem with a
 // closed form: a Gaussian log-posterior with known mean and covariance
-// (the Laplace approximation is exact there, METHODS.md §9).
+// (the Laplace approximation is exact there, docs/methods.md §9).
 func TestMAPGaussian(t *testing.T) {
 	mu := []float64{3, -1, 0.5}
 	sd := []float64{0.2, 1.5, 0.05}

@@ -20,7 +20,7 @@ func TestKernelValues(t *testing.T) {
 		want float64
 		tol  float64 // relative
 	}{
-		// METHODS.md §8 [computed].
+		// docs/methods.md §8 [computed].
 		{"QP Haywood eta=(1,50,25,0.5)", QuasiPeriodic{1, 50, 25, 0.5}, 3, 0.336982091728, 1e-11},
 		{"QP Rajpaul gamma", qpR, 3, 0.761221139565, 1e-11},
 		{"QP Rajpaul gamma negative lag", qpR, -3, 0.761221139565, 1e-11},
@@ -31,7 +31,7 @@ func TestKernelValues(t *testing.T) {
 		{"RotationTerm k(0)=B", rot, 0, 0.8, 1e-15},
 		{"RotationTerm k(1.3)", rot, 1.3, 0.512137112252, 1e-11},
 		{"RotationTerm k(4)", rot, 4, 0.261993840985, 1e-11},
-		// Q = 1/√2 closed form, METHODS.md §8: k = S0ω0 e^(−ω0τ/√2) cos(ω0τ/√2 − π/4).
+		// Q = 1/√2 closed form, docs/methods.md §8: k = S0ω0 e^(−ω0τ/√2) cos(ω0τ/√2 − π/4).
 		{"SHO Q=1/sqrt2", SHO{2, 0.7, 1 / math.Sqrt2}, 2.5,
 			2 * 0.7 * math.Exp(-0.7*2.5/math.Sqrt2) * math.Cos(0.7*2.5/math.Sqrt2-math.Pi/4), 1e-13},
 		// Critical damping, analytic limit ½S0ω0 e^(−ω0τ)(1 + ω0τ).
@@ -50,7 +50,7 @@ func TestKernelValues(t *testing.T) {
 	}
 }
 
-// TestQPDerivativeValues checks the lag derivatives against METHODS.md §8
+// TestQPDerivativeValues checks the lag derivatives against docs/methods.md §8
 // [computed]: ∂γ/∂t_j = −k'(τ), ∂²γ/∂t_i∂t_j = −k”(τ).
 func TestQPDerivativeValues(t *testing.T) {
 	k := NewQuasiPeriodicRajpaul(1, 25, 0.5, 50)

@@ -29,7 +29,7 @@ type Output struct {
 //	cov = C_a C_b γ + R_a R_b γ_dd + C_a R_b γ_Gd + R_a C_b γ_dG
 //	γ = k(τ),  γ_dG = ∂γ/∂t_i = k'(τ),  γ_Gd = ∂γ/∂t_j = −k'(τ),  γ_dd = ∂²γ/∂t_i∂t_j = −k''(τ)
 //
-// which gives the blocks of METHODS.md §8, e.g. cov(RV_i, I_j) = Vc Lc γ +
+// which gives the blocks of docs/methods.md §8, e.g. cov(RV_i, I_j) = Vc Lc γ +
 // Vr Lc γ_dG. For a stationary k the cross terms of an auto-block cancel
 // at τ = 0.
 //
@@ -37,7 +37,7 @@ type Output struct {
 // output in order.
 //
 // Reference: Rajpaul, Aigrain, Osborne, Reece & Roberts 2015, MNRAS 452,
-// 2269 (the model; block formulas from memory, restated in METHODS.md §8).
+// 2269 (the model; block formulas from memory, restated in docs/methods.md §8).
 type Multi struct {
 	Latent  Differentiable
 	Outputs []Output

@@ -78,7 +78,7 @@ func TestCrossFiniteDifference(t *testing.T) {
 			}
 		}
 	}
-	// METHODS.md §8 [computed]: P = 25, λp = 0.5, λe = 50, t_i = 13, t_j = 10:
+	// docs/methods.md §8 [computed]: P = 25, λp = 0.5, λe = 50, t_i = 13, t_j = 10:
 	// ∂γ/∂t_j = 0.131878100945, ∂²γ/∂t_i∂t_j = 0.012508125231.
 	k := NewQuasiPeriodicRajpaul(1, 25, 0.5, 50)
 	if v := Cross(k, g, dg, 13, 10); !scalar.EqualWithinRel(v, 0.131878100945, 1e-10) {
@@ -92,7 +92,7 @@ func TestCrossFiniteDifference(t *testing.T) {
 func TestMultiStructure(t *testing.T) {
 	k := NewQuasiPeriodicRajpaul(1, 20, 0.6, 40)
 	// With Vr = Br = 0 every output is proportional to G
-	// (METHODS.md §8 [computed reasoning]).
+	// (docs/methods.md §8 [computed reasoning]).
 	m := NewRajpaul(k, 3, 0, 0.5, -2, 0)
 	rv, ix, bis := m.Outputs[OutRV], m.Outputs[OutIndex], m.Outputs[OutBIS]
 	for _, tau := range []float64{0, 1.3, 7, 22} {

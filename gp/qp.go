@@ -65,7 +65,7 @@ func (k QuasiPeriodic) Cov(tau float64) float64 {
 //	g''(τ) = −(π²/(P²λp²)) cos(2πτ/P) − 1/λe²
 //	dk/dτ = k g',   d²k/dτ² = k (g'² + g'')
 //
-// (Rajpaul et al. 2015; derivatives as in METHODS.md §8.)
+// (Rajpaul et al. 2015; derivatives as in docs/methods.md §8.)
 func (k QuasiPeriodic) CovDeriv(tau float64) (c, dc, d2c float64) {
 	p, lp, le := k.Rajpaul()
 	// One Sincos serves all three: sin 2x = 2 sin x cos x, cos 2x = 1 − 2 sin²x.

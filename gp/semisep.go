@@ -22,7 +22,7 @@ import (
 // first epoch to keep the cos/sin arguments small.
 //
 // Reference: Foreman-Mackey, Agol, Ambikasaran & Angus 2017, AJ 154, 220
-// (the recurrences as restated in METHODS.md §8).
+// (the recurrences as restated in docs/methods.md §8).
 type Semisep struct {
 	kernel   Kernel
 	terms    []Term

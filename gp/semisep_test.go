@@ -11,7 +11,7 @@ import (
 	"gonum.org/v1/gonum/floats/scalar"
 )
 
-// TestSemisepAppendixB checks the O(N J²) solver against METHODS.md
+// TestSemisepAppendixB checks the O(N J²) solver against docs/methods.md
 // Appendix B [computed] and the scipy reference.
 func TestSemisepAppendixB(t *testing.T) {
 	c := loadRef(t)["appendixB"]
@@ -24,7 +24,7 @@ func TestSemisepAppendixB(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// METHODS.md Appendix B [computed].
+	// docs/methods.md Appendix B [computed].
 	if !scalar.EqualWithinRel(ll, -15.614853466141, 1e-11) {
 		t.Errorf("ln L = %.12f, want -15.614853466141", ll)
 	}

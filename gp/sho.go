@@ -25,7 +25,7 @@ import (
 // Parameter vector: [S0, W0, Q], all positive.
 //
 // Reference: Foreman-Mackey, Agol, Ambikasaran & Angus 2017, AJ 154, 220,
-// §4 (form from memory; restated in METHODS.md §8).
+// §4 (form from memory; restated in docs/methods.md §8).
 type SHO struct {
 	S0, W0, Q float64
 }

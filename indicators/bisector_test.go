@@ -39,14 +39,14 @@ func TestBIS(t *testing.T) {
 		want   float64 // m/s
 		tol    float64
 	}{
-		// Symmetric profiles give BIS = 0 exactly (METHODS.md §3
+		// Symmetric profiles give BIS = 0 exactly (docs/methods.md §3
 		// [computed]), here with the samples placed asymmetrically about
 		// the centre (cubic interpolation: O(h⁴) residual).
 		{"symmetric, centred grid", grid(-30e3, 30e3, 250), 0, 3000, 3000, nil, 0, 1e-9},
 		{"symmetric, off-grid centre", grid(-30e3, 30e3, 250), 77.7, 3000, 3000, nil, 0, 2e-3},
 		// Half-Gaussian σ_L = 3.0, σ_R = 3.3 km/s: BIS = +0.140963 km/s
 		// (10–40/60–90, continuous levels), +0.134517 km/s (10–40/55–90),
-		// +0.144867 km/s (four discrete levels per zone); METHODS.md §3
+		// +0.144867 km/s (four discrete levels per zone); docs/methods.md §3
 		// [computed]. The continuous zone means are approximated by 3001
 		// levels per zone (midpoint-free discrete mean: error ≈ 1e-4 of the
 		// zone spread) on a 5 m/s grid.
@@ -83,7 +83,7 @@ func TestBIS(t *testing.T) {
 }
 
 func TestFitGaussianFWHM(t *testing.T) {
-	// FWHM = 2 sqrt(2 ln 2) σ = 2.354820045 σ (METHODS.md §0 [computed]);
+	// FWHM = 2 sqrt(2 ln 2) σ = 2.354820045 σ (docs/methods.md §0 [computed]);
 	// a noiseless Gaussian is fitted to 1e-6 relative (issue requirement).
 	for _, sigma := range []float64{2000, 3456.7, 8000} {
 		v := grid(-40e3, 40e3, 250)
@@ -107,7 +107,7 @@ func TestFitGaussianFWHM(t *testing.T) {
 }
 
 func TestPhotonLimitCCF(t *testing.T) {
-	// METHODS.md §2 [computed]: Gaussian CCF with continuum A per bin,
+	// docs/methods.md §2 [computed]: Gaussian CCF with continuum A per bin,
 	// contrast C, width σ, bin Δv, summed over ±60 km/s, σ²_CCF = CCF.
 	for _, tc := range []struct {
 		a, c, sigma, dv, want float64
@@ -133,7 +133,7 @@ func TestPhotonLimitCCF(t *testing.T) {
 }
 
 func TestFitChromatic(t *testing.T) {
-	// METHODS.md §10 [computed]: RV_o = 5 + 20 ln(λ_o/5500) at 5000, 5500,
+	// docs/methods.md §10 [computed]: RV_o = 5 + 20 ln(λ_o/5500) at 5000, 5500,
 	// 6000, 6500 Å gives α = 5, β = 20 exactly.
 	lam := []float64{5000, 5500, 6000, 6500}
 	rv := []float64{3.093796, 5.000000, 6.740228, 8.341082}
@@ -200,7 +200,7 @@ func TestLineShapeSigns(t *testing.T) {
 	// A CCF whose red half is wider (σ_R = 3.3 > σ_L = 3.0 km/s): BIS and
 	// Vspan are positive (upper part redder; Queloz et al. 2001 and Boisse
 	// et al. 2011 conventions), while ΔV = RV_biGauss − RV_Gauss
-	// (METHODS.md §3) is negative: the bi-Gaussian centre stays at the core
+	// (docs/methods.md §3) is negative: the bi-Gaussian centre stays at the core
 	// and the plain Gaussian moves towards the wider, red side. The mirror
 	// image flips all three.
 	v := grid(-30e3, 30e3, 250)

@@ -22,7 +22,7 @@ func TestCCFRecoversShift(t *testing.T) {
 		if math.Abs(r.RV.Value-v) > 1e-3 {
 			t.Errorf("v = %v: RV = %.6f m/s, off by %.3g m/s", v, r.RV.Value, r.RV.Value-v)
 		}
-		// A symmetric line gives BIS = 0 and ΔV = 0 (METHODS.md §3
+		// A symmetric line gives BIS = 0 and ΔV = 0 (docs/methods.md §3
 		// [computed]); the pixel phases of 500 point-sampled lines leave a
 		// CCF asymmetric at the few-mm/s level, hence 1 cm/s.
 		if math.Abs(r.BIS.Value) > 1e-2 || math.Abs(r.DeltaV.Value) > 1e-2 || math.Abs(r.Vspan.Value) > 1e-2 {
@@ -97,7 +97,7 @@ func TestCCFScaleConversion(t *testing.T) {
 	// the RV agrees with the all-vacuum measurement to the dispersion of
 	// the refractive index across a line (≈ 0.03 m/s; common practice),
 	// where mixing the scales unconverted would shift it by ≈ 83 km/s
-	// (METHODS.md §1).
+	// (docs/methods.md §1).
 	rng := rand.New(rand.NewPCG(1, 1))
 	st := newSynthStar(rng, 4500, 5900, 2e-6, 500, 1e4)
 	st.vacuum = true

@@ -21,7 +21,7 @@ func linearSpectrum(lo, hi, step, a, b float64, vacuum bool) *Spectrum {
 
 func TestSIndex(t *testing.T) {
 	// Flat spectrum: (H+K)/(R+V) = 2·1.09/(2·20) = 0.0545 with integrated
-	// fluxes (METHODS.md §4.1 [computed]).
+	// fluxes (docs/methods.md §4.1 [computed]).
 	flat := linearSpectrum(3850, 4050, 0.01, 1000, 0, false)
 	s, sig, err := SIndex(flat, 0, nil)
 	if err != nil {
@@ -123,7 +123,7 @@ func TestIndexErrors(t *testing.T) {
 }
 
 func TestLogRPrimeHK(t *testing.T) {
-	// METHODS.md §4.2 table [computed] (Noyes et al. 1984 recipe with the
+	// docs/methods.md §4.2 table [computed] (Noyes et al. 1984 recipe with the
 	// Middelkoop C_cf and the Noyes correction), 4 decimals.
 	for _, tc := range []struct{ bv, s, want float64 }{
 		{0.65, 0.1694, -4.9412},

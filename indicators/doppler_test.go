@@ -6,7 +6,7 @@ import (
 )
 
 func TestDopplerFactor(t *testing.T) {
-	// Check values: METHODS.md §1 [computed], exact z versus v/c.
+	// Check values: docs/methods.md §1 [computed], exact z versus v/c.
 	for _, tc := range []struct {
 		v, z, zFirst float64
 	}{
@@ -27,7 +27,7 @@ func TestDopplerFactor(t *testing.T) {
 		}
 	}
 	// The inverse applied to the 30 km/s z returns 30000.0000000 m/s
-	// (METHODS.md §1 [computed]).
+	// (docs/methods.md §1 [computed]).
 	if v := Velocity(1 + 1.000742360e-4); math.Abs(v-30000) > 1e-3 {
 		t.Errorf("Velocity(1+z30) = %.7f, want 30000", v)
 	}
@@ -49,7 +49,7 @@ func TestDopplerFactor(t *testing.T) {
 }
 
 func TestAirVacuum(t *testing.T) {
-	// METHODS.md §1 table: vacuum wavelengths [memory: NIST-style], air
+	// docs/methods.md §1 table: vacuum wavelengths [memory: NIST-style], air
 	// wavelengths [computed] with Morton 2000; the Piskunov inverse returns
 	// the vacuum inputs to 1e-5 Å [computed].
 	for _, tc := range []struct {
@@ -74,17 +74,17 @@ func TestAirVacuum(t *testing.T) {
 			}
 		})
 	}
-	// Ciddor-based worked example (METHODS.md §1 [confirmed]): air 6056.125
+	// Ciddor-based worked example (docs/methods.md §1 [confirmed]): air 6056.125
 	// Å -> vacuum 6057.8019 Å; the Piskunov inverse gives 6057.80193 Å
 	// [computed].
 	if got := AirToVacuum(6056.125); math.Abs(got-6057.80193) > 1e-5 {
 		t.Errorf("AirToVacuum(6056.125) = %.6f, want 6057.80193", got)
 	}
-	// At 5000 Å, n - 1 = 2.7897e-4 (METHODS.md §1 [computed]).
+	// At 5000 Å, n - 1 = 2.7897e-4 (docs/methods.md §1 [computed]).
 	if n := 5000 / VacuumToAir(5000); math.Abs(n-1-2.7897e-4) > 1e-8 {
 		t.Errorf("n(5000) - 1 = %.6g, want 2.7897e-4", n-1)
 	}
-	// Below 2000 Å both are the identity (convention, METHODS.md §1).
+	// Below 2000 Å both are the identity (convention, docs/methods.md §1).
 	if VacuumToAir(1500) != 1500 || AirToVacuum(1500) != 1500 {
 		t.Error("below 2000 Å conversions must be the identity")
 	}

@@ -54,7 +54,7 @@ func (c *Chain) Trace(i, burn, thin int) [][]float64 {
 // SampleEnsemble draws from the density exp(logp) with the affine-invariant
 // ensemble sampler of Goodman & Weare (2010, Comm. App. Math. Comp. Sci. 5,
 // 65) in its parallel two-half form (Foreman-Mackey et al. 2013, PASP 125,
-// 306, from memory; METHODS.md §9). Each walker X_k of one half moves
+// 306, from memory; docs/methods.md §9). Each walker X_k of one half moves
 // towards or away from a random walker X_j of the other half:
 //
 //	z = ((a − 1)u + 1)²/a,  u ~ U(0, 1)     (density ∝ 1/√z on [1/a, a])
@@ -190,7 +190,7 @@ func SampleEnsemble(logp func([]float64) float64, init [][]float64, opts *Ensemb
 //	τ_int(M) = 1 + 2 Σ_{τ=1..M} ρ(τ),  M the smallest with M ≥ c·τ_int(M)
 //
 // (Sokal 1997, NATO ASI B 361, 131; windowing with c = 5 as in the
-// automated window of public implementations; METHODS.md §9). c ≤ 0 means
+// automated window of public implementations; docs/methods.md §9). c ≤ 0 means
 // 5. It returns the estimate together with an error wrapping
 // ErrChainTooShort when the window never closes within the chain or the
 // chain is shorter than 50 τ_int (the estimate is then unreliable).
@@ -261,7 +261,7 @@ func AutocorrTime(chains [][]float64, c float64) (float64, error) {
 //	B = n/(m−1) Σ_j (θ̄_j − θ̄)²,  W = (1/m) Σ_j s_j²  (s_j² with n−1)
 //	V̂ = (n−1)/n W + B/n,  R̂ = sqrt(V̂/W)
 //
-// (Gelman & Rubin 1992, Stat. Sci. 7, 457, from memory; METHODS.md §9).
+// (Gelman & Rubin 1992, Stat. Sci. 7, 457, from memory; docs/methods.md §9).
 // Values near 1 (below 1.01 for split chains, Vehtari et al. 2021) say the
 // chains agree. It returns NaN for fewer than 2 chains or steps.
 func GelmanRubin(chains [][]float64) float64 {

@@ -8,7 +8,7 @@ import (
 )
 
 func TestGelmanRubinCheck(t *testing.T) {
-	// METHODS.md §9 [computed]: chains (1,2,3,4), (2,3,4,5): B = 2,
+	// docs/methods.md §9 [computed]: chains (1,2,3,4), (2,3,4,5): B = 2,
 	// W = 1.666667, V̂ = 1.75, R̂ = 1.024695.
 	got := GelmanRubin([][]float64{{1, 2, 3, 4}, {2, 3, 4, 5}})
 	if math.Abs(got-1.024695) > 1e-6 {
@@ -30,7 +30,7 @@ func ar1(rng *rand.Rand, n int, phi float64) []float64 {
 }
 
 func TestAutocorrTimeAR1(t *testing.T) {
-	// METHODS.md §9 [computed, analytic]: AR(1) has τ_int = (1+φ)/(1−φ):
+	// docs/methods.md §9 [computed, analytic]: AR(1) has τ_int = (1+φ)/(1−φ):
 	// 3, 19, 199; a correct estimator recovers them within ≈10% on ≥1e5
 	// steps (common practice). Chains: 4 × 1e5 (φ = 0.99: 8 × 2e5, where a
 	// single 1e5 chain has ≈20% scatter).

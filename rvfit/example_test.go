@@ -15,7 +15,7 @@ func ExampleEccentricAnomaly() {
 }
 
 func ExampleSemiAmplitude() {
-	// Jupiter around the Sun (METHODS.md §7).
+	// Jupiter around the Sun (docs/methods.md §7).
 	K := rvfit.SemiAmplitude(4332.59, 0.0489, 1, 1)
 	fmt.Printf("K = %.3f m/s\n", K)
 	// Output: K = 12.474 m/s

@@ -8,7 +8,7 @@ import "math"
 //
 //	FAP₁ = (1 − p)^(N_K/2),  N_K = n − nOffsets − 2
 //
-// (N_K = N − 3 for one offset, as in astropy; METHODS.md §6 [confirmed:
+// (N_K = N − 3 for one offset, as in astropy; docs/methods.md §6 [confirmed:
 // astropy source]). It returns 1 for p ≤ 0 and 0 for p ≥ 1.
 func FAPSingle(p float64, n, nOffsets int) float64 {
 	if p <= 0 {
@@ -25,7 +25,7 @@ func FAPSingle(p float64, n, nOffsets int) float64 {
 // over frequencies up to fmax (c/d) for n epochs and nOffsets offsets whose
 // effective time span is tEff = sqrt(4π Var_w(t)) (Periodogram.TEff), by the
 // analytic approximation of Baluev (2008, MNRAS 385, 1279) in the form
-// coded in astropy (METHODS.md §6 [confirmed]):
+// coded in astropy (docs/methods.md §6 [confirmed]):
 //
 //	N_H = n − nOffsets,  N_K = N_H − 2,  W = f_max T_eff
 //	γ(m) = sqrt(2/m) Γ(m/2)/Γ((m−1)/2)

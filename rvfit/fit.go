@@ -71,7 +71,7 @@ type FitResult struct {
 	// memory), with the MAP standing in for the maximum likelihood.
 	BIC float64 `json:"bic"`
 	// LogEvidence is the Laplace estimate
-	// ln Z ≈ ln L(θ̂) + ln π(θ̂) + (d/2) ln 2π − ½ ln det H (METHODS.md §9,
+	// ln Z ≈ ln L(θ̂) + ln π(θ̂) + (d/2) ln 2π − ½ ln det H (docs/methods.md §9,
 	// common practice); 0 when HessianOK is false.
 	LogEvidence float64 `json:"log_evidence_laplace"`
 	// Time, Residuals (observed − Keplerians − offsets, m/s; a GP noise
@@ -546,7 +546,7 @@ func laplaceAt(logp func([]float64) float64, x, sc []float64) ([][]float64, floa
 // for an unnormalised log posterior logp with its maximum at xhat, using
 // central second differences with steps sc (natural scales of each
 // coordinate). ok is false when H is not positive definite. Reference:
-// METHODS.md §9 [common practice]; poor for multimodal posteriors.
+// docs/methods.md §9 [common practice]; poor for multimodal posteriors.
 func LaplaceLogEvidence(logp func([]float64) float64, xhat, sc []float64) (lnZ float64, ok bool) {
 	_, logdet, ok := laplaceAt(logp, xhat, sc)
 	if !ok {

@@ -12,11 +12,11 @@ import (
 )
 
 func TestBICAndLaplace(t *testing.T) {
-	// METHODS.md §9 [computed]: ln L̂ = −100, k = 5, N = 50 → 219.560115.
+	// docs/methods.md §9 [computed]: ln L̂ = −100, k = 5, N = 50 → 219.560115.
 	if got := BIC(-100, 5, 50); math.Abs(got-219.560115) > 1e-6 {
 		t.Errorf("BIC = %.6f", got)
 	}
-	// METHODS.md §9 [computed]: normalised 1-D Gaussian likelihood (σ = 1)
+	// docs/methods.md §9 [computed]: normalised 1-D Gaussian likelihood (σ = 1)
 	// with a flat prior of width 10 → ln Z = −ln 10 = −2.302585.
 	logp := func(x []float64) float64 {
 		return -0.5*x[0]*x[0] - 0.5*math.Log(2*math.Pi) - math.Log(10)

@@ -251,7 +251,7 @@ func (d *glsData) power(s *glsSums, dst []float64) (chi2 float64) {
 // where χ²₀ is the weighted (1/σ²) χ² about the per-instrument offsets and
 // χ²(f) that of the best fit a cos 2πft + b sin 2πft + offsets. For one
 // instrument this is the periodogram of Zechmeister & Kürster (2009, A&A
-// 496, 577; formulas in METHODS.md §6) with a floating mean:
+// 496, 577; formulas in docs/methods.md §6) with a floating mean:
 //
 //	p = (SS·YC² + CC·YS² − 2·CS·YC·YS) / (YY·D),  D = CC·SS − CS²
 //

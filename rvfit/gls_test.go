@@ -10,7 +10,7 @@ import (
 	"spotsift/rvfit/rvtest"
 )
 
-// appendixA returns the METHODS.md Appendix A data set, generated from its
+// appendixA returns the docs/methods.md Appendix A data set, generated from its
 // formula in float64.
 func appendixA() (t, y, dy []float64) {
 	t = []float64{0.0, 1.3, 2.1, 3.7, 4.4, 5.9, 7.2, 8.0, 9.5, 10.1, 12.6, 13.3, 15.8, 17.0, 18.4, 20.9}
@@ -56,7 +56,7 @@ func loadGLSRef(t *testing.T) *glsRef {
 
 func TestGLSAppendixA(t *testing.T) {
 	tt, y, dy := appendixA()
-	// METHODS.md §6 [computed; explicit weighted least squares agrees to
+	// docs/methods.md §6 [computed; explicit weighted least squares agrees to
 	// 1e-15].
 	freqs := []float64{0.05, 1 / 5.3, 0.25, 0.5, 0.8}
 	want := []float64{0.165600392951, 0.986623271019, 0.015358337588, 0.064004210975, 0.132005887225}
@@ -75,7 +75,7 @@ func TestGLSAppendixA(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// a, b and offset refer to phases from t = 0 in METHODS.md; convert.
+	// a, b and offset refer to phases from t = 0 in docs/methods.md; convert.
 	ph := 2 * math.Pi / 5.3 * fit.RefTime
 	a := fit.A*math.Cos(ph) - fit.B*math.Sin(ph)
 	b := fit.A*math.Sin(ph) + fit.B*math.Cos(ph)
@@ -91,7 +91,7 @@ func TestGLSAppendixA(t *testing.T) {
 	if math.Abs(p.ChiSq0-75.934674) > 1e-6 {
 		t.Errorf("χ²₀ = %.6f, want 75.934674", p.ChiSq0)
 	}
-	// Baluev FAP on the same data, f_max = 1 (METHODS.md §6 [computed]).
+	// Baluev FAP on the same data, f_max = 1 (docs/methods.md §6 [computed]).
 	if math.Abs(p.TEff-21.941807) > 1e-6 {
 		t.Errorf("T_eff = %.6f, want 21.941807", p.TEff)
 	}
@@ -116,7 +116,7 @@ func TestGLSAppendixA(t *testing.T) {
 }
 
 func TestBaluevFAPEvenSampling(t *testing.T) {
-	// t = 1..100, unit weights, f_max = 2, Z = 0.19 (METHODS.md §6 [computed]).
+	// t = 1..100, unit weights, f_max = 2, Z = 0.19 (docs/methods.md §6 [computed]).
 	tt := make([]float64, 100)
 	w := make([]float64, 100)
 	for i := range tt {
@@ -137,7 +137,7 @@ func TestBaluevFAPEvenSampling(t *testing.T) {
 		t.Errorf("BaluevPower = %g, want 0.19", p)
 	}
 	// Spectral window: W(1) = 1, W(0.5) ≈ 0, W(0.005) = 0.405318
-	// (METHODS.md §6 [computed]).
+	// (docs/methods.md §6 [computed]).
 	win, err := Window(tt, nil, Grid{FMin: 0.005, DF: 0.005, N: 200}, nil)
 	if err != nil {
 		t.Fatal(err)

@@ -77,7 +77,7 @@ type GridOptions struct {
 //	Δf = 1/(n₀ T),  N_f = ⌊(f_max − f_min)/Δf⌋ + 1
 //
 // with T the baseline and n₀ the oversampling factor (VanderPlas 2018, ApJS
-// 236, 16, from memory; METHODS.md §6).
+// 236, 16, from memory; docs/methods.md §6).
 //
 // It returns an error wrapping ErrTooFewEpochs for fewer than two distinct
 // times, ErrBadGrid for inconsistent options, and ErrGridOutOfReach when

@@ -19,7 +19,7 @@ import "math"
 // returns NaN.
 //
 // Reference: Markley F. L. 1995, Celest. Mech. Dyn. Astron. 63, 101
-// (formulas from memory, restated in METHODS.md §7).
+// (formulas from memory, restated in docs/methods.md §7).
 func EccentricAnomaly(M, e float64) float64 {
 	if !(e >= 0 && e < 1) || math.IsNaN(M) || math.IsInf(M, 0) {
 		return math.NaN()
@@ -68,7 +68,7 @@ func markley(m, e float64) float64 {
 //
 // The result is in (−π, π] plus the same multiple of 2π as E/2 rounds to.
 //
-// Reference: METHODS.md §7 [common practice].
+// Reference: docs/methods.md §7 [common practice].
 func TrueAnomaly(E, e float64) float64 {
 	s, c := math.Sincos(E / 2)
 	return 2 * math.Atan2(math.Sqrt(1+e)*s, math.Sqrt(1-e)*c)
@@ -79,7 +79,7 @@ func TrueAnomaly(E, e float64) float64 {
 // reference for the tests and the comparison benchmark.
 //
 // Reference: Danby J. M. A. 1988, Fundamentals of Celestial Mechanics
-// (from memory; METHODS.md §7).
+// (from memory; docs/methods.md §7).
 func keplerNewton(M, e float64) float64 {
 	k := turns(M)
 	m := M - 2*math.Pi*k

@@ -8,7 +8,7 @@ import (
 func deg(x float64) float64 { return x * math.Pi / 180 }
 
 func TestEccentricAnomalyTable(t *testing.T) {
-	// Expected E and ν: METHODS.md §7 table [computed; bisection + Newton
+	// Expected E and ν: docs/methods.md §7 table [computed; bisection + Newton
 	// and Markley agree to 1e-15 rad]. The first row is Meeus 1998,
 	// Astronomical Algorithms ch. 30 (5.554589°, from memory) and the
 	// e = 0.99, M = 2° row Meeus's high-e example (32.361007°, from memory).

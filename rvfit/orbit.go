@@ -6,7 +6,7 @@ import (
 )
 
 // IAU 2015 Resolution B3 nominal values and the Julian year, used for all
-// derived orbital quantities (values from memory, METHODS.md §0).
+// derived orbital quantities (values from memory, docs/methods.md §0).
 const (
 	// GMSun is the nominal solar mass parameter in m³ s⁻².
 	GMSun = 1.3271244e20
@@ -30,7 +30,7 @@ const (
 //	ν = 2 atan2(√(1+e) sin(E/2), √(1−e) cos(E/2))
 //
 // with ω the argument of periastron of the star's orbit (the planet's is
-// ω + π). Reference: METHODS.md §7 [common practice]; see e.g. Lovis &
+// ω + π). Reference: docs/methods.md §7 [common practice]; see e.g. Lovis &
 // Fischer 2010, in Exoplanets, ed. Seager (from memory).
 type Keplerian struct {
 	// P is the orbital period in days, > 0.
@@ -105,7 +105,7 @@ func (k Keplerian) AddRV(dst, t []float64) {
 //	T_c = T_p + P M_c/(2π)
 //
 // Reference: Eastman, Gaudi & Agol 2013, PASP 125, 83 (from memory);
-// METHODS.md §7.
+// docs/methods.md §7.
 func (k Keplerian) Tc() float64 {
 	return k.Tp + k.P*conjunctionMeanAnomaly(k.E, k.Omega)/(2*math.Pi)
 }
@@ -125,7 +125,7 @@ func conjunctionMeanAnomaly(e, omega float64) float64 {
 //	T_p = T_c − P M_c/(2π)
 //
 // T_p is reduced to within half a period of T_c − P M_c/(2π) only by the
-// range of M_c in (−π, π]. Reference: METHODS.md §7.
+// range of M_c in (−π, π]. Reference: docs/methods.md §7.
 func KeplerianFromTc(P, K, e, omega, Tc float64) Keplerian {
 	return Keplerian{P: P, K: K, E: e, Omega: omega, Tp: Tc - P*conjunctionMeanAnomaly(e, omega)/(2*math.Pi)}
 }
@@ -136,7 +136,7 @@ func KeplerianFromTc(P, K, e, omega, Tc float64) Keplerian {
 //	e = (√e cos ω)² + (√e sin ω)²,  ω = atan2(√e sin ω, √e cos ω)
 //
 // which gives a uniform prior on e with uniform priors on both components
-// inside the unit disk (common practice; METHODS.md §7). When both are
+// inside the unit disk (common practice; docs/methods.md §7). When both are
 // zero, ω = 0.
 func KeplerianFromSqrtE(P, K, secosw, sesinw, Tc float64) Keplerian {
 	e := secosw*secosw + sesinw*sesinw
@@ -164,7 +164,7 @@ func (k Keplerian) SqrtE() (secosw, sesinw float64) {
 // mass). It returns NaN for non-physical input.
 //
 // Reference: Cumming, Marcy & Butler 1999, ApJ 526, 890; Lovis & Fischer
-// 2010, in Exoplanets (from memory); METHODS.md §7.
+// 2010, in Exoplanets (from memory); docs/methods.md §7.
 func SemiAmplitude(P, e, mp, mstar float64) float64 {
 	if !(P > 0) || !(e >= 0 && e < 1) || !(mp >= 0) || !(mstar > 0) {
 		return math.NaN()
@@ -178,7 +178,7 @@ func SemiAmplitude(P, e, mp, mstar float64) float64 {
 //
 //	f(m) = (m_p sin i)³/(M_* + m_p)² = P K³ (1 − e²)^(3/2) / (2π G),
 //
-// for P in days and K in m/s. Reference: METHODS.md §7 [common practice].
+// for P in days and K in m/s. Reference: docs/methods.md §7 [common practice].
 func MassFunction(P, K, e float64) float64 {
 	return P * Day * K * K * K * math.Pow(1-e*e, 1.5) / (2 * math.Pi * GMSun)
 }
@@ -188,7 +188,7 @@ func MassFunction(P, K, e float64) float64 {
 // eccentricity e on a star of mass mstar (solar masses). It solves the
 // mass-function equation m³ = f (M_* + m)² by Newton iteration from the
 // m ≪ M_* value, to a relative precision of 1e-14; the companion's mass is
-// not assumed negligible. Reference: METHODS.md §7 [common practice].
+// not assumed negligible. Reference: docs/methods.md §7 [common practice].
 func MinimumMass(P, K, e, mstar float64) (float64, error) {
 	if !(P > 0) || math.IsInf(P, 0) {
 		return math.NaN(), fmt.Errorf("%w: P = %g d", ErrBadPeriod, P)
@@ -232,7 +232,7 @@ func SemiMajorAxis(P, mp, mstar float64) float64 {
 
 // StarSemiMajorAxis returns a_* sin i in au, the projected semi-major axis
 // of the star's orbit, a_* sin i = K P √(1 − e²)/(2π), for K in m/s and P in
-// days. Reference: METHODS.md §7.
+// days. Reference: docs/methods.md §7.
 func StarSemiMajorAxis(P, K, e float64) float64 {
 	return K * P * Day * math.Sqrt(1-e*e) / (2 * math.Pi) / AU
 }

@@ -7,7 +7,7 @@ import (
 )
 
 func TestTcToTp(t *testing.T) {
-	// METHODS.md §7 checks [computed], P = 10 d, T_c = 0.
+	// docs/methods.md §7 checks [computed], P = 10 d, T_c = 0.
 	rows := []struct {
 		name    string
 		e, wDeg float64
@@ -30,7 +30,7 @@ func TestTcToTp(t *testing.T) {
 			if tc := k.Tc(); math.Abs(math.Remainder(tc, 10)) > 1e-12 {
 				t.Errorf("round trip Tc = %g, want 0", tc)
 			}
-			// At conjunction v = K e cos ω (METHODS.md §7).
+			// At conjunction v = K e cos ω (docs/methods.md §7).
 			if v, want := k.RV(0), 10*r.e*math.Cos(deg(r.wDeg)); math.Abs(v-want) > 1e-9 {
 				t.Errorf("v(Tc) = %g, want %g", v, want)
 			}
@@ -39,7 +39,7 @@ func TestTcToTp(t *testing.T) {
 }
 
 func TestKeplerianRV(t *testing.T) {
-	// METHODS.md §7 [computed]: K = 10 m/s, e = 0.3, ω = 60°, T_c = 0, P = 10.
+	// docs/methods.md §7 [computed]: K = 10 m/s, e = 0.3, ω = 60°, T_c = 0, P = 10.
 	k := KeplerianFromTc(10, 10, 0.3, deg(60), 0)
 	times := []float64{0, 1, 2.5, 5, 7.5}
 	want := []float64{1.500000000, -6.670060365, -8.180190830, -2.097521484, 8.083001515}
@@ -54,7 +54,7 @@ func TestKeplerianRV(t *testing.T) {
 		}
 	}
 	// Circular orbit: decreasing through zero at Tc, v(Tc + 0.01) =
-	// −0.06283 m/s for K = 10 (METHODS.md §7 [computed]).
+	// −0.06283 m/s for K = 10 (docs/methods.md §7 [computed]).
 	c := KeplerianFromTc(10, 10, 0, deg(90), 0)
 	if v := c.RV(0.01); math.Abs(v+0.06283) > 1e-5 {
 		t.Errorf("circular v(0.01) = %g, want −0.06283", v)
@@ -77,7 +77,7 @@ func TestSemiAmplitude(t *testing.T) {
 		P, e, mp, mstar float64
 		want, tol       float64
 	}{
-		// METHODS.md §7 [computed] with IAU 2015 nominal constants.
+		// docs/methods.md §7 [computed] with IAU 2015 nominal constants.
 		{"jupiter-sun", 4332.59, 0.0489, 1, 1, 12.474, 5e-4},
 		{"jupiter-sun circular", 4332.59, 0, 1, 1, 12.459, 5e-4},
 		{"earth-sun", 365.256, 0.0167, mEarthJ, 1, 0.08947, 5e-6},
@@ -91,7 +91,7 @@ func TestSemiAmplitude(t *testing.T) {
 		})
 	}
 	// The constant: K for 1 M_Jup at 1 yr, scaled by ((M+m)/M_sun)^(2/3).
-	// 28.4325 m/s from IAU 2015 nominal values (METHODS.md §7 [computed]);
+	// 28.4325 m/s from IAU 2015 nominal values (docs/methods.md §7 [computed]);
 	// the published 28.4329 (Cumming et al. 1999, from memory) differs by
 	// 1.4e-5 relative because of its Jupiter mass.
 	k := SemiAmplitude(JulianYear, 0, 1, 1) * math.Pow(1+GMJupiter/GMSun, 2.0/3)
@@ -104,7 +104,7 @@ func TestSemiAmplitude(t *testing.T) {
 }
 
 func TestMinimumMass(t *testing.T) {
-	// Jupiter–Sun: mass function 8.682158e-10 M_sun both ways (METHODS.md §7
+	// Jupiter–Sun: mass function 8.682158e-10 M_sun both ways (docs/methods.md §7
 	// [computed]).
 	K := SemiAmplitude(4332.59, 0.0489, 1, 1)
 	f := MassFunction(4332.59, K, 0.0489)

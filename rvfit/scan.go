@@ -8,7 +8,7 @@ import (
 	"sync"
 )
 
-// Alias frequencies of ground-based sampling in c/d (METHODS.md §6
+// Alias frequencies of ground-based sampling in c/d (docs/methods.md §6
 // [common practice]; sidereal-to-solar ratio 1.0027379 [memory]).
 const (
 	SiderealDayFreq = 1.0027379

@@ -15,7 +15,7 @@ import (
 // true frequency f at |f ± f_s|.
 //
 // Reference: Roberts, Lehár & Dreher 1987, AJ 93, 968; Dawson & Fabrycky
-// 2010, ApJ 722, 937 (from memory); METHODS.md §6.
+// 2010, ApJ 722, 937 (from memory); docs/methods.md §6.
 func Window(t, w []float64, g Grid, opts *GLSOptions) ([]float64, error) {
 	if err := g.validate(); err != nil {
 		return nil, err

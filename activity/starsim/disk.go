@@ -16,7 +16,7 @@ const (
 //
 //	I(μ)/I(1) = 1 − u1(1 − μ) − u2(1 − μ)²
 //
-// for μ the cosine of the angle from disk centre (METHODS.md §13, common
+// for μ the cosine of the angle from disk centre (docs/methods.md §13, common
 // practice). It is not clipped: a law that goes negative is the caller's
 // choice.
 func LimbDarkening(mu, u1, u2 float64) float64 {
@@ -40,7 +40,7 @@ func Planck(lambda, T float64) float64 {
 
 // SpotContrast returns the intensity ratio of a spot at T − dT to the
 // photosphere at T at the wavelength lambda (Å), B_λ(T − dT)/B_λ(T)
-// (METHODS.md §13, common practice).
+// (docs/methods.md §13, common practice).
 func SpotContrast(lambda, T, dT float64) float64 {
 	return Planck(lambda, T-dT) / Planck(lambda, T)
 }

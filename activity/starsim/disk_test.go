@@ -18,7 +18,7 @@ func quietScenario(vsini, sigma, eps float64) *Scenario {
 
 // TestGrayKernel checks the disk-integrated profile of an unspotted star
 // against Gray's rotational broadening kernel with linear limb darkening
-// convolved with the local Gaussian (METHODS.md §13; reference FWHMs from
+// convolved with the local Gaussian (docs/methods.md §13; reference FWHMs from
 // scipy in testdata/starsim/ref.json). The issue asks for FWHM within 1 %.
 func TestGrayKernel(t *testing.T) {
 	ref := loadRef(t)

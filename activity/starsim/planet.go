@@ -16,7 +16,7 @@ import (
 // (true anomaly π/2 − ω at conjunction). Kepler's equation is solved by
 // rvfit.EccentricAnomaly. v_r > 0 is recession.
 //
-// References (from memory, METHODS.md §7): the RV model in Lovis & Fischer
+// References (from memory, docs/methods.md §7): the RV model in Lovis & Fischer
 // 2010, in Exoplanets, ed. Seager; the conjunction–periastron relation in
 // Eastman, Gaudi & Agol 2013, PASP 125, 83.
 func (p *Planet) RV(t float64) float64 {
@@ -36,7 +36,7 @@ func (p *Planet) RV(t float64) float64 {
 //	E_c = 2 atan2(√(1−e) sin(ν_c/2), √(1+e) cos(ν_c/2))
 //	T_p = Tc − P (E_c − e sin E_c)/(2π)
 //
-// (METHODS.md §7, from memory after Eastman, Gaudi & Agol 2013).
+// (docs/methods.md §7, from memory after Eastman, Gaudi & Agol 2013).
 func (p *Planet) PeriastronTime() float64 {
 	w := p.Omega * math.Pi / 180
 	nuc := math.Pi/2 - w
@@ -48,7 +48,7 @@ func (p *Planet) PeriastronTime() float64 {
 //
 //	λ_obs/λ_emit = 1 + z = √((1 + β)/(1 − β)),  β = v/c
 //
-// for a line-of-sight velocity v in m/s (positive: receding), METHODS.md §1.
+// for a line-of-sight velocity v in m/s (positive: receding), docs/methods.md §1.
 func DopplerFactor(v float64) float64 {
 	b := v / cLight
 	return math.Sqrt((1 + b) / (1 - b))

@@ -163,7 +163,7 @@ func solve4(M [4][4]float64, b [4]float64) ([4]float64, bool) {
 // Bisector returns the bisector velocity (km/s) at the fractional depth d
 // measured from the continuum (d = 0 continuum, 1 core): the mid-point of
 // the two velocities where the profile crosses 1 − d·D, D = 1 − min F,
-// found by linear interpolation outward from the core (METHODS.md §3). It
+// found by linear interpolation outward from the core (docs/methods.md §3). It
 // returns NaN when a side never reaches that level.
 func (p *Profile) Bisector(d float64) float64 {
 	v, f := p.Velocity, p.Flux
@@ -196,7 +196,7 @@ func (p *Profile) Bisector(d float64) float64 {
 // BIS returns the bisector inverse slope in km/s: the mean bisector over
 // depths [0.10, 0.40] minus the mean over [0.60, 0.90], each zone sampled
 // at 31 evenly spaced depths (Queloz et al. 2001, A&A 379, 279; zone limits
-// from memory, METHODS.md §3). BIS > 0 when the upper bisector is redder.
+// from memory, docs/methods.md §3). BIS > 0 when the upper bisector is redder.
 func (p *Profile) BIS() float64 {
 	zone := func(lo, hi float64) float64 {
 		const n = 31

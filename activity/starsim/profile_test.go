@@ -7,7 +7,7 @@ import (
 )
 
 // halfGaussian returns the profile 1 − D exp(−(v − v0)²/(2σ²)) with σ = sL
-// left of v0 and sR right of it (METHODS.md §3).
+// left of v0 and sR right of it (docs/methods.md §3).
 func halfGaussian(v0, D, sL, sR, h, span float64) *Profile {
 	p := &Profile{}
 	for v := -span; v <= span+h/2; v += h {
@@ -28,10 +28,10 @@ func TestBIS(t *testing.T) {
 		sL, sR, v0 float64
 		want, tol  float64
 	}{
-		// Symmetric profile: BIS = 0 exactly [METHODS.md §3, computed].
+		// Symmetric profile: BIS = 0 exactly [docs/methods.md §3, computed].
 		{"symmetric", 3, 3, 0.7, 0, 1e-9},
 		// Half-Gaussian 3.0/3.3 km/s: BIS = +0.140963 km/s for continuous
-		// zones 10–40/60–90 % (METHODS.md §3 [computed]); 31 levels per zone
+		// zones 10–40/60–90 % (docs/methods.md §3 [computed]); 31 levels per zone
 		// differ from the continuous mean by < 1e-3 km/s.
 		{"half-gaussian", 3.0, 3.3, 0.5, 0.140963, 1e-3},
 		// Mirrored: the sign flips.
@@ -43,7 +43,7 @@ func TestBIS(t *testing.T) {
 		}
 	}
 	// The exact 31-level value: mean of (σR − σL)/2·√(−2 ln d) over the
-	// levels of each zone [analytic, METHODS.md §3 formula for b(d)].
+	// levels of each zone [analytic, docs/methods.md §3 formula for b(d)].
 	zone := func(lo, hi float64) float64 {
 		var s float64
 		for k := 0; k < 31; k++ {
@@ -80,7 +80,7 @@ func TestFitGaussian(t *testing.T) {
 		}
 	}
 	if f := g.FWHM(); math.Abs(f-2.6*2.354820045) > 1e-8 {
-		t.Errorf("FWHM = %v, want 2.354820045 σ (METHODS.md §0)", f)
+		t.Errorf("FWHM = %v, want 2.354820045 σ (docs/methods.md §0)", f)
 	}
 	flat := &Profile{Velocity: []float64{0, 1, 2}, Flux: []float64{1, 1, 1}}
 	if _, err := FitGaussian(flat); !errors.Is(err, ErrFit) {

@@ -33,12 +33,12 @@ func semiAmplitude(r *Result) float64 {
 
 // TestSpotScaling checks the RV semi-amplitude of one equatorial spot on an
 // equator-on star against Saar & Donahue (1997, ApJ 485, 319; from memory,
-// METHODS.md §13): A ≈ 6.5 f_S^0.9 v sin i m/s with f_S in per cent of the
+// docs/methods.md §13): A ≈ 6.5 f_S^0.9 v sin i m/s with f_S in per cent of the
 // disk and v sin i in km/s. The issue asks for the slope 0.9 in f_S (the
 // test allows ±0.15: our Gaussian-fit model is nearly linear, slope ≈ 1.0),
 // linearity in v sin i (log-log slope within [0.85, 1.2]) and the
 // normalisation within a factor of 2 (whether the paper's A is a semi- or a
-// full amplitude is uncertain, METHODS.md §13).
+// full amplitude is uncertain, docs/methods.md §13).
 func TestSpotScaling(t *testing.T) {
 	fs := []float64{0.005, 0.01, 0.02}
 	var lf, la []float64
@@ -55,7 +55,7 @@ func TestSpotScaling(t *testing.T) {
 		t.Errorf("d ln A / d ln f_S = %.3f, want 0.9 ± 0.15 (Saar & Donahue 1997)", s)
 	}
 	// Linear in v sin i: A = a·v sin i + b fits to 5 %; Hatzes (2002, AN
-	// 323, 392; from memory, METHODS.md §13) found the same form with a small
+	// 323, 392; from memory, docs/methods.md §13) found the same form with a small
 	// negative intercept, A ≈ (8.6 v sin i − 1.6) f_S^0.9.
 	vs := []float64{3, 6, 12}
 	var as []float64
@@ -166,7 +166,7 @@ func TestRegionLifecycle(t *testing.T) {
 // TestFaculaeAndChromosphere checks that faculae raise the S-index as the
 // scenario says and that with the convective blueshift suppressed inside
 // them a plage-dominated star shows a redshift that grows with the facular
-// coverage (Meunier et al. 2010; METHODS.md §3, from memory).
+// coverage (Meunier et al. 2010; docs/methods.md §3, from memory).
 func TestFaculaeAndChromosphere(t *testing.T) {
 	sc := &Scenario{
 		Name:      "plage",
@@ -197,7 +197,7 @@ func TestFaculaeAndChromosphere(t *testing.T) {
 }
 
 // TestChromaticSpot checks that a cool spot's RV is larger in the blue than
-// in the red, because its Planck contrast is (METHODS.md §10, §13): the
+// in the red, because its Planck contrast is (docs/methods.md §10, §13): the
 // ratio of the kernels' RVs at the spectrum's bluest and reddest nodes
 // equals the ratio of (1 − contrast) to 10 %, since the RV of a small spot
 // scales with the flux it removes.
@@ -242,7 +242,7 @@ func TestChromaticSpot(t *testing.T) {
 }
 
 // TestDifferentialRotation checks that a spot at latitude 50° on a star with
-// shear α = 0.2 rotates with Ω(θ) = Ω_eq (1 − α sin²θ) (METHODS.md §13): the
+// shear α = 0.2 rotates with Ω(θ) = Ω_eq (1 − α sin²θ) (docs/methods.md §13): the
 // RV periodogram peaks at P_eq/(1 − 0.2 sin² 50°) or its half, within 2 %.
 func TestDifferentialRotation(t *testing.T) {
 	sc := oneSpot(5, 0.02, 2)
@@ -265,7 +265,7 @@ func TestDifferentialRotation(t *testing.T) {
 }
 
 // TestFFPrime checks the simulated photometry and RV against the FF′ method
-// of Aigrain, Pont & Zucker (2012, MNRAS 419, 3147; from memory, METHODS.md
+// of Aigrain, Pont & Zucker (2012, MNRAS 419, 3147; from memory, docs/methods.md
 // §13): for a dark spot without convective blueshift the rotational RV
 // follows −F·dF/dt approximately (the relation drops the projection factor
 // cos φ of the spot's RV weight), so the two correlate closely: the model

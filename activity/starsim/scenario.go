@@ -95,7 +95,7 @@ type Star struct {
 	// rigid rotation (solar α ≈ 0.2).
 	DiffRotation float64 `toml:"diff_rotation"`
 	// LimbU1 and LimbU2 are the quadratic limb-darkening coefficients
-	// (default 0.45 and 0.20, solar-like near 5500 Å, METHODS.md §13). In a
+	// (default 0.45 and 0.20, solar-like near 5500 Å, docs/methods.md §13). In a
 	// Go literal 0 means the default, so a linear law is asked for with
 	// LinearLimb (a file may also write limb_u2 = 0).
 	LimbU1 float64 `toml:"limb_u1"`

@@ -146,7 +146,7 @@ func TestExplicitZeros(t *testing.T) {
 
 func TestBVFromTeff(t *testing.T) {
 	// The Sun: B−V = 0.65 at 5778 K within 0.01 mag (Ballesteros 2012,
-	// from memory; solar B−V 0.65, METHODS.md §4.2).
+	// from memory; solar B−V 0.65, docs/methods.md §4.2).
 	if bv := BVFromTeff(5778); bv < 0.64 || bv > 0.66 {
 		t.Errorf("BVFromTeff(5778) = %.4f, want 0.65", bv)
 	}

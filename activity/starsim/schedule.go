@@ -7,7 +7,7 @@ import (
 )
 
 // SiderealDay is the sidereal day in mean solar days, 1/1.0027379057
-// (METHODS.md §0, [computed]).
+// (docs/methods.md §0, [computed]).
 const SiderealDay = 0.99726957
 
 // visit is one planned observation.

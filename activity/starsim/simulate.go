@@ -357,7 +357,7 @@ func (s *sim) buildKernelsFor(ws *workspace, cv *coverage, inst int, m *specMode
 
 // photonRV returns the photon-noise RV precision (m/s) of instrument inst
 // on the quiet star's full spectrum at its S/N (Bouchy, Pepe & Queloz 2001,
-// A&A 374, 733; METHODS.md §2):
+// A&A 374, 733; docs/methods.md §2):
 //
 //	W_i = (∂N/∂ ln λ)_i² / N_i,  σ_RV = c / √(Σ W_i)
 //
@@ -385,7 +385,7 @@ func (s *sim) photonRV(ws *workspace, cv *coverage, inst int) float64 {
 //
 //	S = 19.2 (H + K)/(R + V)
 //
-// with H, K = Σ F T Δλ (triangular bands) and R, V = Σ F Δλ (METHODS.md
+// with H, K = Σ F T Δλ (triangular bands) and R, V = Σ F Δλ (docs/methods.md
 // §4.1; SIndexScale).
 func (s *sim) sIndex(spec []float64, snr float64) (S, sErr float64) {
 	m := s.ca

@@ -26,7 +26,7 @@ func planetScenario() *Scenario {
 
 // TestPlanetShiftsSpectrum checks that a planet alone shifts the whole
 // spectrum by exactly its Keplerian velocity, through the relativistic
-// Doppler factor (METHODS.md §1):
+// Doppler factor (docs/methods.md §1):
 //
 //  1. a shift of a whole number k of pixels, ln D = k·Δ ln λ (v = c·tanh(kΔ)),
 //     makes every pixel equal to the unshifted spectrum k pixels bluewards,

@@ -6,7 +6,7 @@ import (
 )
 
 // StrongLine is one of the strong lines every simulated spectrum carries, at
-// its laboratory wavelength in air (METHODS.md §1 table, Morton 2000
+// its laboratory wavelength in air (docs/methods.md §1 table, Morton 2000
 // conversion). The absorption is a Lorentzian of half-width Gamma and
 // central depth Depth, tapered to zero at 40·Gamma; a Gaussian emission core
 // of σ EmissionSigma and relative strength EmissionScale (times the epoch's
@@ -32,7 +32,7 @@ var StrongLines = []StrongLine{
 	{"H-alpha", 6562.8010, 0.80, 0.9, 0.35, 0.25},
 }
 
-// Mount Wilson S-index bands (air, METHODS.md §4.1): triangular H and K
+// Mount Wilson S-index bands (air, docs/methods.md §4.1): triangular H and K
 // cores of FWHM 1.09 Å, rectangular 20 Å V and R continua.
 const (
 	sBandK  = 3933.664

@@ -24,7 +24,7 @@ import (
 // ParamNames).
 //
 // Reference: Rajpaul, Aigrain, Osborne, Reece & Roberts 2015, MNRAS 452,
-// 2269 (form from memory; METHODS.md §8).
+// 2269 (form from memory; docs/methods.md §8).
 type MultiNoise struct {
 	index, bis *gp.Series // nil when not given
 	rIndex     []float64

@@ -5,7 +5,7 @@ Run with the Debian interpreter:  /usr/bin/python3 make_ref.py > ref.json
 Each case holds its inputs (times, residuals, variances, hyperparameters)
 and the values computed here with scipy.linalg.cho_factor / cho_solve on a
 covariance built independently in numpy from the formulas in
-METHODS.md section 8 (not from the Go code).
+docs/methods.md §8 (not from the Go code).
 """
 import json
 import sys
@@ -62,7 +62,7 @@ def lst(x):
 
 cases = []
 
-# Case 1: METHODS.md Appendix B (SHO + rotation term).
+# Case 1: docs/methods.md Appendix B (SHO + rotation term).
 t = np.array([0.0, 0.7, 1.9, 2.2, 3.8, 5.1, 5.3, 7.9, 9.4, 12.0])
 y = np.array([1.2, 0.4, -0.3, -0.1, 0.9, 1.5, 1.1, -0.8, -1.3, 0.2])
 s = np.array([0.30, 0.25, 0.30, 0.35, 0.30, 0.20, 0.30, 0.25, 0.30, 0.30])

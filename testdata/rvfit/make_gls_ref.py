@@ -3,7 +3,7 @@
 
 Run with /usr/bin/python3 (Debian astropy); writes gls_ref.json beside this
 script. Data sets:
-  appendix_a : METHODS.md Appendix A (16 epochs), powers at 5 frequencies and
+  appendix_a : docs/methods.md Appendix A (16 epochs), powers at 5 frequencies and
                Baluev FAPs at Z = 0.5, 0.7 (f_max = 1).
   irregular  : 80 irregular epochs over ~300 d (deterministic golden-ratio
                sampling), unequal errors; powers on a 3000-point grid

@@ -4,7 +4,7 @@
 Run with Debian's python (it has scipy and astropy):  /usr/bin/python3 make_ref.py > ref.json
 
 - gray_fwhm: FWHM (km/s) of Gray's rotational broadening kernel with linear limb
-  darkening (METHODS.md section 13), convolved with a unit Gaussian line of sigma
+  darkening (docs/methods.md §13), convolved with a unit Gaussian line of sigma
   `sigma`, for each (vsini, sigma, eps); integration by scipy.integrate.quad,
   half-maximum crossing by scipy.optimize.brentq.
 - planck: B_lambda(T) in W m^-3 sr^-1 from astropy.modeling.models.BlackBody.
