@@ -61,6 +61,29 @@ type ReadOptions struct {
 	RVUnit string
 	// Format is "csv", "tsv" or "fits"; empty means by content.
 	Format string
+	// Value is the canonical name of the column read into the series' RV
+	// field (and Value+"_err" into RVErr), for a table of another quantity
+	// read with the same rules, e.g. a light curve's "flux" or "mag".
+	// Empty means "rv". A value other than rv keeps the unit its file
+	// gives: it is not converted and RVUnit does not apply.
+	Value string
+	// Label is the canonical name of the column read into the series'
+	// Instrument labels (e.g. a light curve's "sector"); empty means
+	// "instrument".
+	Label string
+}
+
+// roles returns the canonical names of the value, its uncertainty and the
+// label columns.
+func (o *ReadOptions) roles() (value, valueErr, label string) {
+	value, label = ColRV, ColInstrument
+	if o.Value != "" {
+		value = o.Value
+	}
+	if o.Label != "" {
+		label = o.Label
+	}
+	return value, value + errSuffix, label
 }
 
 // ReadTable reads a per-epoch table from a file: CSV or TSV text, or a FITS
@@ -215,8 +238,12 @@ func (rt *rawTable) build(opts *ReadOptions) (*Series, []string, error) {
 		}
 		return nil
 	}
+	colValue, colValueErr, colLabel := opts.roles()
 	rvScale := 1.0
 	rvUnitFrom := func(fn string) (float64, error) {
+		if colValue != ColRV {
+			return 1, nil
+		}
 		u := opts.RVUnit
 		if u == "" {
 			u = rt.units[fn]
@@ -240,7 +267,7 @@ func (rt *rawTable) build(opts *ReadOptions) (*Series, []string, error) {
 		return nil, nil, err
 	}
 	timeFile := fn
-	if s.RV, fn, err = numCol(ColRV, true); err != nil {
+	if s.RV, fn, err = numCol(colValue, true); err != nil {
 		return nil, nil, err
 	}
 	if err := checkRequired(s.RV, fn); err != nil {
@@ -250,7 +277,7 @@ func (rt *rawTable) build(opts *ReadOptions) (*Series, []string, error) {
 		return nil, nil, err
 	}
 	rvFile := fn
-	if s.RVErr, fn, err = numCol(ColRVErr, true); err != nil {
+	if s.RVErr, fn, err = numCol(colValueErr, true); err != nil {
 		return nil, nil, err
 	}
 	if err := checkRequired(s.RVErr, fn); err != nil {
@@ -276,7 +303,7 @@ func (rt *rawTable) build(opts *ReadOptions) (*Series, []string, error) {
 
 	// Instruments.
 	s.Instrument = make([]string, n)
-	fn = fileOf(ColInstrument)
+	fn = fileOf(colLabel)
 	if present[fn] {
 		col, ok := rt.str[fn]
 		if !ok {
@@ -313,7 +340,7 @@ func (rt *rawTable) build(opts *ReadOptions) (*Series, []string, error) {
 	}
 
 	// Indicators: every other column, in file order; X_err pairs with X.
-	taken := map[string]bool{timeFile: true, rvFile: true, fileOf(ColRVErr): true, fileOf(ColInstrument): true}
+	taken := map[string]bool{timeFile: true, rvFile: true, fileOf(colValueErr): true, fileOf(colLabel): true}
 	for _, fname := range rt.names {
 		if taken[fname] {
 			continue
