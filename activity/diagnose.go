@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/rand/v2"
 
+	"spotsift/activity/photometry"
 	"spotsift/rvfit"
 )
 
@@ -49,6 +50,10 @@ type Options struct {
 	// SkipModels leaves out the Gaussian-process fits (rotation from a GP,
 	// the model comparison); they are the slow part.
 	SkipModels bool
+	// LightCurve, when not nil, is the star's photometry: its rotation
+	// period joins the rotation estimates, and where it overlaps the RVs
+	// its FF' prediction is tested as evidence.
+	LightCurve *photometry.LightCurve
 }
 
 func (o *Options) withDefaults() Options {

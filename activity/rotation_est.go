@@ -73,6 +73,7 @@ func (d *data) estimateRotation(rng *rand.Rand) Rotation {
 		}
 		est = append(est, RotationEstimate{Method: "star file", Period: star.RotationPeriod, Err: e})
 	}
+	est = append(est, d.lightCurveEstimates()...)
 	peaks := d.indicatorPeaks()
 	const peakFAP = 0.01
 	for _, p := range peaks {
@@ -105,7 +106,7 @@ func (d *data) estimateRotation(rng *rand.Rand) Rotation {
 		return false
 	}
 	switch {
-	case pick("star file"), pick("gp fit"), pick("periodogram"), pick("Mamajek"), pick("Noyes"):
+	case pick("star file"), pick(lightCurveMethod), pick("gp fit"), pick("periodogram"), pick("Mamajek"), pick("Noyes"):
 	default:
 		rot.Agreement = "no estimate of the rotation period"
 		return rot

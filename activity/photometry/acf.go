@@ -1,0 +1,304 @@
+package photometry
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/dsp/fourier"
+)
+
+// ACF is the autocorrelation function of a light curve and the rotation
+// period read from it by the method of McQuillan, Aigrain & Mazeh (2013,
+// MNRAS 432, 1203).
+type ACF struct {
+	// Lag (days) and Value: the smoothed autocorrelation function.
+	Lag, Value []float64
+	// Peaks are the lags (days) of the peaks used for the period, at
+	// about k·Period for k = 1, 2, ….
+	Peaks []float64
+	// Period and Err (days); NaN when no peak was found.
+	Period, Err float64
+	// Height is the local peak height of the adopted peak: the peak's value
+	// minus the mean of the two troughs beside it.
+	Height float64
+	// Harmonic is true when the first peak was half the period: the peak
+	// at twice its lag is higher (a light curve with two dips per turn).
+	Harmonic bool
+	// Fill is the fraction of the uniform grid's cells holding data.
+	Fill float64
+}
+
+// acfMinHeight is the local peak height above which an ACF peak counts
+// as a rotation signal (McQuillan et al. 2013 discard peaks below about
+// 0.1; from memory).
+const acfMinHeight = 0.1
+
+// uniform bins the light curve (relative flux minus one) on a uniform grid
+// of step dt from its first time; empty cells are NaN.
+func uniform(t, y, w []float64, dt float64) []float64 {
+	n := int((t[len(t)-1]-t[0])/dt) + 1
+	sum := make([]float64, n)
+	sw := make([]float64, n)
+	for i, ti := range t {
+		k := int((ti - t[0]) / dt)
+		if k >= n {
+			k = n - 1
+		}
+		sum[k] += w[i] * y[i]
+		sw[k] += w[i]
+	}
+	out := make([]float64, n)
+	for k := range out {
+		if sw[k] > 0 {
+			out[k] = sum[k] / sw[k]
+		} else {
+			out[k] = math.NaN()
+		}
+	}
+	return out
+}
+
+// autocorrelation returns r_k = Σ x_i x_(i+k) / Σ x_i² for k < maxLag,
+// by FFT.
+func autocorrelation(x []float64, maxLag int) []float64 {
+	n := len(x)
+	m := 1
+	for m < 2*n {
+		m <<= 1
+	}
+	buf := make([]float64, m)
+	copy(buf, x)
+	fft := fourier.NewFFT(m)
+	c := fft.Coefficients(nil, buf)
+	for i, v := range c {
+		c[i] = complex(real(v)*real(v)+imag(v)*imag(v), 0)
+	}
+	r := fft.Sequence(nil, c)
+	out := make([]float64, min(maxLag, n))
+	if r[0] <= 0 {
+		return out
+	}
+	for k := range out {
+		out[k] = r[k] / r[0]
+	}
+	return out
+}
+
+// gaussSmooth convolves v with a Gaussian of standard deviation sigma
+// samples (truncated at 4σ, renormalised at the ends).
+func gaussSmooth(v []float64, sigma float64) []float64 {
+	if sigma < 0.5 {
+		return append([]float64(nil), v...)
+	}
+	h := int(math.Ceil(4 * sigma))
+	ker := make([]float64, 2*h+1)
+	for j := range ker {
+		d := float64(j-h) / sigma
+		ker[j] = math.Exp(-0.5 * d * d)
+	}
+	out := make([]float64, len(v))
+	for i := range v {
+		var s, sw float64
+		for j := max(0, i-h); j <= min(len(v)-1, i+h); j++ {
+			s += ker[j-i+h] * v[j]
+			sw += ker[j-i+h]
+		}
+		out[i] = s / sw
+	}
+	return out
+}
+
+// acfPeak is a local maximum of the smoothed ACF.
+type acfPeak struct {
+	k      int     // index
+	value  float64 // ACF value
+	height float64 // local peak height
+}
+
+// acfPeaks returns the local maxima of r beyond lag 0 with their local
+// peak heights (peak minus the mean of the minima on either side).
+func acfPeaks(r []float64) []acfPeak {
+	var max, mins []int
+	for k := 1; k+1 < len(r); k++ {
+		if r[k] > r[k-1] && r[k] >= r[k+1] {
+			max = append(max, k)
+		}
+		if r[k] < r[k-1] && r[k] <= r[k+1] {
+			mins = append(mins, k)
+		}
+	}
+	var out []acfPeak
+	for _, k := range max {
+		left, right := math.NaN(), math.NaN()
+		for _, m := range mins {
+			if m < k {
+				left = r[m]
+			} else if m > k && math.IsNaN(right) {
+				right = r[m]
+			}
+		}
+		if math.IsNaN(left) || math.IsNaN(right) {
+			// A peak without a trough on one side (the first of a slowly
+			// decaying ACF, or the last lag): use the one trough there is.
+			if math.IsNaN(left) {
+				left = right
+			}
+			if math.IsNaN(right) {
+				right = left
+			}
+		}
+		h := r[k] - 0.5*(left+right)
+		if math.IsNaN(h) {
+			continue
+		}
+		out = append(out, acfPeak{k: k, value: r[k], height: h})
+	}
+	return out
+}
+
+// ACFRotation measures the rotation period by the autocorrelation method
+// of McQuillan, Aigrain & Mazeh (2013): the light curve is put on a
+// uniform grid of step dt (empty cells set to zero after the mean is
+// removed), its autocorrelation is computed up to maxLag days and smoothed
+// with a Gaussian, and the first peak whose local height is above 0.1 is
+// taken; when the peak at about twice its lag is higher, that one is the
+// period (two dips per turn, spots on opposite hemispheres). The period is
+// then the slope of the lags of the peaks at about k·P against k, its
+// error the slope's standard error (or, with fewer than three peaks, the
+// half width at half height of the adopted peak).
+//
+// y is relative flux minus one, w the weights (1/σ²).
+func ACFRotation(t, y, w []float64, dt, maxLag, pMin float64) *ACF {
+	a := &ACF{Period: math.NaN(), Err: math.NaN(), Height: math.NaN()}
+	if len(t) < MinPoints || !(dt > 0) {
+		return a
+	}
+	g := uniform(t, y, w, dt)
+	var mean float64
+	var nf int
+	for _, v := range g {
+		if !math.IsNaN(v) {
+			mean += v
+			nf++
+		}
+	}
+	a.Fill = float64(nf) / float64(len(g))
+	if nf < MinPoints {
+		return a
+	}
+	mean /= float64(nf)
+	for k, v := range g {
+		if math.IsNaN(v) {
+			g[k] = 0
+		} else {
+			g[k] = v - mean
+		}
+	}
+	nLag := int(maxLag/dt) + 1
+	raw := autocorrelation(g, nLag)
+	// Smoothing: a Gaussian of standard deviation a quarter of the
+	// shortest period sought, so that no period in range is smoothed away
+	// (McQuillan et al. use a fixed width at Kepler's cadence; this scales
+	// it with the search).
+	r := gaussSmooth(raw, math.Max(1, 0.25*pMin/dt))
+	a.Lag = make([]float64, len(r))
+	for k := range r {
+		a.Lag[k] = float64(k) * dt
+	}
+	a.Value = r
+	peaks := acfPeaks(r)
+	first := -1
+	for i, p := range peaks {
+		if float64(p.k)*dt >= pMin && p.height >= acfMinHeight {
+			first = i
+			break
+		}
+	}
+	if first < 0 {
+		return a
+	}
+	best := peaks[first]
+	// The harmonic check: a higher peak near twice the first's lag.
+	lag1 := float64(best.k)
+	for _, p := range peaks[first+1:] {
+		if math.Abs(float64(p.k)-2*lag1) <= 0.2*lag1 && p.value > best.value && p.height >= acfMinHeight {
+			best = p
+			a.Harmonic = true
+			break
+		}
+	}
+	a.Height = best.height
+	p0 := float64(best.k)
+	// Peaks near k·P0, the highest in a window of ±0.2 P0.
+	var ks, lags []float64
+	for m := 1; float64(m)*p0 < float64(len(r)-1); m++ {
+		var pick *acfPeak
+		for i := range peaks {
+			p := &peaks[i]
+			if math.Abs(float64(p.k)-float64(m)*p0) <= 0.2*p0 && (pick == nil || p.value > pick.value) {
+				pick = p
+			}
+		}
+		if pick == nil {
+			break
+		}
+		ks = append(ks, float64(m))
+		lags = append(lags, refineLag(r, pick.k))
+		a.Peaks = append(a.Peaks, lags[len(lags)-1]*dt)
+		if m >= 10 {
+			break
+		}
+	}
+	if len(ks) >= 3 {
+		// Least squares lag = P·m + c.
+		var sm, sl, smm, sml float64
+		n := float64(len(ks))
+		for i := range ks {
+			sm += ks[i]
+			sl += lags[i]
+			smm += ks[i] * ks[i]
+			sml += ks[i] * lags[i]
+		}
+		den := n*smm - sm*sm
+		slope := (n*sml - sm*sl) / den
+		c := (sl - slope*sm) / n
+		var rss float64
+		for i := range ks {
+			d := lags[i] - slope*ks[i] - c
+			rss += d * d
+		}
+		se := math.Sqrt(rss / (n - 2) * n / den)
+		a.Period = slope * dt
+		a.Err = math.Max(se*dt, dt/math.Sqrt(12)/n)
+		return a
+	}
+	a.Period = lags[0] * dt
+	a.Err = halfWidth(r, best.k, best.height) * dt
+	return a
+}
+
+// refineLag returns the lag (in samples) of the parabola through the peak
+// at k and its neighbours.
+func refineLag(r []float64, k int) float64 {
+	if k <= 0 || k+1 >= len(r) {
+		return float64(k)
+	}
+	den := r[k-1] - 2*r[k] + r[k+1]
+	if den >= 0 {
+		return float64(k)
+	}
+	return float64(k) + 0.5*(r[k-1]-r[k+1])/den
+}
+
+// halfWidth returns the half width (samples) of the ACF peak at k at half
+// its local height.
+func halfWidth(r []float64, k int, height float64) float64 {
+	level := r[k] - 0.5*height
+	lo, hi := k, k
+	for lo > 0 && r[lo] > level {
+		lo--
+	}
+	for hi < len(r)-1 && r[hi] > level {
+		hi++
+	}
+	return math.Max(1, 0.5*float64(hi-lo))
+}

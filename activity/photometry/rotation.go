@@ -1,0 +1,411 @@
+package photometry
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"spotsift/gp"
+	"spotsift/rvfit"
+)
+
+// Method names of the rotation estimates.
+const (
+	MethodGLS = "GLS periodogram"
+	MethodACF = "autocorrelation (McQuillan et al. 2013)"
+	MethodGP  = "GP fit, rotation kernel"
+)
+
+// Estimate is one method's rotation period.
+type Estimate struct {
+	Method string `json:"method"`
+	// Period and Err in days; NaN when the method found nothing.
+	Period float64 `json:"period"`
+	Err    float64 `json:"err"`
+	// Detected is whether the method sees a rotation signal by its own
+	// criterion (GLS: false-alarm probability below 10⁻³; ACF: local peak
+	// height above 0.1; GP: a converged fit whose amplitude is significant).
+	Detected bool `json:"detected"`
+	// Note says what the criterion gave (the FAP, the peak height...).
+	Note string `json:"note,omitempty"`
+}
+
+// Rotation is the rotation period from a light curve.
+type Rotation struct {
+	// Detected is false when no method sees rotation: Period and Err are
+	// then NaN and Reason says why.
+	Detected bool `json:"detected"`
+	// Period and Err (days) of the adopted estimate, Method its method.
+	Period float64 `json:"period"`
+	Err    float64 `json:"err"`
+	Method string  `json:"method"`
+	// Estimates holds every method's result.
+	Estimates []Estimate `json:"estimates"`
+	// Agreement says whether the methods agree, directly or at a factor of
+	// two (P against P/2).
+	Agreement string `json:"agreement"`
+	// Reason explains a light curve without detected rotation.
+	Reason string `json:"reason,omitempty"`
+	// Amplitude is the semi-amplitude (relative flux) of the best sinusoid
+	// at the adopted period; AmplitudeSNR its ratio to its error.
+	Amplitude    float64 `json:"amplitude"`
+	AmplitudeSNR float64 `json:"amplitude_snr"`
+
+	// Periodogram and ACF are kept for figures (not written to JSON).
+	Periodogram *rvfit.Periodogram `json:"-"`
+	ACF         *ACF               `json:"-"`
+}
+
+// RotationOptions controls EstimateRotation. The zero value (or nil)
+// searches 0.5 d to half the baseline.
+type RotationOptions struct {
+	// PMin and PMax bound the periods searched, in days. Zero: 0.5 d and
+	// half the baseline.
+	PMin, PMax float64
+	// SkipGP leaves out the Gaussian-process fit (the slow part).
+	SkipGP bool
+}
+
+// glsFAP is the false-alarm probability below which a GLS peak is a
+// detection (common practice).
+const glsFAP = 1e-3
+
+// EstimateRotation measures the rotation period of a light curve by three
+// methods — the GLS periodogram (Zechmeister & Kürster 2009, one offset
+// per sector), the autocorrelation function (McQuillan, Aigrain & Mazeh
+// 2013) and a maximum a posteriori GP fit with the two-mode rotation
+// kernel (gp.RotationSHO) — and adopts one: the ACF when the light curve
+// covers at least half its span (the method was made for near-continuous
+// space photometry), else the GP fit when it agrees with a detection of
+// the others, else the GLS peak. With no detection the result says so.
+func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) {
+	if err := lc.Validate(); err != nil {
+		return nil, err
+	}
+	var o RotationOptions
+	if opts != nil {
+		o = *opts
+	}
+	n := lc.Len()
+	T := lc.Time[n-1] - lc.Time[0]
+	if o.PMin == 0 {
+		o.PMin = 0.5
+	}
+	if o.PMax == 0 {
+		o.PMax = T / 2
+	}
+	if !(o.PMin > 0) || !(o.PMax > o.PMin) {
+		return nil, fmt.Errorf("%w: %s: periods searched %g to %g d over a baseline of %g d", ErrBadLightCurve, lc.Name, o.PMin, o.PMax, T)
+	}
+	y := make([]float64, n)
+	w := make([]float64, n)
+	for i := range y {
+		y[i] = lc.Flux[i] - 1
+		w[i] = 1 / (lc.Err[i] * lc.Err[i])
+	}
+	rot := &Rotation{Period: math.NaN(), Err: math.NaN(), Amplitude: math.NaN(), AmplitudeSNR: math.NaN()}
+
+	// GLS with one offset per sector.
+	g := rvfit.Grid{FMin: 1 / o.PMax, DF: 1 / (5 * T)}
+	g.N = int((1/o.PMin-g.FMin)/g.DF) + 1
+	var sectors []string
+	if lc.Sector != nil {
+		sectors = lc.Sector
+	}
+	est := Estimate{Method: MethodGLS, Period: math.NaN(), Err: math.NaN()}
+	pg, err := rvfit.GLS(lc.Time, y, lc.Err, g, &rvfit.GLSOptions{Instrument: sectors, Fast: true})
+	if err == nil {
+		rot.Periodogram = pg
+		k := argmax(pg.Power)
+		fap := rvfit.BaluevFAP(pg.Power[k], pg.NObs, pg.NOffsets, g.FMax(), pg.TEff)
+		f := refine(pg.Power, g, k)
+		// The half width at half maximum of the peak as the frequency error
+		// (conservative; common practice).
+		lo, hi := k, k
+		for lo > 0 && pg.Power[lo] > 0.5*pg.Power[k] {
+			lo--
+		}
+		for hi < g.N-1 && pg.Power[hi] > 0.5*pg.Power[k] {
+			hi++
+		}
+		sf := math.Max(0.5*float64(hi-lo)*g.DF, g.DF)
+		est.Period, est.Err = 1/f, sf/(f*f)
+		est.Detected = fap < glsFAP
+		est.Note = fmt.Sprintf("false-alarm probability %.2g", fap)
+	} else {
+		est.Note = err.Error()
+	}
+	rot.Estimates = append(rot.Estimates, est)
+
+	// ACF on a uniform grid: a twentieth of the shortest period, no finer
+	// than the median cadence, at most 2¹⁸ cells.
+	dt := math.Max(o.PMin/20, medianStep(lc.Time))
+	dt = math.Max(dt, T/(1<<18))
+	acf := ACFRotation(lc.Time, y, w, dt, math.Min(T/2, 2*o.PMax), o.PMin)
+	rot.ACF = acf
+	ae := Estimate{Method: MethodACF, Period: acf.Period, Err: acf.Err}
+	if !math.IsNaN(acf.Period) {
+		ae.Detected = acf.Period <= o.PMax*1.1
+		ae.Note = fmt.Sprintf("local peak height %.2f, %d peaks, %.0f%% of the grid filled", acf.Height, len(acf.Peaks), 100*acf.Fill)
+		if acf.Harmonic {
+			ae.Note += "; the second peak is higher: two dips per turn"
+		}
+	} else {
+		ae.Note = fmt.Sprintf("no peak with local height above %.1f", acfMinHeight)
+	}
+	rot.Estimates = append(rot.Estimates, ae)
+
+	// GP fit, started from the other methods' periods and their doubles.
+	var starts []float64
+	for _, e := range rot.Estimates {
+		if e.Detected {
+			starts = append(starts, e.Period, 2*e.Period)
+		}
+	}
+	if !o.SkipGP && len(starts) > 0 {
+		rot.Estimates = append(rot.Estimates, gpRotation(lc, starts, o.PMin, o.PMax))
+	}
+
+	// Adoption.
+	ge := find(rot.Estimates, MethodGLS)
+	gpe := find(rot.Estimates, MethodGP)
+	switch {
+	case ae.Detected && acf.Fill >= 0.5:
+		rot.adopt(ae)
+	case gpe != nil && gpe.Detected && (consistent(*gpe, ae) || consistent(*gpe, *ge)):
+		rot.adopt(*gpe)
+	case ge.Detected:
+		rot.adopt(*ge)
+	case ae.Detected:
+		rot.adopt(ae)
+	default:
+		rot.Reason = fmt.Sprintf("no rotation detected: %s; %s", ge.Note, ae.Note)
+		rot.Agreement = "no method detects rotation"
+		return rot, nil
+	}
+	rot.Agreement = agreement(rot.Estimates, rot.Period, rot.Err)
+	if fit, err := rvfit.FitSine(lc.Time, y, lc.Err, sectors, 1/rot.Period); err == nil {
+		rot.Amplitude = fit.Amplitude()
+		// The amplitude's error for white noise: σ_K ≈ √(2/Σw) (common
+		// practice).
+		var sw float64
+		for _, v := range w {
+			sw += v
+		}
+		rot.AmplitudeSNR = rot.Amplitude / math.Sqrt(2/sw)
+	}
+	return rot, nil
+}
+
+func (r *Rotation) adopt(e Estimate) {
+	r.Detected, r.Period, r.Err, r.Method = true, e.Period, e.Err, e.Method
+}
+
+func find(est []Estimate, method string) *Estimate {
+	for i := range est {
+		if est[i].Method == method {
+			return &est[i]
+		}
+	}
+	return nil
+}
+
+// consistent reports whether two detected estimates agree within 2σ or
+// 10% (directly, not as harmonics).
+func consistent(a, b Estimate) bool {
+	if !a.Detected || !b.Detected {
+		return false
+	}
+	return math.Abs(a.Period-b.Period) <= math.Max(2*math.Hypot(a.Err, b.Err), 0.1*b.Period)
+}
+
+// agreement describes how the detected estimates compare with the adopted
+// period: within 2σ (or 10%), at a factor of two, or not at all.
+func agreement(est []Estimate, p, perr float64) string {
+	var agree, harm, off, none []string
+	ad := Estimate{Period: p, Err: perr, Detected: true}
+	for _, e := range est {
+		switch {
+		case !e.Detected:
+			none = append(none, e.Method)
+		case consistent(e, ad):
+			agree = append(agree, e.Method)
+		case consistent(Estimate{Period: 2 * e.Period, Err: 2 * e.Err, Detected: true}, ad):
+			harm = append(harm, e.Method+" at P/2")
+		case consistent(Estimate{Period: e.Period / 2, Err: e.Err / 2, Detected: true}, ad):
+			harm = append(harm, e.Method+" at 2P")
+		default:
+			off = append(off, fmt.Sprintf("%s (%.3g d)", e.Method, e.Period))
+		}
+	}
+	s := fmt.Sprintf("%d of %d methods agree within 2σ or 10%%", len(agree), len(est))
+	if len(harm) > 0 {
+		s += "; harmonic: " + strings.Join(harm, ", ")
+	}
+	if len(off) > 0 {
+		s += "; disagree: " + strings.Join(off, ", ")
+	}
+	if len(none) > 0 {
+		s += "; no detection: " + strings.Join(none, ", ")
+	}
+	return s
+}
+
+// gpRotation fits gp.RotationSHO plus a white jitter to the light curve,
+// binned to a twentieth of the shortest starting period and cut to at most
+// 2000 bins (the stretch of that many bins with the most data), from each
+// starting period, and returns the best fit's period with its Laplace
+// error.
+func gpRotation(lc *LightCurve, starts []float64, pMin, pMax float64) Estimate {
+	e := Estimate{Method: MethodGP, Period: math.NaN(), Err: math.NaN()}
+	pShort := math.Inf(1)
+	for _, p := range starts {
+		pShort = math.Min(pShort, p)
+	}
+	t, y, v := binLC(lc, math.Max(pShort/20, medianStep(lc.Time)), 2000)
+	if len(t) < MinPoints {
+		e.Note = "too few points for the fit"
+		return e
+	}
+	sd := math.Sqrt(variance(y))
+	inst := make([]int, len(t))
+	lnp := func(p []float64) float64 {
+		// Bounds as a flat prior: period in the search range, quality
+		// factors and the secondary fraction in broad boxes (common
+		// practice).
+		if p[1] < pMin || p[1] > pMax || p[2] < 0.05 || p[2] > 100 || p[3] > 100 || p[4] > 10 || p[0] > 20*sd {
+			return math.Inf(-1)
+		}
+		return 0
+	}
+	var best *gp.FitResult
+	var bestN *gp.Noise
+	for _, p0 := range starts {
+		if p0 < pMin || p0 > pMax {
+			continue
+		}
+		m := &gp.Noise{Kernel: gp.RotationSHO{Sigma: sd, Period: p0, Q0: 1, DQ: 1, F: 0.5}, Jitter: []float64{0.1 * sd}, Solver: gp.SemisepSolver}
+		nm, res, err := gp.FitNoise(m, t, y, v, inst, &gp.FitSettings{LogPrior: lnp, MaxEvaluations: 1500})
+		if err != nil || res == nil || nm == nil {
+			continue
+		}
+		if best == nil || res.LogPost > best.LogPost {
+			best, bestN = res, nm
+		}
+	}
+	if best == nil {
+		e.Note = "the fit did not converge"
+		return e
+	}
+	k := bestN.Kernel.(gp.RotationSHO)
+	e.Period, e.Err = k.Period, best.Sigma[1]
+	sigErr := best.Sigma[0]
+	e.Detected = true
+	e.Note = fmt.Sprintf("amplitude %.3g (relative flux), %d bins", k.Sigma, len(t))
+	if math.IsNaN(e.Err) || !(e.Err > 0) {
+		// The posterior's curvature was not usable: a 10% error (common
+		// practice).
+		e.Err = 0.1 * e.Period
+		e.Note += "; curvature not usable, 10% error assumed"
+	}
+	if !best.Converged {
+		e.Note += "; the optimiser stopped at its evaluation limit"
+	}
+	if sigErr > 0 && k.Sigma < 3*sigErr {
+		e.Detected = false
+		e.Note += "; amplitude below 3σ"
+	}
+	return e
+}
+
+// binLC returns the light curve (relative flux minus one) in bins of width
+// dt with inverse-variance weights: times, values and variances of the
+// non-empty bins, limited to the maxBins consecutive bins with the most
+// points.
+func binLC(lc *LightCurve, dt float64, maxBins int) (t, y, v []float64) {
+	n := lc.Len()
+	t0 := lc.Time[0]
+	nb := int((lc.Time[n-1]-t0)/dt) + 1
+	sw := make([]float64, nb)
+	swy := make([]float64, nb)
+	swt := make([]float64, nb)
+	cnt := make([]int, nb)
+	for i, ti := range lc.Time {
+		k := min(int((ti-t0)/dt), nb-1)
+		wi := 1 / (lc.Err[i] * lc.Err[i])
+		sw[k] += wi
+		swy[k] += wi * (lc.Flux[i] - 1)
+		swt[k] += wi * ti
+		cnt[k]++
+	}
+	lo, hi := 0, nb
+	if nb > maxBins {
+		best, cur := -1, 0
+		for k := 0; k < maxBins; k++ {
+			cur += cnt[k]
+		}
+		best = cur
+		for k := maxBins; k < nb; k++ {
+			cur += cnt[k] - cnt[k-maxBins]
+			if cur > best {
+				best, lo = cur, k-maxBins+1
+			}
+		}
+		hi = lo + maxBins
+	}
+	for k := lo; k < hi; k++ {
+		if sw[k] > 0 {
+			t = append(t, swt[k]/sw[k])
+			y = append(y, swy[k]/sw[k])
+			v = append(v, 1/sw[k])
+		}
+	}
+	return t, y, v
+}
+
+// refine returns the frequency of the parabola through the peak at k.
+func refine(p []float64, g rvfit.Grid, k int) float64 {
+	if k <= 0 || k+1 >= len(p) {
+		return g.Freq(k)
+	}
+	den := p[k-1] - 2*p[k] + p[k+1]
+	if den >= 0 {
+		return g.Freq(k)
+	}
+	return g.Freq(k) + 0.5*(p[k-1]-p[k+1])/den*g.DF
+}
+
+func argmax(v []float64) int {
+	k := 0
+	for i, x := range v {
+		if x > v[k] {
+			k = i
+		}
+	}
+	return k
+}
+
+func medianStep(t []float64) float64 {
+	d := make([]float64, 0, len(t))
+	for i := 1; i < len(t); i++ {
+		if t[i] > t[i-1] {
+			d = append(d, t[i]-t[i-1])
+		}
+	}
+	if len(d) == 0 {
+		return 1
+	}
+	return median(d)
+}
+
+func variance(y []float64) float64 {
+	var m, s float64
+	for _, v := range y {
+		m += v
+	}
+	m /= float64(len(y))
+	for _, v := range y {
+		s += (v - m) * (v - m)
+	}
+	return s / float64(len(y))
+}
