@@ -131,10 +131,15 @@ type Rotation struct {
 
 // Provenance records what a diagnosis was computed from.
 type Provenance struct {
-	Version string      `json:"version"`
-	Seed    uint64      `json:"seed"`
+	Version string `json:"version"`
+	Seed    uint64 `json:"seed"`
+	// Command is the full command line that produced the diagnosis.
 	Command string      `json:"command,omitempty"`
 	Inputs  []InputHash `json:"inputs,omitempty"`
+	// Settings are the options that shaped the result beyond the command
+	// line (for a survey star: the survey seed, the shard, the diagnosis
+	// options), so that the star's report can be reproduced from them.
+	Settings map[string]string `json:"settings,omitempty"`
 }
 
 // InputHash is the SHA-256 of one input file.

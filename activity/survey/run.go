@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"runtime/debug"
+	"strconv"
 	"strings"
 	"sync"
 	"time"
@@ -394,8 +395,56 @@ func analyse(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options
 		return outcome{err: err}
 	}
 	dg.Star = e.Name
-	dg.Provenance = activity.Provenance{Version: o.Version, Seed: seed, Command: "survey", Inputs: inputs}
+	dg.Provenance = starProvenance(m, e, o, seed, inputs)
 	return outcome{diag: dg, series: s, star: star, notes: notes}
+}
+
+// starProvenance records how a survey star was analysed: the survey's
+// full command line, the manifest's hash beside the star's own inputs, and
+// the settings that shape the result.
+func starProvenance(m *Manifest, e *Entry, o *Options, seed uint64, inputs []activity.InputHash) activity.Provenance {
+	cmd := o.Command
+	if cmd == "" {
+		cmd = "survey (run as a library call)"
+	}
+	ins := append([]activity.InputHash(nil), inputs...)
+	if m != nil && m.File != "" {
+		if sum, err := activity.HashFile(m.File); err == nil {
+			ins = append([]activity.InputHash{{Path: m.File, SHA256: sum}}, ins...)
+		}
+	}
+	var do activity.Options
+	if o.Diagnose != nil {
+		do = *o.Diagnose
+	}
+	g := func(x float64) string {
+		if x == 0 {
+			return "default"
+		}
+		return strconv.FormatFloat(x, 'g', -1, 64)
+	}
+	n := func(k int) string {
+		if k == 0 {
+			return "default"
+		}
+		return strconv.Itoa(k)
+	}
+	set := map[string]string{
+		"survey_seed":   strconv.FormatUint(o.Seed, 10),
+		"star_seed":     strconv.FormatUint(seed, 10) + " (derived from the survey seed and the star's name)",
+		"manifest_name": e.Name,
+		"skip_models":   strconv.FormatBool(o.SkipModels),
+		"fap_threshold": g(do.FAPThreshold),
+		"max_signals":   n(do.MaxSignals),
+		"period_min":    g(do.PMin),
+		"period_max":    g(do.PMax),
+		"oversampling":  g(do.Oversampling),
+		"permutations":  n(do.Permutations),
+	}
+	if sh := o.Shard.String(); sh != "" {
+		set["shard"] = sh
+	}
+	return activity.Provenance{Version: o.Version, Seed: seed, Command: cmd, Inputs: ins, Settings: set}
 }
 
 // firstFrames keeps the start of a stack trace.

@@ -125,8 +125,8 @@ func printSurvey(e *env, sum *survey.Summary, out string) {
 	if r.Shard != "" {
 		what = "survey shard " + r.Shard
 	}
-	fmt.Fprintf(e.stdout, "%s: %d stars: %d analysed, %d unchanged, %d failed, %d not run (%s)\n",
-		what, r.Stars, r.Analysed, r.Unchanged, r.Failed, r.NotRun, r.Status)
+	fmt.Fprintf(e.stdout, "%s: %s: %d analysed, %d unchanged, %d failed, %d not run (%s)\n",
+		what, plural(r.Stars, "star", "stars"), r.Analysed, r.Unchanged, r.Failed, r.NotRun, r.Status)
 	for _, f := range sum.Failed() {
 		if f.Status == survey.StatusFailed {
 			fmt.Fprintf(e.stdout, "  failed: %s: %s\n", f.Name, f.Error)
@@ -170,4 +170,13 @@ whole manifest. DIR may be one of the shard folders.`)
 		fmt.Fprintf(e.stderr, "spotsift: merged %d shard folders into %s\n", fs.NArg(), filepath.Join(*out, survey.IndexFile))
 	}
 	return exitOK
+}
+
+// plural writes a count with the noun in the right number: "1 star",
+// "2 stars".
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return fmt.Sprintf("%d %s", n, many)
 }
