@@ -199,20 +199,33 @@ func ACFRotation(t, y, w []float64, dt, maxLag, pMin float64) *ACF {
 	// shortest period sought, so that no period in range is smoothed away
 	// (McQuillan et al. use a fixed width at Kepler's cadence; this scales
 	// it with the search).
-	r := gaussSmooth(raw, math.Max(1, 0.25*pMin/dt))
+	sigma0 := math.Max(1, 0.25*pMin/dt)
+	r := gaussSmooth(raw, sigma0)
+	firstPeak := func(peaks []acfPeak) int {
+		for i, p := range peaks {
+			if float64(p.k)*dt >= pMin && p.height >= acfMinHeight {
+				return i
+			}
+		}
+		return -1
+	}
+	peaks := acfPeaks(r)
+	first := firstPeak(peaks)
+	if first >= 0 {
+		// Smooth again in proportion to the first peak's lag (a Gaussian of
+		// FWHM about a quarter of it), so that gaps' wiggles do not split
+		// the peaks of long periods.
+		if s := float64(peaks[first].k) / 10; s > sigma0 {
+			r = gaussSmooth(raw, s)
+			peaks = acfPeaks(r)
+			first = firstPeak(peaks)
+		}
+	}
 	a.Lag = make([]float64, len(r))
 	for k := range r {
 		a.Lag[k] = float64(k) * dt
 	}
 	a.Value = r
-	peaks := acfPeaks(r)
-	first := -1
-	for i, p := range peaks {
-		if float64(p.k)*dt >= pMin && p.height >= acfMinHeight {
-			first = i
-			break
-		}
-	}
 	if first < 0 {
 		return a
 	}
