@@ -231,7 +231,7 @@ func Write(path string, lc *LightCurve, creator string) error {
 		creator = "spotsift"
 	}
 	return rvfit.WriteFileAtomic(path, func(w io.Writer) error {
-		if _, err := fmt.Fprintf(w, "# light curve written by %s: relative flux, each sector normalised by its median\n# units: time=d\ntime,flux,flux_err,sector\n", creator); err != nil {
+		if _, err := fmt.Fprintf(w, "# light curve written by %s: relative flux\n# units: time=d\ntime,flux,flux_err,sector\n", creator); err != nil {
 			return err
 		}
 		for i := range lc.Time {
@@ -242,7 +242,7 @@ func Write(path string, lc *LightCurve, creator string) error {
 			if strings.ContainsAny(sec, ",\"\n") {
 				sec = strconv.Quote(sec)
 			}
-			if _, err := fmt.Fprintf(w, "%s,%s,%s,%s\n", fmtF(lc.Time[i]), fmtF(lc.Flux[i]), fmtF(lc.Err[i]), sec); err != nil {
+			if _, err := fmt.Fprintf(w, "%s,%s,%s,%s\n", strconv.FormatFloat(lc.Time[i], 'f', -1, 64), fmtF(lc.Flux[i]), fmtF(lc.Err[i]), sec); err != nil {
 				return err
 			}
 		}

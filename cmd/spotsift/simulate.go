@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"strings"
 
+	"spotsift/activity/photometry"
 	"spotsift/activity/starsim"
 )
 
@@ -25,13 +26,17 @@ indicators), star.toml (the star's parameters as a --star file for the
 other commands), epochs.csv (the simulated measurements: time, rv, rv_err,
 instrument, fwhm, bis, s_index with errors) and, when the scenario asks for
 them (spectrum.full) or --spectra is given, spectra/epoch-NNNN.fits (1-D,
-log-linear air wavelengths, flux in photo-electrons).`)
+log-linear air wavelengths, flux in photo-electrons), and lightcurve.csv: the
+star's disk-integrated flux over the observing window (time, flux, flux_err,
+sector; 30-minute cadence, sectors of 27 d with 1-d gaps, the RV seasons,
+10% outages, white noise of --lc-noise), a --photometry file for vet.`)
 	c.addRun(fs)
 	scenario := fs.String("scenario", "", "the scenario, a TOML `file`")
 	demo := fs.String("demo", "", "use a built-in demo scenario instead: "+demoNames())
 	out := fs.String("out", "", "output `directory`")
 	spectra := fs.Bool("spectra", false, "write FITS spectra even if the scenario asks for tables only")
 	float32 := fs.Bool("float32", false, "write spectra with 32-bit float flux (half the size)")
+	lcNoise := fs.Float64("lc-noise", 5e-4, "white noise per point of the light curve, relative `flux`")
 	if code, ok := parseFlags(fs, args); !ok {
 		return code
 	}
@@ -82,7 +87,13 @@ log-linear air wavelengths, flux in photo-electrons).`)
 	if err != nil {
 		return fail(e, exitFailed, err)
 	}
-	files := []string{starsim.ScenarioFile, starsim.TruthFile, starsim.StarFile, starsim.TableFile}
+	if !(*lcNoise > 0) {
+		return fail(e, exitUsage, errorf("simulate: --lc-noise must be positive"))
+	}
+	if err := writeLightCurve(res, filepath.Join(*out, lightCurveFile), *lcNoise); err != nil {
+		return fail(e, exitFailed, err)
+	}
+	files := []string{starsim.ScenarioFile, starsim.TruthFile, starsim.StarFile, starsim.TableFile, lightCurveFile}
 	if res.Scenario.Spectrum.Full {
 		files = append(files, filepath.Join(starsim.SpectraDir, "epoch-*.fits"))
 	}
@@ -117,4 +128,16 @@ func demoNames() string {
 		names = append(names, d.Name)
 	}
 	return strings.Join(names, ", ")
+}
+
+// lightCurveFile is the simulated light curve's name in simulate's folder.
+const lightCurveFile = "lightcurve.csv"
+
+// writeLightCurve writes the simulated star's light curve.
+func writeLightCurve(res *starsim.Result, path string, noise float64) error {
+	lc, err := res.LightCurve(&starsim.Photometry{Noise: noise})
+	if err != nil {
+		return err
+	}
+	return photometry.Write(path, &photometry.LightCurve{Name: path, Time: lc.Time, Flux: lc.Flux, Err: lc.Err, Sector: lc.Sector}, "spotsift "+version)
 }

@@ -36,6 +36,8 @@ replace, the team's scientific judgement.`)
 	pmin := fs.Float64("pmin", 0, "shortest period searched, `days` (default 1.05)")
 	pmax := fs.Float64("pmax", 0, "longest period searched, `days` (default: the baseline)")
 	noGP := fs.Bool("no-gp", false, "leave out the Gaussian-process fits (faster, fewer tests)")
+	var phot photometryFlags
+	phot.add(fs)
 	if code, ok := parseFlags(fs, args); !ok {
 		return code
 	}
@@ -54,8 +56,12 @@ replace, the team's scientific judgement.`)
 	if err != nil {
 		return fail(e, exitUsage, err)
 	}
+	lc, err := phot.load(e, c.quiet)
+	if err != nil {
+		return fail(e, exitUsage, err)
+	}
 	opts := &activity.Options{Periods: ps, FAPThreshold: *fap, MaxSignals: *maxSig, PMin: *pmin, PMax: *pmax,
-		Star: star, Seed: c.seed, SkipModels: *noGP}
+		Star: star, Seed: c.seed, SkipModels: *noGP, LightCurve: lc}
 	dg, err := activity.Diagnose(ctx, s, opts)
 	if err != nil {
 		if errors.Is(err, activity.ErrPeriodOutOfReach) || errors.Is(err, activity.ErrBadOption) || errors.Is(err, rvfit.ErrTooFewEpochs) || errors.Is(err, rvfit.ErrGridOutOfReach) {
@@ -66,7 +72,7 @@ replace, the team's scientific judgement.`)
 	if dg.Star == "" {
 		dg.Star = strings.TrimSuffix(filepath.Base(c.data), filepath.Ext(c.data))
 	}
-	dg.Provenance = provenance(c, append([]string{c.data}, nonEmpty(c.star)...), append([]string{"vet"}, args...))
+	dg.Provenance = provenance(c, append(append([]string{c.data}, nonEmpty(c.star)...), nonEmpty(phot.file)...), append([]string{"vet"}, args...))
 	if *out != "" {
 		if err := activity.WriteReport(*out, &activity.Report{Diagnosis: dg, Series: s, Star: star}); err != nil {
 			return fail(e, exitFailed, err)
