@@ -1,12 +1,15 @@
 package activity
 
 import (
+	"errors"
+	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/optimize"
 
 	"spotsift/gp"
+	"spotsift/mapfit"
+	"spotsift/rvfit"
 )
 
 // gpModel is a Gaussian-process activity model of one series:
@@ -18,7 +21,8 @@ import (
 // plus, when freq > 0, a sinusoid at freq (the circular Keplerian at a fixed
 // period). The linear parameters β are profiled out by generalised least
 // squares at every step (common practice), so the optimiser sees only the
-// kernel parameters and jitters.
+// kernel parameters and jitters. The fit goes through mapfit (log and
+// logistic transforms, several starts, Laplace errors).
 type gpModel struct {
 	t, y, sigma []float64
 	inst        []int
@@ -27,48 +31,50 @@ type gpModel struct {
 	t0          float64
 	// Period bounds (days) and an optional Gaussian prior on ln P.
 	pLo, pHi        float64
-	lnPMu, lnPSigma float64 // lnPSigma = 0: no prior beyond the bounds
+	lnPMu, lnPSigma float64 // lnPSigma = 0: log-uniform on [pLo, pHi]
 	scale           float64 // a typical amplitude of y, for the bounds
 }
 
 // gpResult is the maximum a posteriori fit of a gpModel.
 type gpResult struct {
-	theta   []float64 // unconstrained parameters at the MAP
+	theta   []float64 // natural parameters at the MAP (gpModel.space order)
 	lnL     float64   // profile log-likelihood at the MAP
 	lnPost  float64
 	period  float64 // GP rotation period (days)
-	periodE float64 // its one-sigma error from the curvature, NaN if unavailable
+	periodE float64 // its one-sigma Laplace error, NaN if unavailable
 	beta    []float64
 	covBeta *mat.SymDense
 	ok      bool
+	fit     *mapfit.Result
 }
 
-// Parameter layout: ln σ, ln P, ln Q0, ln ΔQ, logit F, then ln s per
-// instrument.
+// Parameter layout: amplitude, period, quality of the P/2 mode, quality
+// gap, weight of the P/2 mode, then one jitter per instrument.
 const gpKernelParams = 5
 
 func (m *gpModel) nParams() int { return gpKernelParams + m.ninst }
 
-// bounds returns the box of the unconstrained parameters.
-func (m *gpModel) bounds() (lo, hi []float64) {
+// space returns the parameters with their transforms; the bounds are the
+// supports of the priors of lnPrior.
+func (m *gpModel) space() mapfit.Space {
 	sc := math.Max(m.scale, 1e-12)
-	lo = []float64{math.Log(1e-3 * sc), math.Log(m.pLo), math.Log(0.05), math.Log(0.01), -8}
-	hi = []float64{math.Log(20 * sc), math.Log(m.pHi), math.Log(30), math.Log(30), 8}
-	for k := 0; k < m.ninst; k++ {
-		lo = append(lo, math.Log(1e-4*sc))
-		hi = append(hi, math.Log(10*sc))
+	s := mapfit.Space{
+		{Name: "gp_amp", Kind: mapfit.LogBounded, Lo: 1e-3 * sc, Hi: 20 * sc},
+		{Name: "gp_prot", Kind: mapfit.LogBounded, Lo: m.pLo, Hi: m.pHi},
+		{Name: "gp_qual", Kind: mapfit.LogBounded, Lo: 0.05, Hi: 30},
+		{Name: "gp_qgap", Kind: mapfit.LogBounded, Lo: 0.01, Hi: 30},
+		{Name: "gp_mix", Kind: mapfit.Bounded, Lo: 0, Hi: 1},
 	}
-	return lo, hi
+	for k := 0; k < m.ninst; k++ {
+		s = append(s, mapfit.Param{Name: "jitter", Kind: mapfit.Bounded, Lo: 0, Hi: 10 * sc})
+	}
+	return s
 }
 
-// noise builds the GP noise model of θ.
+// noise builds the GP noise model of natural parameters θ.
 func (m *gpModel) noise(theta []float64) *gp.Noise {
-	f := 1 / (1 + math.Exp(-theta[4]))
-	k := gp.RotationSHO{Sigma: math.Exp(theta[0]), Period: math.Exp(theta[1]), Q0: math.Exp(theta[2]), DQ: math.Exp(theta[3]), F: f}
-	jit := make([]float64, m.ninst)
-	for i := range jit {
-		jit[i] = math.Exp(theta[gpKernelParams+i])
-	}
+	k := gp.RotationSHO{Amp: theta[0], Period: theta[1], Quality: theta[2], QualityGap: theta[3], Mix: theta[4]}
+	jit := append([]float64(nil), theta[gpKernelParams:gpKernelParams+m.ninst]...)
 	return &gp.Noise{Kernel: k, Jitter: jit}
 }
 
@@ -96,13 +102,17 @@ func (m *gpModel) design() [][]float64 {
 }
 
 // profile returns the profile log-likelihood at θ with the GLS estimate of
-// β and its covariance. ok is false when θ is outside the box or the
+// β and its covariance, and the residuals y − Xβ. ok is false when the
 // covariance cannot be factorised.
 func (m *gpModel) profile(theta []float64, cols [][]float64, wantCov bool) (lnL float64, beta []float64, cov *mat.SymDense, ok bool) {
-	lo, hi := m.bounds()
-	for i := range theta {
-		if !(theta[i] >= lo[i] && theta[i] <= hi[i]) {
-			return math.Inf(-1), nil, nil, false
+	lnL, beta, cov, _, _, ok = m.profileSolve(theta, cols, wantCov)
+	return
+}
+
+func (m *gpModel) profileSolve(theta []float64, cols [][]float64, wantCov bool) (lnL float64, beta []float64, cov *mat.SymDense, r []float64, sol gp.Solver, ok bool) {
+	for _, v := range theta {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return math.Inf(-1), nil, nil, nil, nil, false
 		}
 	}
 	variance := make([]float64, len(m.sigma))
@@ -111,32 +121,52 @@ func (m *gpModel) profile(theta []float64, cols [][]float64, wantCov bool) (lnL 
 	}
 	sol, err := m.noise(theta).Factor(m.t, variance, m.inst)
 	if err != nil || sol == nil {
-		return math.Inf(-1), nil, nil, false
+		return math.Inf(-1), nil, nil, nil, nil, false
 	}
+	beta, cov, r, ok = glsProfile(sol, cols, m.y, wantCov)
+	if !ok {
+		return math.Inf(-1), nil, nil, nil, nil, false
+	}
+	lnL, err = sol.LogLikelihood(r)
+	if err != nil || math.IsNaN(lnL) {
+		return math.Inf(-1), nil, nil, nil, nil, false
+	}
+	return lnL, beta, cov, r, sol, true
+}
+
+// glsProfile returns the generalised least-squares β = (XᵀK⁻¹X)⁻¹XᵀK⁻¹y,
+// its covariance (when wantCov) and the residuals y − Xβ.
+func glsProfile(sol interface {
+	Solve(dst, y []float64) ([]float64, error)
+}, cols [][]float64, y []float64, wantCov bool) (beta []float64, cov *mat.SymDense, r []float64, ok bool) {
 	nc := len(cols)
 	kx := make([][]float64, nc)
+	var err error
 	for j, c := range cols {
 		if kx[j], err = sol.Solve(nil, c); err != nil {
-			return math.Inf(-1), nil, nil, false
+			return nil, nil, nil, false
 		}
 	}
-	a := mat.NewSymDense(nc, nil)
-	b := mat.NewVecDense(nc, nil)
+	a := mat.NewSymDense(max(nc, 1), nil)
+	b := mat.NewVecDense(max(nc, 1), nil)
 	for j := 0; j < nc; j++ {
-		b.SetVec(j, dot(kx[j], m.y))
+		b.SetVec(j, dot(kx[j], y))
 		for l := j; l < nc; l++ {
 			a.SetSym(j, l, dot(kx[j], cols[l]))
 		}
 	}
+	r = append([]float64(nil), y...)
+	if nc == 0 {
+		return nil, nil, r, true
+	}
 	var ch mat.Cholesky
 	if !ch.Factorize(a) {
-		return math.Inf(-1), nil, nil, false
+		return nil, nil, nil, false
 	}
 	var x mat.VecDense
 	if err := ch.SolveVecTo(&x, b); err != nil {
-		return math.Inf(-1), nil, nil, false
+		return nil, nil, nil, false
 	}
-	r := append([]float64(nil), m.y...)
 	beta = make([]float64, nc)
 	for j := range beta {
 		beta[j] = x.AtVec(j)
@@ -144,86 +174,90 @@ func (m *gpModel) profile(theta []float64, cols [][]float64, wantCov bool) (lnL 
 			r[i] -= beta[j] * cols[j][i]
 		}
 	}
-	lnL, err = sol.LogLikelihood(r)
-	if err != nil || math.IsNaN(lnL) {
-		return math.Inf(-1), nil, nil, false
-	}
 	if wantCov {
 		cov = mat.NewSymDense(nc, nil)
 		if err := ch.InverseTo(cov); err != nil {
 			cov = nil
 		}
 	}
-	return lnL, beta, cov, true
+	return beta, cov, r, true
 }
 
-// lnPrior is the log prior of θ beyond the box: a Gaussian on ln P when
-// set.
+// lnPrior is the log prior of θ inside the box of space: log-uniform in
+// the amplitude and the two quality parameters, uniform in the mix and the
+// jitters, and log-uniform in the period or, when lnPSigma > 0, a Gaussian
+// in ln P (density in P).
 func (m *gpModel) lnPrior(theta []float64) float64 {
+	lp := -math.Log(theta[0]) - math.Log(theta[2]) - math.Log(theta[3])
+	lnP := math.Log(theta[1])
+	lp -= lnP
 	if m.lnPSigma > 0 {
-		z := (theta[1] - m.lnPMu) / m.lnPSigma
-		return -0.5 * z * z
+		z := (lnP - m.lnPMu) / m.lnPSigma
+		lp -= 0.5 * z * z
 	}
-	return 0
+	return lp
 }
 
-// fit returns the MAP of the model from each start (θ vectors), keeping the
-// best, with the period's error from the curvature of the log posterior.
+// inBox reports whether θ lies inside the space's bounds.
+func inBox(s mapfit.Space, theta []float64) bool {
+	for i, p := range s {
+		switch p.Kind {
+		case mapfit.Bounded, mapfit.LogBounded:
+			if !(theta[i] >= p.Lo && theta[i] <= p.Hi) {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+// fit returns the MAP of the model from the starts (natural parameters),
+// keeping the best, with Laplace errors.
 func (m *gpModel) fit(starts [][]float64) gpResult {
 	cols := m.design()
-	obj := func(theta []float64) float64 {
+	sp := m.space()
+	post := func(theta []float64) float64 {
+		if !inBox(sp, theta) {
+			return math.Inf(-1)
+		}
 		lnL, _, _, ok := m.profile(theta, cols, false)
 		if !ok {
-			return 1e300
+			return math.Inf(-1)
 		}
-		return -(lnL + m.lnPrior(theta))
+		return lnL + m.lnPrior(theta)
 	}
-	best := gpResult{lnPost: math.Inf(-1)}
-	for _, x0 := range starts {
-		p := optimize.Problem{Func: obj}
-		set := &optimize.Settings{FuncEvaluations: 250 * m.nParams(), Converger: &optimize.FunctionConverge{Absolute: 1e-3, Iterations: 40}}
-		res, err := optimize.Minimize(p, x0, set, &optimize.NelderMead{})
-		if res == nil || (err != nil && res.X == nil) {
-			continue
-		}
-		if -res.F > best.lnPost {
-			best = gpResult{theta: append([]float64(nil), res.X...), lnPost: -res.F, ok: -res.F > -1e299}
+	var clean [][]float64
+	for _, s := range starts {
+		if len(s) == len(sp) {
+			clean = append(clean, s)
 		}
 	}
-	if !best.ok {
-		return best
+	res, err := mapfit.Fit(&mapfit.Problem{Space: sp, LogPost: post, Starts: clean}, &mapfit.Settings{MaxEvaluations: 400 * len(sp), Workers: 1})
+	if err != nil || res == nil || res.X == nil {
+		return gpResult{lnPost: math.Inf(-1), periodE: math.NaN()}
 	}
+	best := gpResult{theta: res.X, lnPost: res.LogPost, fit: res, period: res.X[1], periodE: math.NaN()}
 	var ok bool
 	best.lnL, best.beta, best.covBeta, ok = m.profile(best.theta, cols, true)
 	best.ok = ok
-	best.period = math.Exp(best.theta[1])
-	best.periodE = math.NaN()
-	// Curvature of −ln posterior in ln P at the MAP, the other parameters
-	// held at their MAP values: the Laplace approximation of the period's
-	// conditional posterior (common practice; the full Hessian is often
-	// unusable with parameters at their bounds).
-	const h = 1e-3
-	f0 := obj(best.theta)
-	th := append([]float64(nil), best.theta...)
-	th[1] = best.theta[1] + h
-	fp := obj(th)
-	th[1] = best.theta[1] - h
-	fm := obj(th)
-	if c := (fp - 2*f0 + fm) / (h * h); c > 0 && fp < 1e299 && fm < 1e299 {
-		best.periodE = best.period / math.Sqrt(c)
+	if L := res.Laplace; L != nil {
+		best.periodE = L.Errors[1]
 	}
 	return best
 }
 
-// start returns a starting θ for period p (days).
+// start returns a starting θ for period p (days), inside the box.
 func (m *gpModel) start(p float64) []float64 {
-	lo, hi := m.bounds()
-	th := []float64{math.Log(m.scale), math.Log(p), math.Log(1), math.Log(2), 0}
+	sp := m.space()
+	th := []float64{m.scale, p, 1, 2, 0.5}
 	for k := 0; k < m.ninst; k++ {
-		th = append(th, math.Log(0.3*m.scale))
+		th = append(th, 0.3*m.scale)
 	}
-	for i := range th {
-		th[i] = math.Max(lo[i]+1e-6, math.Min(hi[i]-1e-6, th[i]))
+	for i, q := range sp {
+		if q.Kind == mapfit.Bounded || q.Kind == mapfit.LogBounded {
+			w := 1e-3 * (q.Hi - q.Lo)
+			th[i] = math.Max(q.Lo+w, math.Min(q.Hi-w, th[i]))
+		}
 	}
 	return th
 }
@@ -234,4 +268,361 @@ func dot(a, b []float64) float64 {
 		s += a[i] * b[i]
 	}
 	return s
+}
+
+// GP activity models for FitGPActivity.
+const (
+	// GPRotation is the single-output model: the RVs alone with the
+	// two-oscillator rotation kernel (gp.RotationSHO), one jitter per
+	// instrument.
+	GPRotation = "rotation"
+	// GPMulti is the multi-output model of Rajpaul et al. (2015): one
+	// latent rotation process G and its derivative drive the RVs
+	// (a G + b dG/dt) and the activity indicators, each series on its own
+	// epochs, solved in O(N) (gp.MultiSemisep).
+	GPMulti = "multi"
+)
+
+// GPActivityOptions sets up FitGPActivity. The zero value (or nil) gives
+// the defaults listed with each field.
+type GPActivityOptions struct {
+	// Model is GPRotation (the default) or GPMulti.
+	Model string
+	// Period, in days, adds a sinusoid at that fixed period (a circular
+	// Keplerian) to the RV mean model; zero means none.
+	Period float64
+	// Rotation and RotationErr (days) are a rotation-period estimate: a
+	// Gaussian prior in ln P on the GP's period, of width
+	// max(RotationErr/Rotation, 0.1), and a start. Zero means no estimate:
+	// the period is log-uniform on [1.5 d, baseline/2] and the starts come
+	// from the highest periodogram peaks of the RVs and of each indicator
+	// (each peak and its double).
+	Rotation, RotationErr float64
+	// Indicators names the indicator columns of GPMulti (they need
+	// errors); nil means the first of log_rhk, s_index, halpha that has
+	// errors, and bis when it has errors.
+	Indicators []string
+	// Starts caps the number of optimiser starts; zero means 6.
+	Starts int
+	// Workers runs starts in parallel; zero means GOMAXPROCS.
+	Workers int
+}
+
+// GPActivityFit is the maximum a posteriori fit of a GP activity model to
+// a series, from FitGPActivity.
+type GPActivityFit struct {
+	// Model is GPRotation or GPMulti; Period the sinusoid's period (0:
+	// none).
+	Model  string  `json:"model"`
+	Period float64 `json:"period"`
+	// Names, Params and Errors are the kernel and jitter parameters in
+	// natural units with their Laplace one-sigma errors (NaN when
+	// unknown); AtBound flags a parameter whose MAP lies on a prior bound
+	// ("lower bound", "upper bound" or "").
+	Names   []string  `json:"names"`
+	Params  []float64 `json:"params"`
+	Errors  []float64 `json:"errors"`
+	AtBound []string  `json:"at_bound"`
+	// LinearNames and Linear are the profiled linear parameters (offsets
+	// per instrument and series, then the sinusoid's cosine and sine
+	// amplitudes), LinearErrors their conditional errors at the MAP.
+	LinearNames  []string  `json:"linear_names"`
+	Linear       []float64 `json:"linear"`
+	LinearErrors []float64 `json:"linear_errors"`
+	// LogLikelihood is ln L at the MAP (all series for GPMulti);
+	// LogPosterior adds the kernel priors.
+	LogLikelihood float64 `json:"log_likelihood"`
+	LogPosterior  float64 `json:"log_posterior"`
+	// NumParams counts every fitted parameter (kernel, jitters, linear);
+	// NumData every data point (all series). BIC = k ln N − 2 ln L
+	// (Schwarz 1978, Ann. Stat. 6, 461).
+	NumParams int     `json:"num_params"`
+	NumData   int     `json:"num_data"`
+	BIC       float64 `json:"bic"`
+	// LogEvidence is the Laplace estimate of ln Z over the kernel
+	// parameters (mapfit.Laplace) times the Gaussian integral over the
+	// linear parameters with flat priors of width 6× the data range
+	// (offsets) and ±3× the range (sinusoid amplitudes); NaN when the
+	// Hessian is not positive definite.
+	LogEvidence float64 `json:"log_evidence"`
+	// Converged, Status, StartsAgree and Starts report the optimiser
+	// (mapfit.Result).
+	Converged   bool   `json:"converged"`
+	Status      string `json:"status"`
+	StartsAgree int    `json:"starts_agree"`
+	Starts      int    `json:"starts"`
+	// Rotation and RotationErr are the GP's period and its error (days).
+	Rotation    float64 `json:"rotation"`
+	RotationErr float64 `json:"rotation_err"`
+	// Amplitude and AmplitudeErr are the sinusoid's semi-amplitude K and
+	// its error (m/s); NaN without a sinusoid.
+	Amplitude    float64 `json:"amplitude"`
+	AmplitudeErr float64 `json:"amplitude_err"`
+	// Residuals are the RVs less offsets, sinusoid and the GP's predictive
+	// mean, at the series' epochs (m/s).
+	Residuals []float64 `json:"residuals"`
+}
+
+// ErrGPModel reports an unknown or unusable GP activity model.
+var ErrGPModel = errors.New("activity: bad GP activity model")
+
+// FitGPActivity fits a Gaussian-process activity model (single- or
+// multi-output, see GPActivityOptions.Model) to the series s, with
+// per-instrument offsets and, when opts.Period > 0, a sinusoid at that
+// period in the RVs, by maximum a posteriori through mapfit (several
+// starts, Laplace errors). It gives ln L, BIC and the Laplace evidence for
+// model comparison; CompareGPActivity runs it without and with the
+// sinusoid.
+//
+// Errors: ErrGPModel for an unknown model or missing indicator columns,
+// rvfit's validation errors, mapfit.ErrNoStart when no start converged to a
+// finite posterior.
+func FitGPActivity(s *rvfit.Series, opts *GPActivityOptions) (*GPActivityFit, error) {
+	var o GPActivityOptions
+	if opts != nil {
+		o = *opts
+	}
+	if s == nil || s.Len() < 8 {
+		return nil, fmt.Errorf("%w: a GP activity fit needs at least 8 epochs", rvfit.ErrTooFewEpochs)
+	}
+	if o.Starts == 0 {
+		o.Starts = 6
+	}
+	if o.Starts < 0 || o.Period < 0 || o.Rotation < 0 || o.RotationErr < 0 {
+		return nil, fmt.Errorf("%w: starts %d, period %g, rotation %g ± %g", ErrGPModel, o.Starts, o.Period, o.Rotation, o.RotationErr)
+	}
+	switch o.Model {
+	case "", GPRotation:
+		return fitRotationActivity(s, &o)
+	case GPMulti:
+		return fitMultiActivity(s, &o)
+	}
+	return nil, fmt.Errorf("%w: %q (want %q or %q)", ErrGPModel, o.Model, GPRotation, GPMulti)
+}
+
+// CompareGPActivity fits the GP activity model of opts without and with a
+// sinusoid at period (days): ΔlnL = with.LogLikelihood −
+// without.LogLikelihood, ΔBIC = with.BIC − without.BIC (negative favours
+// the sinusoid), Δln Z likewise. The fit with the sinusoid also starts from
+// the optimum without it.
+func CompareGPActivity(s *rvfit.Series, period float64, opts *GPActivityOptions) (without, with *GPActivityFit, err error) {
+	if !(period > 0) {
+		return nil, nil, fmt.Errorf("%w: period %g d", ErrGPModel, period)
+	}
+	var o GPActivityOptions
+	if opts != nil {
+		o = *opts
+	}
+	o.Period = 0
+	if without, err = FitGPActivity(s, &o); err != nil {
+		return nil, nil, err
+	}
+	o.Period = period
+	if o.Rotation == 0 {
+		o.Rotation = without.Rotation
+		o.RotationErr = math.Max(without.RotationErr, 0.1*without.Rotation)
+		if math.IsNaN(o.RotationErr) {
+			o.RotationErr = 0.1 * without.Rotation
+		}
+	}
+	if with, err = FitGPActivity(s, &o); err != nil {
+		return without, nil, err
+	}
+	return without, with, nil
+}
+
+// rvSpan returns max − min of v (at least 1e-3).
+func rvSpan(v []float64) float64 {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, x := range v {
+		lo, hi = math.Min(lo, x), math.Max(hi, x)
+	}
+	return math.Max(hi-lo, 1e-3)
+}
+
+// periodStarts returns starting rotation periods in (lo, hi): the rotation
+// estimate when given, and the highest GLS peak of each series given (and
+// its double), duplicates within 5% removed, at most n.
+func periodStarts(rot float64, series [][3][]float64, lo, hi float64, n int) []float64 {
+	var out []float64
+	add := func(p float64) {
+		if !(p > lo && p < hi) || len(out) >= n {
+			return
+		}
+		for _, q := range out {
+			if math.Abs(math.Log(p/q)) < 0.05 {
+				return
+			}
+		}
+		out = append(out, p)
+	}
+	add(rot)
+	var peaks []float64
+	for _, sr := range series {
+		t, y, e := sr[0], sr[1], sr[2]
+		if len(t) < 6 {
+			continue
+		}
+		g, err := rvfit.NewGrid(t, &rvfit.GridOptions{PMin: lo, PMax: hi, Oversampling: 5})
+		if err != nil {
+			continue
+		}
+		pg, err := rvfit.GLS(t, y, e, g, nil)
+		if err != nil {
+			continue
+		}
+		k := 0
+		for i, v := range pg.Power {
+			if v > pg.Power[k] {
+				k = i
+			}
+		}
+		peaks = append(peaks, 1/g.Freq(k))
+	}
+	for _, p := range peaks {
+		add(p)
+	}
+	for _, p := range peaks {
+		add(2 * p)
+	}
+	if len(out) == 0 {
+		add(math.Sqrt(lo * hi))
+	}
+	return out
+}
+
+// indicatorSeries returns the valid epochs, values and errors of an
+// indicator column.
+func indicatorSeries(s *rvfit.Series, name string) (t, y, e []float64, idx []int) {
+	ind := s.Indicator(name)
+	if ind == nil || ind.Err == nil {
+		return nil, nil, nil, nil
+	}
+	for i := range ind.Value {
+		if ind.Valid(i) && ind.Err[i] > 0 {
+			t, y, e = append(t, s.Time[i]), append(y, ind.Value[i]), append(e, ind.Err[i])
+			idx = append(idx, i)
+		}
+	}
+	return t, y, e, idx
+}
+
+// fitRotationActivity is FitGPActivity's GPRotation.
+func fitRotationActivity(s *rvfit.Series, o *GPActivityOptions) (*GPActivityFit, error) {
+	g, ng := groupIndex(s.Instrument)
+	T := s.Baseline()
+	m := &gpModel{t: s.Time, y: s.RV, sigma: s.RVErr, inst: g, ninst: ng, t0: s.Time[0],
+		pLo: 1.5, pHi: math.Max(3, T/2), scale: math.Max(stddev(s.RV), 1e-12)}
+	if o.Period > 0 {
+		m.freq = 1 / o.Period
+	}
+	if o.Rotation > 0 {
+		ls := math.Max(o.RotationErr/o.Rotation, 0.1)
+		m.lnPMu, m.lnPSigma = math.Log(o.Rotation), ls
+		m.pLo = math.Max(0.5, o.Rotation*math.Exp(-4*ls))
+		m.pHi = o.Rotation * math.Exp(4*ls)
+	}
+	series := [][3][]float64{{s.Time, s.RV, s.RVErr}}
+	for _, ind := range s.Indicators {
+		if t, y, e, _ := indicatorSeries(s, ind.Name); len(t) > 0 {
+			series = append(series, [3][]float64{t, y, e})
+		}
+	}
+	var starts [][]float64
+	for _, p := range periodStarts(o.Rotation, series, m.pLo, m.pHi, o.Starts) {
+		starts = append(starts, m.start(p))
+	}
+	r := m.fit(starts)
+	if !r.ok {
+		return nil, fmt.Errorf("%s: %w", s.Name, mapfit.ErrNoStart)
+	}
+	out := &GPActivityFit{Model: GPRotation, Period: o.Period, Names: m.space().Names(), Params: r.theta,
+		LogLikelihood: r.lnL, LogPosterior: r.lnPost, NumData: len(s.Time), Rotation: r.period, RotationErr: r.periodE,
+		Amplitude: math.NaN(), AmplitudeErr: math.NaN()}
+	instr := s.Instruments()
+	for i := gpKernelParams; i < len(out.Names); i++ {
+		out.Names[i] = "jitter_" + instr[i-gpKernelParams]
+	}
+	for _, in := range instr {
+		out.LinearNames = append(out.LinearNames, "offset_"+in)
+	}
+	widths := make([]float64, 0, len(r.beta))
+	span := rvSpan(s.RV)
+	for range instr {
+		widths = append(widths, 3*span)
+	}
+	if m.freq > 0 {
+		out.LinearNames = append(out.LinearNames, "sin_cos", "sin_sin")
+		widths = append(widths, 6*span, 6*span)
+	}
+	fillFit(out, r.fit, r.beta, r.covBeta, widths)
+	// Residuals after the full model: y − Xβ − GP mean.
+	if _, _, _, res, sol, ok := m.profileSolve(r.theta, m.design(), false); ok {
+		if mean, _, err := predictAtData(sol, res, m.t); err == nil {
+			for i := range res {
+				res[i] -= mean[i]
+			}
+			out.Residuals = res
+		}
+	}
+	return out, nil
+}
+
+// predictAtData returns the GP's predictive mean at the data epochs.
+func predictAtData(sol gp.Solver, r, t []float64) ([]float64, []float64, error) {
+	return sol.Predict(r, t, false)
+}
+
+// fillFit copies the optimiser's outcome, the linear parameters and the
+// model-comparison statistics into out.
+func fillFit(out *GPActivityFit, res *mapfit.Result, beta []float64, covBeta *mat.SymDense, widths []float64) {
+	out.Converged, out.Status, out.StartsAgree, out.Starts = res.Converged, res.Status, res.Agree, len(res.Starts)
+	out.Errors = make([]float64, len(out.Params))
+	out.AtBound = make([]string, len(out.Params))
+	for i := range out.Errors {
+		out.Errors[i] = math.NaN()
+		out.AtBound[i] = string(res.AtBound[i])
+	}
+	out.LogEvidence = math.NaN()
+	if L := res.Laplace; L != nil {
+		copy(out.Errors, L.Errors)
+		out.LogEvidence = L.LogEvidence
+	}
+	out.Linear = beta
+	out.LinearErrors = make([]float64, len(beta))
+	for i := range beta {
+		out.LinearErrors[i] = math.NaN()
+		if covBeta != nil {
+			out.LinearErrors[i] = math.Sqrt(covBeta.At(i, i))
+		}
+	}
+	if covBeta != nil && len(beta) > 0 {
+		// ∫ exp(−½ δβᵀ C⁻¹ δβ) dβ / Π widths = (2π)^(k/2) det(C)^½ / Π w.
+		var ch mat.Cholesky
+		if ch.Factorize(covBeta) {
+			lz := 0.5*float64(len(beta))*math.Log(2*math.Pi) + 0.5*ch.LogDet()
+			for _, w := range widths {
+				lz -= math.Log(w)
+			}
+			out.LogEvidence += lz
+		} else {
+			out.LogEvidence = math.NaN()
+		}
+	}
+	out.NumParams = len(out.Params) + len(beta)
+	out.BIC = rvfit.BIC(out.LogLikelihood, out.NumParams, out.NumData)
+	if out.Period > 0 && len(beta) >= 2 {
+		nb := len(beta)
+		a, b := beta[nb-2], beta[nb-1]
+		out.Amplitude = math.Hypot(a, b)
+		if covBeta != nil && out.Amplitude > 0 {
+			caa, cbb, cab := covBeta.At(nb-2, nb-2), covBeta.At(nb-1, nb-1), covBeta.At(nb-2, nb-1)
+			out.AmplitudeErr = math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / out.Amplitude
+		}
+	}
+}
+
+// fitMultiActivity is FitGPActivity's GPMulti.
+func fitMultiActivity(s *rvfit.Series, o *GPActivityOptions) (*GPActivityFit, error) {
+	return nil, fmt.Errorf("%w: the multi-output model is not available yet", ErrGPModel)
 }

@@ -39,7 +39,7 @@ func TestKernelValues(t *testing.T) {
 		// Matérn-3/2 closed form (Rasmussen & Williams 2006, eq. 4.17).
 		{"Matern32", Matern32{2, 3}, 1.5, 4 * (1 + math.Sqrt(3)*0.5) * math.Exp(-math.Sqrt(3)*0.5), 1e-14},
 		{"White off zero lag", White{2}, 0, 0, 0},
-		{"RotationSHO k(0)=sigma^2", RotationSHO{Sigma: 1.7, Period: 11, Q0: 1.3, DQ: 4, F: 0.6}, 0, 1.7 * 1.7, 1e-13},
+		{"RotationSHO k(0)=amp^2", RotationSHO{Amp: 1.7, Period: 11, Quality: 1.3, QualityGap: 4, Mix: 0.6}, 0, 1.7 * 1.7, 1e-13},
 	} {
 		t.Run(row.name, func(t *testing.T) {
 			got := row.k.Cov(row.tau)
@@ -136,7 +136,7 @@ func TestTermsMatchCov(t *testing.T) {
 func TestRotationSHOFrequencies(t *testing.T) {
 	// Each oscillator rings at 2π/P and 4π/P by construction (celerite2
 	// rotation term, from memory).
-	k := RotationSHO{Sigma: 1, Period: 8, Q0: 2, DQ: 5, F: 0.5}
+	k := RotationSHO{Amp: 1, Period: 8, Quality: 2, QualityGap: 5, Mix: 0.5}
 	terms := k.Terms(nil)
 	if len(terms) != 2 {
 		t.Fatalf("got %d terms, want 2", len(terms))
@@ -183,7 +183,7 @@ func TestBadParams(t *testing.T) {
 		{"SHO Q=0", SHO{1, 1, 0}},
 		{"RotationTerm L<0", RotationTerm{1, 0, -1, 2}},
 		{"RotationTerm C<0", RotationTerm{1, -0.5, 1, 2}},
-		{"RotationSHO F<0", RotationSHO{1, 2, 3, 4, -5}},
+		{"RotationSHO Mix<0", RotationSHO{1, 2, 3, 4, -5}},
 		{"White<0", White{-1}},
 		{"Sum member", Sum{White{1}, QuasiPeriodic{1, 2, 0, 4}}},
 	} {

@@ -200,7 +200,7 @@ func (m *Noise) Predict(t, r, variance []float64, inst []int, tnew []float64, wa
 // Kernels implementing ParamGradienter (for a Sum, every member) give
 // ∂K/∂θ analytically; for others each ∂k(τ)/∂θ_p is a central difference
 // of Cov in θ_p with relative step 1e-6 (one-sided at a boundary such as
-// RotationSHO.F = 0), accurate to ≈ 1e-9 relative; if no step is valid the
+// RotationSHO.Mix = 0), accurate to ≈ 1e-9 relative; if no step is valid the
 // error wraps ErrNoGradient. Cost O(N³) (the explicit inverse).
 //
 // Reference: Rasmussen & Williams 2006, eq. 5.9 (from memory).

@@ -39,7 +39,7 @@ func TestLogLikelihoodGrad(t *testing.T) {
 		{"RotationTerm+QP", Noise{Kernel: Sum{RotationTerm{2, 0.4, 25, 9}, QuasiPeriodic{1, 60, 23, 1.1}}, Jitter: []float64{0.2, 0.3}}, false},
 		// No analytic gradients: finite differences of Cov inside.
 		{"SHO+White (numeric)", Noise{Kernel: Sum{SHO{2, 0.9, 2.5}, White{0.3}}, Jitter: []float64{0.5, 0.8}}, false},
-		{"RotationSHO F=0 boundary (numeric)", Noise{Kernel: RotationSHO{2, 11, 1.5, 3, 0}, Jitter: []float64{0.5, 0.8}}, true},
+		{"RotationSHO Mix=0 boundary (numeric)", Noise{Kernel: RotationSHO{2, 11, 1.5, 3, 0}, Jitter: []float64{0.5, 0.8}}, true},
 	} {
 		t.Run(row.name, func(t *testing.T) {
 			p0 := row.m.Params(nil)

@@ -119,23 +119,24 @@ func (k RotationTerm) Validate() error {
 // RotationSHO is the two-oscillator rotation kernel: the sum of two SHO
 // terms, one at the rotation period P and one at P/2,
 //
-//	Q1 = ½ + Q0 + δQ,  ω1 = 4πQ1/(P√(4Q1² − 1)),  S1 = σ²/((1 + f) ω1 Q1)
-//	Q2 = ½ + Q0,       ω2 = 8πQ2/(P√(4Q2² − 1)),  S2 = fσ²/((1 + f) ω2 Q2)
+//	Q1 = ½ + q + g,  ω1 = 4πQ1/(P√(4Q1² − 1)),  S1 = A²/((1 + m) ω1 Q1)
+//	Q2 = ½ + q,      ω2 = 8πQ2/(P√(4Q2² − 1)),  S2 = mA²/((1 + m) ω2 Q2)
 //
-// so that each oscillator rings at exactly 2π/P and 4π/P and k(0) = σ².
-// Sigma is the amplitude (unit of the data), Period the rotation period
-// (days), Q0 > 0 the quality factor of the secondary mode, DQ ≥ 0 the
-// difference between the primary and secondary quality factors, and
-// F ≥ 0 the fractional amplitude of the secondary mode. The coherence
+// so that each oscillator rings at exactly 2π/P and 4π/P and k(0) = A².
+// Amp (A) is the amplitude (unit of the data), Period (P) the rotation
+// period (days), Quality (q > 0) the quality factor of the half-period
+// mode less ½, QualityGap (g ≥ 0) how much more coherent the
+// rotation-period mode is, and Mix (m ≥ 0) the variance of the
+// half-period mode relative to the rotation-period mode. The coherence
 // time of the primary mode is 2Q1/ω1 ≈ Q1 P/π.
 //
-// Parameter vector: [Sigma, Period, Q0, DQ, F].
+// Parameter vector: [Amp, Period, Quality, QualityGap, Mix].
 //
 // Reference: the rotation term of the celerite2 documentation
 // (Foreman-Mackey 2018, RNAAS 2, 31, and software docs), parameterisation
 // from memory.
 type RotationSHO struct {
-	Sigma, Period, Q0, DQ, F float64
+	Amp, Period, Quality, QualityGap, Mix float64
 }
 
 var (
@@ -145,30 +146,30 @@ var (
 
 // SHOs returns the two oscillators (at P and at P/2).
 func (k RotationSHO) SHOs() (SHO, SHO) {
-	s2 := k.Sigma * k.Sigma
-	q1 := 0.5 + k.Q0 + k.DQ
+	s2 := k.Amp * k.Amp
+	q1 := 0.5 + k.Quality + k.QualityGap
 	w1 := 4 * math.Pi * q1 / (k.Period * math.Sqrt(4*q1*q1-1))
-	q2 := 0.5 + k.Q0
+	q2 := 0.5 + k.Quality
 	w2 := 8 * math.Pi * q2 / (k.Period * math.Sqrt(4*q2*q2-1))
-	return SHO{S0: s2 / ((1 + k.F) * w1 * q1), W0: w1, Q: q1},
-		SHO{S0: k.F * s2 / ((1 + k.F) * w2 * q2), W0: w2, Q: q2}
+	return SHO{S0: s2 / ((1 + k.Mix) * w1 * q1), W0: w1, Q: q1},
+		SHO{S0: k.Mix * s2 / ((1 + k.Mix) * w2 * q2), W0: w2, Q: q2}
 }
 
 // Cov returns k(τ).
 func (k RotationSHO) Cov(tau float64) float64 {
 	a, b := k.SHOs()
-	if k.F == 0 {
+	if k.Mix == 0 {
 		return a.Cov(tau)
 	}
 	return a.Cov(tau) + b.Cov(tau)
 }
 
 // Terms appends the celerite terms of both oscillators (the second is
-// omitted when F = 0).
+// omitted when Mix = 0).
 func (k RotationSHO) Terms(dst []Term) []Term {
 	a, b := k.SHOs()
 	dst = a.Terms(dst)
-	if k.F == 0 {
+	if k.Mix == 0 {
 		return dst
 	}
 	return b.Terms(dst)
@@ -177,9 +178,9 @@ func (k RotationSHO) Terms(dst []Term) []Term {
 // NumParams returns 5.
 func (k RotationSHO) NumParams() int { return 5 }
 
-// Params appends [Sigma, Period, Q0, DQ, F].
+// Params appends [Amp, Period, Quality, QualityGap, Mix].
 func (k RotationSHO) Params(dst []float64) []float64 {
-	return append(dst, k.Sigma, k.Period, k.Q0, k.DQ, k.F)
+	return append(dst, k.Amp, k.Period, k.Quality, k.QualityGap, k.Mix)
 }
 
 // WithParams returns RotationSHO{p[0], …, p[4]}.
@@ -191,19 +192,19 @@ func (k RotationSHO) WithParams(p []float64) (Kernel, error) {
 	return r, r.Validate()
 }
 
-// Validate checks Sigma, Period, Q0 > 0 and DQ, F ≥ 0.
+// Validate checks Amp, Period, Quality > 0 and QualityGap, Mix ≥ 0.
 func (k RotationSHO) Validate() error {
-	if err := positive("RotationSHO", "Sigma", k.Sigma); err != nil {
+	if err := positive("RotationSHO", "Amp", k.Amp); err != nil {
 		return err
 	}
 	if err := positive("RotationSHO", "Period", k.Period); err != nil {
 		return err
 	}
-	if err := positive("RotationSHO", "Q0", k.Q0); err != nil {
+	if err := positive("RotationSHO", "Quality", k.Quality); err != nil {
 		return err
 	}
-	if err := nonNegative("RotationSHO", "DQ", k.DQ); err != nil {
+	if err := nonNegative("RotationSHO", "QualityGap", k.QualityGap); err != nil {
 		return err
 	}
-	return nonNegative("RotationSHO", "F", k.F)
+	return nonNegative("RotationSHO", "Mix", k.Mix)
 }

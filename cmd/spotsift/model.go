@@ -157,7 +157,7 @@ func activityNoise(kind string, s *rvfit.Series, star *activity.Star) (rvfit.Noi
 	var names []string
 	switch kind {
 	case "rotation":
-		k = gp.RotationSHO{Sigma: sd, Period: p0, Q0: 1, DQ: 1, F: 0.5}
+		k = gp.RotationSHO{Amp: sd, Period: p0, Quality: 1, QualityGap: 1, Mix: 0.5}
 		names = []string{"gp_sigma", "gp_period", "gp_q0", "gp_dq", "gp_f"}
 		priors["gp_sigma"] = rvfit.LogUniform{Min: 1e-3 * sd, Max: 10 * sd}
 		priors["gp_period"] = pPrior

@@ -1,0 +1,343 @@
+package mapfit
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"runtime"
+	"sync"
+
+	"gonum.org/v1/gonum/diff/fd"
+	"gonum.org/v1/gonum/optimize"
+)
+
+// ErrNoStart is returned when no start reached a finite posterior.
+var ErrNoStart = errors.New("mapfit: no start reached a finite posterior")
+
+// Problem is a MAP fit: a log-posterior over a Space and where to start.
+type Problem struct {
+	// Space gives the parameters and their transforms.
+	Space Space
+	// LogPost returns the unnormalised ln posterior at natural parameters
+	// x; −Inf (or NaN) where it vanishes or cannot be evaluated. It must be
+	// safe for concurrent use when Workers > 1.
+	LogPost func(x []float64) float64
+	// Grad, when not nil, returns ln posterior at x and stores its
+	// gradient with respect to x in grad. Nil means central finite
+	// differences in the transformed coordinates.
+	Grad func(grad, x []float64) float64
+	// Starts are the starting points in natural parameters (at least one).
+	Starts [][]float64
+}
+
+// Settings controls Fit. A nil *Settings means the defaults.
+type Settings struct {
+	// MaxEvaluations caps the log-posterior evaluations per start; zero
+	// means 2000 per parameter.
+	MaxEvaluations int
+	// NelderMead, when set, runs gonum's Nelder–Mead before the
+	// quasi-Newton polish (for rough, multimodal posteriors such as
+	// Keplerian ones).
+	NelderMead bool
+	// Workers runs starts in parallel; zero means GOMAXPROCS. Results do
+	// not depend on it.
+	Workers int
+	// AgreeTol is the difference in ln posterior within which a start is
+	// counted as reaching the best optimum; zero means 0.5.
+	AgreeTol float64
+	// NoLaplace skips the Laplace step.
+	NoLaplace bool
+}
+
+// StartResult is the outcome of one start.
+type StartResult struct {
+	X       []float64 `json:"x"`
+	LogPost float64   `json:"log_posterior"`
+	// Status is gonum/optimize's termination status of the last stage.
+	Status string `json:"status"`
+	// Converged is true when the optimiser stopped on a convergence
+	// criterion (gradient, function change, step or the method's own),
+	// not on an evaluation limit or a failure.
+	Converged   bool `json:"converged"`
+	Evaluations int  `json:"evaluations"`
+}
+
+// Result is the outcome of Fit.
+type Result struct {
+	// Names are the parameter names, X the MAP in natural parameters and
+	// LogPost its ln posterior.
+	Names   []string  `json:"names"`
+	X       []float64 `json:"x"`
+	LogPost float64   `json:"log_posterior"`
+	// Best indexes the winning start in Starts.
+	Best   int           `json:"best_start"`
+	Starts []StartResult `json:"starts"`
+	// Agree counts the starts whose optimum lies within AgreeTol of the
+	// best in ln posterior (the best included).
+	Agree int `json:"starts_agreeing"`
+	// Converged and Status are the winning start's.
+	Converged bool   `json:"converged"`
+	Status    string `json:"status"`
+	// GradNorm is the largest component of the gradient of ln posterior in
+	// the transformed coordinates at X: small at a stationary point.
+	GradNorm float64 `json:"grad_norm"`
+	// AtBound flags parameters whose MAP lies on a bound.
+	AtBound     []Bound `json:"at_bound"`
+	Evaluations int     `json:"evaluations"`
+	// Laplace is the curvature at the optimum (nil with NoLaplace).
+	Laplace *Laplace `json:"laplace,omitempty"`
+}
+
+// Summary is a one-line account of convergence and agreement, e.g.
+// "converged (GradientThreshold); 7 of 8 starts agree".
+func (r *Result) Summary() string {
+	c := "not converged"
+	if r.Converged {
+		c = "converged"
+	}
+	s := fmt.Sprintf("%s (%s); %d of %d starts agree", c, r.Status, r.Agree, len(r.Starts))
+	var b []string
+	for i, v := range r.AtBound {
+		if v != Inside {
+			b = append(b, fmt.Sprintf("%s at its %s", r.Names[i], v))
+		}
+	}
+	for i, v := range b {
+		if i == 0 {
+			s += "; "
+		} else {
+			s += ", "
+		}
+		s += v
+	}
+	return s
+}
+
+// Fit maximises the posterior from every start and keeps the best: each
+// start runs (optionally) Nelder–Mead and then BFGS with a More–Thuente
+// line search (gonum/optimize) in the transformed coordinates, and the
+// best optimum gets its Laplace approximation.
+//
+// Errors: ErrSpace for a bad space or a start outside it, ErrNoStart when
+// no start reached a finite posterior.
+func Fit(p *Problem, set *Settings) (*Result, error) {
+	var s Settings
+	if set != nil {
+		s = *set
+	}
+	if err := p.Space.Validate(); err != nil {
+		return nil, err
+	}
+	d := len(p.Space)
+	if len(p.Starts) == 0 {
+		return nil, fmt.Errorf("%w: no starting point", ErrSpace)
+	}
+	if s.MaxEvaluations == 0 {
+		s.MaxEvaluations = 2000 * max(d, 1)
+	}
+	if s.AgreeTol == 0 {
+		s.AgreeTol = 0.5
+	}
+	u0 := make([][]float64, len(p.Starts))
+	for i, x := range p.Starts {
+		u, err := p.Space.ToU(nil, x)
+		if err != nil {
+			return nil, fmt.Errorf("start %d: %w", i, err)
+		}
+		u0[i] = u
+	}
+	res := &Result{Names: p.Space.Names(), Starts: make([]StartResult, len(p.Starts))}
+	nw := s.Workers
+	if nw <= 0 {
+		nw = runtime.GOMAXPROCS(0)
+	}
+	nw = min(nw, len(u0))
+	jobs := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < nw; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range jobs {
+				res.Starts[i] = p.run(u0[i], &s)
+			}
+		}()
+	}
+	for i := range u0 {
+		jobs <- i
+	}
+	close(jobs)
+	wg.Wait()
+	res.Best = -1
+	for i, st := range res.Starts {
+		res.Evaluations += st.Evaluations
+		if !math.IsInf(st.LogPost, -1) && !math.IsNaN(st.LogPost) && (res.Best < 0 || st.LogPost > res.Starts[res.Best].LogPost) {
+			res.Best = i
+		}
+	}
+	if res.Best < 0 {
+		return res, ErrNoStart
+	}
+	b := res.Starts[res.Best]
+	res.X = append([]float64(nil), b.X...)
+	res.LogPost, res.Converged, res.Status = b.LogPost, b.Converged, b.Status
+	for _, st := range res.Starts {
+		if st.LogPost >= b.LogPost-s.AgreeTol {
+			res.Agree++
+		}
+	}
+	res.AtBound = p.Space.AtBound(res.X)
+	ub, _ := p.Space.ToU(nil, res.X)
+	g := make([]float64, d)
+	p.gradU(g, ub, false)
+	for _, v := range g {
+		res.GradNorm = math.Max(res.GradNorm, math.Abs(v))
+	}
+	if !s.NoLaplace {
+		res.Laplace = p.laplace(res.X)
+	}
+	return res, nil
+}
+
+// objective returns −ln posterior at u (+Inf where it vanishes), plus
+// −ln|det dx/du| when withJac is set.
+func (p *Problem) objective(u []float64, withJac bool) float64 {
+	x := p.Space.ToX(nil, u)
+	v := p.LogPost(x)
+	if math.IsNaN(v) || math.IsInf(v, 1) {
+		return math.Inf(1)
+	}
+	if withJac {
+		_, lj := p.Space.jacobian(u)
+		v += lj
+	}
+	return -v
+}
+
+// gradU stores the gradient of −(ln posterior [+ ln|J|]) with respect to u
+// in g and returns the objective.
+func (p *Problem) gradU(g, u []float64, withJac bool) float64 {
+	d := len(u)
+	if p.Grad == nil {
+		f := func(v []float64) float64 { return p.objective(v, withJac) }
+		fd.Gradient(g, f, u, &fd.Settings{Formula: fd.Central, Step: 1e-5})
+		for i := range g {
+			if math.IsNaN(g[i]) || math.IsInf(g[i], 0) {
+				g[i] = 0
+			}
+		}
+		return p.objective(u, withJac)
+	}
+	x := p.Space.ToX(nil, u)
+	gx := make([]float64, d)
+	v := p.Grad(gx, x)
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		for i := range g {
+			g[i] = 0
+		}
+		return math.Inf(1)
+	}
+	J, lj := p.Space.jacobian(u)
+	for j := 0; j < d; j++ {
+		s := 0.0
+		for i := 0; i < d; i++ {
+			s += gx[i] * J[i*d+j]
+		}
+		g[j] = -s
+	}
+	if withJac {
+		// ∇ ln|J| by central differences of the closed form (cheap, smooth).
+		uu := append([]float64(nil), u...)
+		for j := range uu {
+			h := 1e-5
+			uu[j] = u[j] + h
+			_, a := p.Space.jacobian(uu)
+			uu[j] = u[j] - h
+			_, b := p.Space.jacobian(uu)
+			uu[j] = u[j]
+			g[j] -= (a - b) / (2 * h)
+		}
+		v += lj
+	}
+	return -v
+}
+
+// stationary is the status of a start whose line search stopped where the
+// gradient in the transformed coordinates is already below 1e-3 (finite-
+// difference noise at the optimum): a converged start.
+var stationary = optimize.NewStatus("Stationary", false, nil)
+
+func converged(st optimize.Status) bool {
+	switch st {
+	case stationary, optimize.Success, optimize.FunctionConvergence, optimize.GradientThreshold, optimize.StepConvergence, optimize.MethodConverge, optimize.FunctionThreshold:
+		return true
+	}
+	return false
+}
+
+// run optimises one start.
+func (p *Problem) run(u0 []float64, s *Settings) StartResult {
+	evals := 0
+	f := func(u []float64) float64 { evals++; return p.objective(u, false) }
+	out := StartResult{X: p.Space.ToX(nil, u0), LogPost: math.Inf(-1), Status: "not started"}
+	if math.IsInf(f(u0), 1) {
+		out.Status = "start outside the support"
+		out.Evaluations = evals
+		return out
+	}
+	u := append([]float64(nil), u0...)
+	fu := f(u)
+	if s.NelderMead {
+		pr := optimize.Problem{Func: f}
+		st := &optimize.Settings{FuncEvaluations: s.MaxEvaluations / 2, Converger: &optimize.FunctionConverge{Absolute: 1e-8, Relative: 1e-10, Iterations: 50 * len(u)}}
+		if r, err := optimize.Minimize(pr, u, st, &optimize.NelderMead{}); r != nil && r.X != nil && r.F < fu && (err == nil || !math.IsInf(r.F, 1)) {
+			u, fu = append([]float64(nil), r.X...), r.F
+		}
+	}
+	pr := optimize.Problem{
+		Func: f,
+		Grad: func(g, x []float64) {
+			if p.Grad == nil {
+				evals += 2 * len(x)
+			} else {
+				evals++
+			}
+			p.gradU(g, x, false)
+		},
+	}
+	left := s.MaxEvaluations - evals
+	st := &optimize.Settings{
+		FuncEvaluations:   max(left, 50),
+		GradientThreshold: 1e-6,
+		Converger:         &optimize.FunctionConverge{Absolute: 1e-9, Relative: 1e-12, Iterations: 20},
+	}
+	r, err := optimize.Minimize(pr, u, st, &optimize.BFGS{})
+	status := optimize.Failure
+	if r != nil {
+		status = r.Status
+		if r.X != nil && r.F <= fu && !math.IsNaN(r.F) {
+			u, fu = r.X, r.F
+		}
+	}
+	// A line-search failure right at a stationary point (fd noise) is a
+	// convergence: check the gradient directly.
+	conv := converged(status)
+	if !conv && err != nil && !math.IsInf(fu, 1) {
+		g := make([]float64, len(u))
+		p.gradU(g, u, false)
+		gm := 0.0
+		for _, v := range g {
+			gm = math.Max(gm, math.Abs(v))
+		}
+		if gm < 1e-3 {
+			conv = true
+			status = stationary
+		}
+	}
+	out.X = p.Space.ToX(nil, u)
+	out.LogPost = -fu
+	out.Status = status.String()
+	out.Converged = conv
+	out.Evaluations = evals
+	return out
+}

@@ -1,0 +1,251 @@
+package mapfit
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/optimize"
+)
+
+// Laplace is the Gaussian approximation of a posterior about its mode in
+// the transformed coordinates u, where the density is
+//
+//	q(u) = p(x(u)) |det dx/du|
+//
+// (the posterior p of the natural parameters carried over with its
+// Jacobian). It is found by a short quasi-Newton polish from the MAP, and
+// its Hessian H = −∇∇ ln q is taken by central differences (of the
+// gradient when one is given). Then
+//
+//	ln Z ≈ ln q(û) + (d/2) ln 2π − ½ ln det H,
+//	Cov(x) ≈ J Σ_u Jᵀ,  Σ_u = H⁻¹,  J = dx/du at û.
+//
+// Working in u keeps a scale's curvature meaningful near zero and gives a
+// parameter at a bound a finite error. When H is not positive definite the
+// covariance is taken on the subspace of positive curvature (eigenvalues
+// above 1e-10 of the largest) and every parameter with weight in the other
+// directions gets a NaN variance; the evidence is then NaN.
+//
+// Reference: the Laplace approximation as in MacKay 2003, Information
+// Theory, Inference and Learning Algorithms, ch. 27 (from memory); see
+// docs/methods.md.
+type Laplace struct {
+	// Cov is the covariance of the natural parameters (rows of
+	// unconstrained parameters NaN).
+	Cov [][]float64 `json:"covariance"`
+	// Errors are the one-sigma errors sqrt(diag Cov); NaN when unknown.
+	Errors []float64 `json:"errors"`
+	// LogEvidence is ln Z, NaN when H is not positive definite.
+	LogEvidence float64 `json:"log_evidence"`
+	// PositiveDefinite reports whether H was.
+	PositiveDefinite bool `json:"positive_definite"`
+	// Unconstrained flags parameters with weight in directions of zero or
+	// negative curvature.
+	Unconstrained []bool `json:"unconstrained"`
+}
+
+// laplace returns the Laplace approximation about the MAP xhat.
+func (p *Problem) laplace(xhat []float64) *Laplace {
+	d := len(p.Space)
+	out := &Laplace{LogEvidence: math.NaN(), Errors: make([]float64, d), Unconstrained: make([]bool, d)}
+	for i := range out.Errors {
+		out.Errors[i] = math.NaN()
+	}
+	if d == 0 {
+		out.PositiveDefinite = true
+		out.LogEvidence = p.LogPost(xhat)
+		return out
+	}
+	u, err := p.Space.ToU(nil, xhat)
+	if err != nil {
+		return out
+	}
+	h := func(v []float64) float64 { return p.objective(v, true) }
+	if math.IsInf(h(u), 1) {
+		return out
+	}
+	// Polish to the mode of q(u).
+	pr := optimize.Problem{Func: h, Grad: func(g, v []float64) { p.gradU(g, v, true) }}
+	st := &optimize.Settings{FuncEvaluations: 300 * d, GradientThreshold: 1e-7,
+		Converger: &optimize.FunctionConverge{Absolute: 1e-10, Relative: 1e-12, Iterations: 20}}
+	if r, _ := optimize.Minimize(pr, u, st, &optimize.BFGS{}); r != nil && r.X != nil && r.F <= h(u) && !math.IsNaN(r.F) {
+		u = r.X
+	}
+	f0 := h(u)
+	H := p.hessianU(u)
+	g := make([]float64, d)
+	p.gradU(g, u, true)
+	J, _ := p.Space.jacobian(u)
+	covU, logdet, pd, bad := invertCurvature(H)
+	out.PositiveDefinite = pd
+	if covU == nil {
+		for i := range out.Unconstrained {
+			out.Unconstrained[i] = true
+		}
+		return out
+	}
+	if pd {
+		// The polish leaves a small gradient g: integrating the quadratic
+		// expansion about u adds ½ gᵀH⁻¹g.
+		gHg := 0.0
+		for i := 0; i < d; i++ {
+			for j := 0; j < d; j++ {
+				gHg += g[i] * covU.At(i, j) * g[j]
+			}
+		}
+		out.LogEvidence = -f0 + 0.5*float64(d)*math.Log(2*math.Pi) - 0.5*logdet + 0.5*gHg
+	}
+	out.Cov = make([][]float64, d)
+	for i := 0; i < d; i++ {
+		out.Cov[i] = make([]float64, d)
+		for j := 0; j < d; j++ {
+			s := 0.0
+			for a := 0; a < d; a++ {
+				if J[i*d+a] == 0 {
+					continue
+				}
+				for b := 0; b < d; b++ {
+					s += J[i*d+a] * covU.At(a, b) * J[j*d+b]
+				}
+			}
+			out.Cov[i][j] = s
+		}
+	}
+	// A parameter depends on u through its own block only.
+	for i := 0; i < d; i++ {
+		for a := 0; a < d; a++ {
+			if J[i*d+a] != 0 && bad[a] {
+				out.Unconstrained[i] = true
+			}
+		}
+	}
+	for i := 0; i < d; i++ {
+		if out.Unconstrained[i] {
+			for j := 0; j < d; j++ {
+				out.Cov[i][j], out.Cov[j][i] = math.NaN(), math.NaN()
+			}
+			continue
+		}
+		if v := out.Cov[i][i]; v >= 0 {
+			out.Errors[i] = math.Sqrt(v)
+		}
+	}
+	return out
+}
+
+// hessianU returns H = −∇∇ ln q at u: central differences of the
+// gradient (step 1e-4) when Grad is given, else second differences of
+// the objective (step 1e-3; u is in natural units of each parameter).
+func (p *Problem) hessianU(u []float64) *mat.SymDense {
+	d := len(u)
+	H := mat.NewSymDense(d, nil)
+	v := append([]float64(nil), u...)
+	if p.Grad != nil {
+		const h = 1e-4
+		gp := make([]float64, d)
+		gm := make([]float64, d)
+		rows := make([][]float64, d)
+		for j := 0; j < d; j++ {
+			v[j] = u[j] + h
+			p.gradU(gp, v, true)
+			v[j] = u[j] - h
+			p.gradU(gm, v, true)
+			v[j] = u[j]
+			rows[j] = make([]float64, d)
+			for i := range rows[j] {
+				rows[j][i] = (gp[i] - gm[i]) / (2 * h)
+			}
+		}
+		for i := 0; i < d; i++ {
+			for j := 0; j <= i; j++ {
+				H.SetSym(i, j, 0.5*(rows[i][j]+rows[j][i]))
+			}
+		}
+		return H
+	}
+	const h = 1e-3
+	f := func(w []float64) float64 { return p.objective(w, true) }
+	f0 := f(u)
+	for i := 0; i < d; i++ {
+		v[i] = u[i] + h
+		fp := f(v)
+		v[i] = u[i] - h
+		fm := f(v)
+		v[i] = u[i]
+		H.SetSym(i, i, (fp-2*f0+fm)/(h*h))
+		for j := 0; j < i; j++ {
+			var s [4]float64
+			for k, sg := range [4][2]float64{{1, 1}, {1, -1}, {-1, 1}, {-1, -1}} {
+				v[i], v[j] = u[i]+sg[0]*h, u[j]+sg[1]*h
+				s[k] = f(v)
+			}
+			v[i], v[j] = u[i], u[j]
+			H.SetSym(i, j, (s[0]-s[1]-s[2]+s[3])/(4*h*h))
+		}
+	}
+	return H
+}
+
+// invertCurvature returns H⁻¹ and ln det H when H is positive definite;
+// otherwise the inverse on the subspace of positive curvature, with bad
+// flagging the coordinates that have weight (squared component above
+// 1e-6) in the other directions. It returns a nil covariance when no
+// direction has positive curvature or H holds a NaN.
+func invertCurvature(H *mat.SymDense) (cov *mat.SymDense, logdet float64, pd bool, bad []bool) {
+	d := H.SymmetricDim()
+	bad = make([]bool, d)
+	for i := 0; i < d; i++ {
+		for j := 0; j <= i; j++ {
+			if v := H.At(i, j); math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, 0, false, bad
+			}
+		}
+	}
+	var ch mat.Cholesky
+	if ch.Factorize(H) {
+		var inv mat.SymDense
+		if err := ch.InverseTo(&inv); err == nil {
+			return &inv, ch.LogDet(), true, bad
+		}
+	}
+	var eig mat.EigenSym
+	if !eig.Factorize(H, true) {
+		return nil, 0, false, bad
+	}
+	vals := eig.Values(nil)
+	var vecs mat.Dense
+	eig.VectorsTo(&vecs)
+	maxv := 0.0
+	for _, v := range vals {
+		maxv = math.Max(maxv, v)
+	}
+	if !(maxv > 0) {
+		return nil, 0, false, bad
+	}
+	cov = mat.NewSymDense(d, nil)
+	for k, lam := range vals {
+		if lam > 1e-10*maxv {
+			for i := 0; i < d; i++ {
+				for j := 0; j <= i; j++ {
+					cov.SetSym(i, j, cov.At(i, j)+vecs.At(i, k)*vecs.At(j, k)/lam)
+				}
+			}
+			continue
+		}
+		for i := 0; i < d; i++ {
+			if w := vecs.At(i, k); w*w > 1e-6 {
+				bad[i] = true
+			}
+		}
+	}
+	return cov, 0, false, bad
+}
+
+// LaplaceAt returns the Laplace approximation of p's posterior about the
+// MAP xhat (see Laplace), without fitting.
+func LaplaceAt(p *Problem, xhat []float64) (*Laplace, error) {
+	if err := p.Space.Validate(); err != nil {
+		return nil, err
+	}
+	return p.laplace(xhat), nil
+}
