@@ -284,7 +284,7 @@ func gpRotation(lc *LightCurve, starts []float64, pMin, pMax float64) Estimate {
 		if p0 < pMin || p0 > pMax {
 			continue
 		}
-		m := &gp.Noise{Kernel: gp.RotationSHO{Sigma: sd, Period: p0, Q0: 1, DQ: 1, F: 0.5}, Jitter: []float64{0.1 * sd}, Solver: gp.SemisepSolver}
+		m := &gp.Noise{Kernel: gp.RotationSHO{Amp: sd, Period: p0, Quality: 1, QualityGap: 1, Mix: 0.5}, Jitter: []float64{0.1 * sd}, Solver: gp.SemisepSolver}
 		nm, res, err := gp.FitNoise(m, t, y, v, inst, &gp.FitSettings{LogPrior: lnp, MaxEvaluations: 1500})
 		if err != nil || res == nil || nm == nil {
 			continue
@@ -301,7 +301,7 @@ func gpRotation(lc *LightCurve, starts []float64, pMin, pMax float64) Estimate {
 	e.Period, e.Err = k.Period, best.Sigma[1]
 	sigErr := best.Sigma[0]
 	e.Detected = true
-	e.Note = fmt.Sprintf("amplitude %.3g (relative flux), %d bins", k.Sigma, len(t))
+	e.Note = fmt.Sprintf("amplitude %.3g (relative flux), %d bins", k.Amp, len(t))
 	if math.IsNaN(e.Err) || !(e.Err > 0) {
 		// The posterior's curvature was not usable: a 10% error (common
 		// practice).
@@ -311,7 +311,7 @@ func gpRotation(lc *LightCurve, starts []float64, pMin, pMax float64) Estimate {
 	if !best.Converged {
 		e.Note += "; the optimiser stopped at its evaluation limit"
 	}
-	if sigErr > 0 && k.Sigma < 3*sigErr {
+	if sigErr > 0 && k.Amp < 3*sigErr {
 		e.Detected = false
 		e.Note += "; amplitude below 3σ"
 	}
