@@ -123,8 +123,15 @@ func nullText(s string) any {
 // writeCatalogue writes the catalogue of recs and runs to path, through a
 // temporary file renamed at the end.
 func writeCatalogue(path string, recs []record, runs []RunRecord) (err error) {
-	tmp := filepath.Join(filepath.Dir(path), "."+filepath.Base(path)+".tmp")
-	os.Remove(tmp)
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
+	if err != nil {
+		return err
+	}
+	tmp := f.Name()
+	if err := f.Close(); err != nil {
+		os.Remove(tmp)
+		return err
+	}
 	defer func() {
 		if err != nil {
 			os.Remove(tmp)
@@ -137,6 +144,9 @@ func writeCatalogue(path string, recs []record, runs []RunRecord) (err error) {
 	defer func() {
 		if cerr := db.Close(); err == nil && cerr != nil {
 			err = cerr
+		}
+		if err == nil {
+			err = os.Chmod(tmp, 0o644)
 		}
 		if err == nil {
 			err = os.Rename(tmp, path)

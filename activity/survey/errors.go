@@ -20,6 +20,15 @@ var (
 	// were not run: the survey is incomplete, though every finished star
 	// is written.
 	ErrPartial = errors.New("survey: partial survey")
+	// ErrBusy reports an output folder locked by another survey or merge.
+	ErrBusy = errors.New("survey: output folder busy")
+	// ErrTimeout is the failure of a star not finished within
+	// Options.StarTimeout.
+	ErrTimeout = errors.New("survey: star time limit reached")
+	// ErrNotRegular reports an input that is not a regular file (a named
+	// pipe, a device): it is refused rather than read, since reading it
+	// could block or never end.
+	ErrNotRegular = errors.New("survey: not a regular file")
 )
 
 // errStateMissing reports a star folder without a state file.

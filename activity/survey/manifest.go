@@ -3,7 +3,9 @@ package survey
 import (
 	"bufio"
 	"bytes"
+	"crypto/sha256"
 	"encoding/csv"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -415,7 +417,10 @@ func (m *Manifest) file() string {
 
 // Folder returns the output folder name of a star: its name with every
 // character other than ASCII letters, digits, '-', '_' and '.' replaced by
-// '_', and a leading '.' replaced too (so no folder is hidden).
+// '_', and a leading '.' replaced too (so no folder is hidden). A name
+// longer than MaxFolder bytes is cut, and the first 16 hex digits of the
+// SHA-256 of the whole name appended, so that every folder name (and the
+// temporary names made beside it) fits a file system's 255-byte limit.
 func Folder(name string) string {
 	b := []byte(strings.TrimSpace(name))
 	for i, c := range b {
@@ -424,8 +429,16 @@ func Folder(name string) string {
 			b[i] = '_'
 		}
 	}
+	if len(b) > MaxFolder {
+		sum := sha256.Sum256([]byte(name))
+		b = append(b[:MaxFolder-17], '-')
+		b = append(b, hex.EncodeToString(sum[:8])...)
+	}
 	return string(b)
 }
+
+// MaxFolder is the longest folder name Folder returns, in bytes.
+const MaxFolder = 200
 
 // path resolves p against the manifest's folder.
 func (m *Manifest) path(p string) string {

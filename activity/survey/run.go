@@ -2,6 +2,7 @@ package survey
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -11,6 +12,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"time"
 
 	"spotsift/activity"
@@ -47,6 +49,23 @@ type Options struct {
 	Version string
 	// Command is the command line, recorded in the run's record.
 	Command string
+	// StarTimeout, when positive, limits the analysis and report of each
+	// star: a star that takes longer fails with ErrTimeout as its reason.
+	StarTimeout time.Duration
+	// Notify, when not nil, receives a message when the run has to wait,
+	// e.g. for another survey writing into the same folder.
+	Notify func(msg string)
+}
+
+// settings returns the settings of the analysis that a merge requires to
+// be the same in every shard, as one line.
+func (o *Options) settings() string {
+	var do activity.Options
+	if o.Diagnose != nil {
+		do = *o.Diagnose
+	}
+	return fmt.Sprintf("skip_models=%v fap=%v max_signals=%d pmin=%v pmax=%v oversampling=%v permutations=%d",
+		o.SkipModels, do.FAPThreshold, do.MaxSignals, do.PMin, do.PMax, do.Oversampling, do.Permutations)
 }
 
 // Star statuses in a Summary.
@@ -187,6 +206,17 @@ func Run(ctx context.Context, m *Manifest, outDir string, opts *Options) (*Summa
 	if outDir == "" {
 		return nil, fmt.Errorf("%w: no output folder", ErrOptions)
 	}
+	if err := os.MkdirAll(outDir, 0o755); err != nil {
+		return nil, err
+	}
+	unlock, err := lockDir(ctx, outDir, o.Notify)
+	if err != nil {
+		return nil, err
+	}
+	defer unlock()
+	if err := cleanLeftovers(outDir); err != nil {
+		return nil, fmt.Errorf("survey: removing what an interrupted run left: %w", err)
+	}
 	if err := os.MkdirAll(filepath.Join(outDir, StarsDir), 0o755); err != nil {
 		return nil, err
 	}
@@ -301,21 +331,33 @@ type outcome struct {
 }
 
 // runStar handles one star: hash, skip when unchanged, else analyse and
-// write.
-func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Options, runID string) StarResult {
-	res := StarResult{Name: e.Name, Folder: Folder(e.Name), Status: StatusNotRun}
+// write. The star's outputs are written into a fresh hidden folder, its
+// state file last (with the hash of the outputs), and the folder is then
+// renamed into place: a kill at any moment never leaves a verdict beside
+// the state of other inputs. A panic anywhere in the star's handling
+// becomes its failure.
+func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Options, runID string) (res StarResult) {
+	res = StarResult{Name: e.Name, Folder: Folder(e.Name), Status: StatusNotRun}
+	defer func() {
+		if r := recover(); r != nil {
+			res.Status, res.Error = StatusFailed, oneLine(fmt.Sprintf("internal error (please report it): %v | %s", r, firstFrames(debug.Stack())))
+		}
+	}()
 	if ctx.Err() != nil {
 		return res
 	}
-	dir := filepath.Join(outDir, StarsDir, res.Folder)
+	dir, err := starDir(outDir, e.Name)
+	if err != nil {
+		res.Status, res.Error = StatusFailed, oneLine(err.Error())
+		return res
+	}
 	seed := StarSeed(o.Seed, e.Name)
 	hash, inputs, herr := InputHash(m, e, o)
 	res.Hash = hash
 	old, _ := readState(dir)
 	if herr == nil && old != nil && old.Hash == hash && !o.Force {
-		_, verr := readVerdict(dir)
 		switch {
-		case old.Status == StatusDone && verr == nil:
+		case old.Status == StatusDone && old.intact(dir):
 			res.Status, res.Signals = StatusUnchanged, old.Signals
 			return res
 		case old.Status == StatusFailed && !o.RetryFailed:
@@ -325,47 +367,127 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 	}
 	nan := activity.Num(math.NaN())
 	st := &state{Name: e.Name, Folder: res.Folder, Data: e.Data, Hash: hash, Seed: seed, Run: runID, Version: o.Version,
+		SurveySeed: o.Seed, Settings: o.settings(),
 		RVRMS: nan, MedianRVErr: nan, MeanSIndex: nan, MeanLogRHK: nan}
 	t0 := time.Now()
+	tmp, err := newStarDir(dir)
+	if err != nil {
+		res.Status, res.Error = StatusFailed, oneLine("creating the star's folder: "+err.Error())
+		return res
+	}
 	var out outcome
 	if herr != nil {
 		out.err = herr
 	} else {
+		sctx, cancel := ctx, context.CancelFunc(func() {})
+		if o.StarTimeout > 0 {
+			sctx, cancel = context.WithTimeout(ctx, o.StarTimeout)
+		}
+		defer cancel()
 		ch := make(chan outcome, 1)
-		go func() { ch <- analyse(ctx, m, e, seed, o, inputs) }()
+		var abandoned atomic.Bool
+		go func() {
+			r := produce(sctx, m, e, seed, o, inputs, tmp)
+			if abandoned.Load() {
+				// Nobody waits for it any more: drop what it wrote.
+				os.RemoveAll(tmp)
+			}
+			ch <- r
+		}()
 		select {
 		case out = <-ch:
-		case <-ctx.Done():
-			return res
-		}
-	}
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		out.err = err
-	}
-	if out.err == nil {
-		st.fill(out.diag, out.series, out.star)
-		st.Notes = out.notes
-		if err := activity.WriteReport(dir, &activity.Report{Diagnosis: out.diag, Series: out.series, Star: out.star}); err != nil {
-			out.err = fmt.Errorf("writing the report: %w", err)
+			switch {
+			case out.err == nil:
+			case ctx.Err() != nil && errors.Is(out.err, ctx.Err()):
+				os.RemoveAll(tmp)
+				return res // interrupted: not run
+			case errors.Is(out.err, context.DeadlineExceeded) && o.StarTimeout > 0:
+				out.err = fmt.Errorf("%w: not finished after %v (--star-timeout); the star is left out of this run", ErrTimeout, o.StarTimeout)
+				clearDir(tmp)
+			}
+		case <-sctx.Done():
+			abandoned.Store(true)
+			if ctx.Err() != nil {
+				return res // interrupted: not run, nothing of it kept
+			}
+			out.err = fmt.Errorf("%w: not finished after %v (--star-timeout); the star is left out of this run", ErrTimeout, o.StarTimeout)
+			if tmp, err = newStarDir(dir); err != nil {
+				res.Status, res.Error = StatusFailed, oneLine(out.err.Error())
+				return res
+			}
 		}
 	}
 	st.Seconds = time.Since(t0).Seconds()
 	res.Seconds = st.Seconds
 	if out.err != nil {
+		// A failed star keeps only its state: no report of other inputs.
+		if err := clearDir(tmp); err != nil {
+			out.err = fmt.Errorf("%w (and clearing its folder: %v)", out.err, err)
+		}
 		st.Status, st.Error = StatusFailed, oneLine(out.err.Error())
 		res.Status, res.Error = StatusFailed, st.Error
 	} else {
+		st.fill(out.diag, out.series, out.star)
+		st.Notes = out.notes
 		st.Status = StatusDone
 		res.Status, res.Signals = StatusDone, len(out.diag.Signals)
 	}
-	if err := writeState(dir, st); err != nil {
+	if err := st.seal(tmp); err != nil {
+		os.RemoveAll(tmp)
 		res.Status, res.Error = StatusFailed, oneLine("writing the state file: "+err.Error())
+		return res
+	}
+	if err := commitStarDir(dir, tmp); err != nil {
+		os.RemoveAll(tmp)
+		res.Status, res.Error = StatusFailed, oneLine("moving the star's outputs into place: "+err.Error())
 	}
 	return res
 }
 
+// clearDir removes everything inside dir.
+func clearDir(dir string) error {
+	ents, err := os.ReadDir(dir)
+	if err != nil {
+		return err
+	}
+	for _, d := range ents {
+		if err := os.RemoveAll(filepath.Join(dir, d.Name())); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 // oneLine joins the lines of a message.
 func oneLine(s string) string { return strings.Join(strings.Fields(s), " ") }
+
+// testHookAnalyse, when set by a test, is called at the start of every
+// star's analysis.
+var testHookAnalyse func(ctx context.Context, name string)
+
+// produce analyses one star and writes its report into dir; a panic
+// becomes an error.
+func produce(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.InputHash, dir string) (out outcome) {
+	defer func() {
+		if r := recover(); r != nil {
+			out = outcome{err: fmt.Errorf("internal error (please report it): %v\n%s", r, firstFrames(debug.Stack()))}
+		}
+	}()
+	if testHookAnalyse != nil {
+		testHookAnalyse(ctx, e.Name)
+	}
+	out = analyse(ctx, m, e, seed, o, inputs)
+	if out.err != nil {
+		return out
+	}
+	if err := ctx.Err(); err != nil {
+		return outcome{err: err}
+	}
+	if err := activity.WriteReport(dir, &activity.Report{Diagnosis: out.diag, Series: out.series, Star: out.star}); err != nil {
+		return outcome{err: fmt.Errorf("writing the report: %w", err)}
+	}
+	return out
+}
 
 // analyse loads and diagnoses one star; a panic becomes an error.
 func analyse(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.InputHash) (out outcome) {
@@ -502,7 +624,11 @@ func spectrumFiles(dir string) ([]string, error) {
 		if d.IsDir() || strings.HasPrefix(d.Name(), ".") || !spectrumExts[strings.ToLower(filepath.Ext(d.Name()))] {
 			continue
 		}
-		out = append(out, filepath.Join(dir, d.Name()))
+		p := filepath.Join(dir, d.Name())
+		if err := regularFile(p, "spectrum"); err != nil {
+			return nil, err
+		}
+		out = append(out, p)
 	}
 	if len(out) == 0 {
 		return nil, fmt.Errorf("%w: %s holds no spectra (.fits, .fit, .fts, .txt, .dat)", activity.ErrNoSpectra, dir)
@@ -521,6 +647,11 @@ func loadSeries(ctx context.Context, m *Manifest, e *Entry, star *activity.Star)
 	fi, err := os.Stat(p)
 	if err != nil {
 		return nil, nil, fmt.Errorf("data: %w", err)
+	}
+	if !fi.IsDir() {
+		if err := regularFile(p, "data"); err != nil {
+			return nil, nil, err
+		}
 	}
 	var s *rvfit.Series
 	var notes []string

@@ -34,6 +34,13 @@ type state struct {
 	Version string  `json:"version"`
 	Seconds float64 `json:"seconds"`
 	Signals int     `json:"signals"`
+	// SurveySeed and Settings are the survey's seed and analysis settings
+	// (Options.settings); a merge refuses shards where they differ.
+	SurveySeed uint64 `json:"survey_seed"`
+	Settings   string `json:"settings,omitempty"`
+	// Outputs is the hash of the folder's other files (hashOutputs), taken
+	// when the state was written.
+	Outputs string `json:"outputs_hash,omitempty"`
 	// Star parameters used (zero: not known).
 	Teff          float64      `json:"teff,omitempty"`
 	BV            float64      `json:"b_v,omitempty"`
@@ -132,6 +139,27 @@ func readState(dir string) (*state, error) {
 	return &st, nil
 }
 
+// seal records the hash of dir's outputs in st and writes st into dir,
+// last.
+func (st *state) seal(dir string) error {
+	h, err := hashOutputs(dir)
+	if err != nil {
+		return err
+	}
+	st.Outputs = h
+	return writeState(dir, st)
+}
+
+// intact reports whether the finished star's folder holds what its state
+// file says was written: a readable verdict and the same outputs hash.
+func (st *state) intact(dir string) bool {
+	if _, err := readVerdict(dir); err != nil {
+		return false
+	}
+	h, err := hashOutputs(dir)
+	return err == nil && st.Outputs != "" && h == st.Outputs
+}
+
 func writeState(dir string, st *state) error {
 	return writeJSON(filepath.Join(dir, StateFile), st)
 }
@@ -206,6 +234,9 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 	var inputs []activity.InputHash
 	if e.StarFile != "" {
 		p := m.path(e.StarFile)
+		if err := regularFile(p, "star file"); err != nil {
+			return "", nil, err
+		}
 		sum, err := activity.HashFile(p)
 		if err != nil {
 			return "", nil, fmt.Errorf("star file: %w", err)
@@ -244,6 +275,9 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 			line("spectra", sum)
 			inputs = append(inputs, activity.InputHash{Path: e.Data, SHA256: sum})
 		} else {
+			if err := regularFile(p, "data"); err != nil {
+				return "", nil, err
+			}
 			sum, err := activity.HashFile(p)
 			if err != nil {
 				return "", nil, fmt.Errorf("data: %w", err)
