@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"strings"
@@ -84,13 +85,60 @@ func (e *StarError) Error() string {
 
 func (e *StarError) Unwrap() error { return ErrStar }
 
-// ReadStar reads and checks a star file.
+// MaxStarFileSize is the largest star file ReadStar reads, in bytes; a star
+// file holds a few lines.
+const MaxStarFileSize = 1 << 20
+
+// ReadStar reads and checks a star file. Only a regular file (or a
+// symbolic link to one) is read: a named pipe or a device such as
+// /dev/zero is refused before it is opened, and a file larger than
+// MaxStarFileSize is refused unread.
 func ReadStar(path string) (*Star, error) {
-	b, err := os.ReadFile(path)
+	fi, err := os.Stat(path)
 	if err != nil {
 		return nil, err
 	}
+	if !fi.Mode().IsRegular() {
+		return nil, &StarError{File: path, Msg: fmt.Sprintf("not a regular file (%s): give the path of a TOML star file", fileKind(fi.Mode()))}
+	}
+	if fi.Size() > MaxStarFileSize {
+		return nil, &StarError{File: path, Msg: fmt.Sprintf("%d bytes: a star file is a few lines of TOML (at most %d bytes); is this the right file?", fi.Size(), MaxStarFileSize)}
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	// The file may have changed since Stat: check what was opened, and
+	// read one byte more than the limit to see whether it is exceeded.
+	if fi, err := f.Stat(); err != nil || !fi.Mode().IsRegular() {
+		return nil, &StarError{File: path, Msg: "not a regular file: give the path of a TOML star file"}
+	}
+	b, err := io.ReadAll(io.LimitReader(f, MaxStarFileSize+1))
+	if err != nil {
+		return nil, err
+	}
+	if len(b) > MaxStarFileSize {
+		return nil, &StarError{File: path, Msg: fmt.Sprintf("more than %d bytes: a star file is a few lines of TOML; is this the right file?", MaxStarFileSize)}
+	}
 	return ParseStar(b, path)
+}
+
+// fileKind names the type of a file that is not regular.
+func fileKind(m os.FileMode) string {
+	switch {
+	case m&os.ModeNamedPipe != 0:
+		return "a named pipe"
+	case m&os.ModeCharDevice != 0:
+		return "a character device"
+	case m&os.ModeDevice != 0:
+		return "a device"
+	case m&os.ModeSocket != 0:
+		return "a socket"
+	case m.IsDir():
+		return "a folder"
+	}
+	return "not a plain file"
 }
 
 // ParseStar parses star-file text; name is used in error messages. An

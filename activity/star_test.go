@@ -1,9 +1,14 @@
 package activity
 
 import (
+	"bytes"
 	"errors"
+	"os"
+	"path/filepath"
 	"strings"
+	"syscall"
 	"testing"
+	"time"
 )
 
 func TestParseStar(t *testing.T) {
@@ -61,5 +66,36 @@ b = 0.0153
 				t.Errorf("err = %v (line %d key %q), want line %d key %q saying %q", err, se.Line, se.Key, tt.line, tt.key, tt.msg)
 			}
 		})
+	}
+}
+
+// TestReadStarNotRegular: a named pipe, a device or a huge file given as
+// the star file is refused at once with the file named, never read (a
+// pipe without a writer would block forever, /dev/zero never ends).
+func TestReadStarNotRegular(t *testing.T) {
+	dir := t.TempDir()
+	fifo := filepath.Join(dir, "star.toml")
+	if err := syscall.Mkfifo(fifo, 0o644); err != nil {
+		t.Skipf("no named pipes here: %v", err)
+	}
+	big := filepath.Join(dir, "big.toml")
+	if err := os.WriteFile(big, bytes.Repeat([]byte("# padding\n"), MaxStarFileSize/10+1), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range []string{fifo, "/dev/zero", big} {
+		if _, err := os.Stat(p); err != nil {
+			t.Logf("%s: %v", p, err)
+			continue
+		}
+		done := make(chan error, 1)
+		go func() { _, err := ReadStar(p); done <- err }()
+		select {
+		case err := <-done:
+			if !errors.Is(err, ErrStar) || !strings.Contains(err.Error(), p) {
+				t.Errorf("%s: error %v, want a star-file error naming it", p, err)
+			}
+		case <-time.After(5 * time.Second):
+			t.Fatalf("%s: ReadStar still reading after 5 s", p)
+		}
 	}
 }

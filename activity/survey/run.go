@@ -291,6 +291,7 @@ func Run(ctx context.Context, m *Manifest, outDir string, opts *Options) (*Summa
 	if err != nil {
 		return nil, err
 	}
+	rec.ID = uniqueID(rec.ID, runs)
 	runs = append(runs, rec)
 	if err := writeRuns(outDir, runs); err != nil {
 		return nil, err
@@ -319,6 +320,19 @@ func runID(t time.Time, s Shard) string {
 		id += fmt.Sprintf("-shard%dof%d", s.K, s.N)
 	}
 	return id
+}
+
+// uniqueID returns id, with a suffix when runs already hold it.
+func uniqueID(id string, runs []RunRecord) string {
+	taken := map[string]bool{}
+	for _, r := range runs {
+		taken[r.ID] = true
+	}
+	out := id
+	for k := 2; taken[out]; k++ {
+		out = fmt.Sprintf("%s-%d", id, k)
+	}
+	return out
 }
 
 // outcome is what the analysis of one star gives.
@@ -463,7 +477,7 @@ func oneLine(s string) string { return strings.Join(strings.Fields(s), " ") }
 
 // testHookAnalyse, when set by a test, is called at the start of every
 // star's analysis.
-var testHookAnalyse func(ctx context.Context, name string)
+var testHookAnalyse atomic.Pointer[func(ctx context.Context, name string)]
 
 // produce analyses one star and writes its report into dir; a panic
 // becomes an error.
@@ -473,8 +487,8 @@ func produce(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options
 			out = outcome{err: fmt.Errorf("internal error (please report it): %v\n%s", r, firstFrames(debug.Stack()))}
 		}
 	}()
-	if testHookAnalyse != nil {
-		testHookAnalyse(ctx, e.Name)
+	if h := testHookAnalyse.Load(); h != nil {
+		(*h)(ctx, e.Name)
 	}
 	out = analyse(ctx, m, e, seed, o, inputs)
 	if out.err != nil {

@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"math"
 	"runtime"
 
 	"spotsift/activity"
@@ -81,6 +82,33 @@ func (c *common) loadStar() (*activity.Star, error) {
 func (c *common) workersOK() error {
 	if c.workers < 1 {
 		return fmt.Errorf("--workers must be at least 1, got %d", c.workers)
+	}
+	return nil
+}
+
+// periodRangeOK checks --pmin and --pmax: each 0 (the default) or a
+// positive finite number of days, and pmin below pmax when both are given.
+func periodRangeOK(pmin, pmax float64) error {
+	for _, f := range []struct {
+		name string
+		v    float64
+		what string
+	}{{"--pmin", pmin, "shortest"}, {"--pmax", pmax, "longest"}} {
+		if math.IsNaN(f.v) || math.IsInf(f.v, 0) || f.v < 0 {
+			return fmt.Errorf("%s %g: the %s period searched must be a positive number of days (leave it out for the default)", f.name, f.v, f.what)
+		}
+	}
+	if pmin > 0 && pmax > 0 && pmin >= pmax {
+		return fmt.Errorf("--pmin %g is not shorter than --pmax %g: give the shortest period first", pmin, pmax)
+	}
+	return nil
+}
+
+// countOK checks a flag that counts something: 0 means the default,
+// negative numbers are refused.
+func countOK(name string, n int, def string) error {
+	if n < 0 {
+		return fmt.Errorf("%s %d: give 1 or more (leave it out for the default, %s)", name, n, def)
 	}
 	return nil
 }

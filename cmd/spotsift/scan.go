@@ -32,6 +32,18 @@ aliases, and prewhitens the RVs signal by signal. Prints the peak list;
 	if err := c.workersOK(); err != nil {
 		return fail(e, exitUsage, err)
 	}
+	if err := periodRangeOK(*pmin, *pmax); err != nil {
+		return fail(e, exitUsage, err)
+	}
+	for _, f := range []struct {
+		name string
+		n    int
+		def  string
+	}{{"--bootstrap", *boot, "none"}, {"--peaks", *peaks, "5"}} {
+		if err := countOK(f.name, f.n, f.def); err != nil {
+			return fail(e, exitUsage, err)
+		}
+	}
 	s, err := c.loadData(e, "scan", 4)
 	if err != nil {
 		return fail(e, exitUsage, err)

@@ -47,11 +47,18 @@ partial survey), 2 bad usage or a bad manifest.`)
 	retry := fs.Bool("retry-failed", false, "reanalyse stars that failed before even when their inputs are unchanged")
 	fap := fs.Float64("fap", 0, "false-alarm `probability` below which a peak is a signal (default 0.001)")
 	maxSig := fs.Int("max-signals", 0, "most signals per star found by prewhitening (default 4)")
+	starTimeout := fs.Duration("star-timeout", 0, "fail a star whose analysis and report take longer than this `duration` (e.g. 30m; default: no limit)")
 	if code, ok := parseFlags(fs, args); !ok {
 		return code
 	}
 	if err := c.workersOK(); err != nil {
 		return fail(e, exitUsage, err)
+	}
+	if err := countOK("--max-signals", *maxSig, "4"); err != nil {
+		return fail(e, exitUsage, err)
+	}
+	if *starTimeout < 0 {
+		return fail(e, exitUsage, fmt.Errorf("--star-timeout %v: give a positive duration such as 30m (leave it out for no limit)", *starTimeout))
 	}
 	if *manifest == "" || *out == "" {
 		return fail(e, exitUsage, errors.New("survey: --manifest and --out are required"))
@@ -84,7 +91,12 @@ partial survey), 2 bad usage or a bad manifest.`)
 	opts := &survey.Options{
 		Workers: c.workers, Seed: c.seed, Shard: sh, SkipModels: *noGP, Force: *force, RetryFailed: *retry,
 		Diagnose: &activity.Options{FAPThreshold: *fap, MaxSignals: *maxSig},
-		Version:  version, Command: "spotsift survey " + strings.Join(args, " "),
+		Version:  version, Command: "spotsift survey " + strings.Join(args, " "), StarTimeout: *starTimeout,
+		Notify: func(msg string) {
+			if !c.quiet {
+				fmt.Fprintf(e.stderr, "spotsift: %s\n", msg)
+			}
+		},
 		Progress: func(done, total int) {
 			if bar == nil {
 				bar = newProgress(e.stderr, total, "stars", c.quiet)
@@ -97,7 +109,13 @@ partial survey), 2 bad usage or a bad manifest.`)
 		bar.Done()
 	}
 	if sum == nil {
-		return fail(e, exitUsage, err)
+		// Nothing was run: a bad manifest or options are bad input (2);
+		// an output folder that cannot be locked or written, or an
+		// interruption while waiting for the lock, a failure (1).
+		if errors.Is(err, survey.ErrManifest) || errors.Is(err, survey.ErrShard) || errors.Is(err, survey.ErrOptions) {
+			return fail(e, exitUsage, err)
+		}
+		return fail(e, exitFailed, err)
 	}
 	code := exitOK
 	if err != nil {

@@ -44,6 +44,12 @@ replace, the team's scientific judgement.`)
 	if err := c.workersOK(); err != nil {
 		return fail(e, exitUsage, err)
 	}
+	if err := periodRangeOK(*pmin, *pmax); err != nil {
+		return fail(e, exitUsage, err)
+	}
+	if err := countOK("--max-signals", *maxSig, "4"); err != nil {
+		return fail(e, exitUsage, err)
+	}
 	ps, err := parsePeriods(*periods)
 	if err != nil {
 		return fail(e, exitUsage, err)
