@@ -48,6 +48,10 @@ type Entry struct {
 	// the table's own statement, else m/s).
 	Columns map[string]string
 	RVUnit  string
+	// Photometry is the star's light curve (a table read with
+	// photometry.Read), "" for none. A relative path is taken from
+	// Manifest.Dir.
+	Photometry string
 	// Line is the entry's line in the manifest file, 0 when unknown.
 	Line int
 }
@@ -65,7 +69,7 @@ type Manifest struct {
 
 // csvColumns are the columns a CSV manifest may have; name and data are
 // required.
-var csvColumns = []string{"name", "data", "star_file", "periods", "columns", "rv_unit",
+var csvColumns = []string{"name", "data", "star_file", "periods", "columns", "rv_unit", "photometry",
 	"b_v", "mass", "teff", "vsini", "rotation_period", "rotation_period_err"}
 
 // inlineKeys are the star parameters a manifest may give inline, with
@@ -85,7 +89,8 @@ var inlineKeys = []string{"b_v", "mass", "teff", "vsini", "rotation_period", "ro
 //
 // The columns are name and data (required), star_file, periods (days,
 // separated by ';' or blanks), columns (a column map such as
-// "rv=vrad;time=bjd"), rv_unit (m/s or km/s) and the inline star
+// "rv=vrad;time=bjd"), rv_unit (m/s or km/s), photometry (the star's
+// light curve, a table of time, flux or mag and its error) and the inline star
 // parameters b_v, mass, teff, vsini, rotation_period and
 // rotation_period_err (units as in a star file; empty means not given).
 //
@@ -177,7 +182,7 @@ func ParseManifestCSV(r io.Reader, name string) (*Manifest, error) {
 			}
 			return ""
 		}
-		e := Entry{Name: get("name"), Data: get("data"), StarFile: get("star_file"), RVUnit: get("rv_unit"), Line: line}
+		e := Entry{Name: get("name"), Data: get("data"), StarFile: get("star_file"), RVUnit: get("rv_unit"), Photometry: get("photometry"), Line: line}
 		bad := func(c, msg string) error { return &ManifestError{File: name, Line: line, Column: c, Msg: msg} }
 		if p := get("periods"); p != "" {
 			for _, f := range strings.FieldsFunc(p, func(r rune) bool { return r == ';' || r == ' ' || r == '\t' }) {
@@ -234,6 +239,7 @@ type tomlEntry struct {
 	Periods           []float64 `toml:"periods"`
 	Columns           string    `toml:"columns"`
 	RVUnit            string    `toml:"rv_unit"`
+	Photometry        string    `toml:"photometry"`
 	BV                *float64  `toml:"b_v"`
 	Mass              *float64  `toml:"mass"`
 	Teff              *float64  `toml:"teff"`
@@ -262,7 +268,7 @@ func ParseManifestTOML(b []byte, name string) (*Manifest, error) {
 	m := &Manifest{File: name}
 	for i, t := range doc.Star {
 		line := starLine(b, i+1)
-		e := Entry{Name: strings.TrimSpace(t.Name), Data: t.Data, StarFile: t.StarFile, Periods: t.Periods, RVUnit: t.RVUnit, Line: line}
+		e := Entry{Name: strings.TrimSpace(t.Name), Data: t.Data, StarFile: t.StarFile, Periods: t.Periods, RVUnit: t.RVUnit, Photometry: t.Photometry, Line: line}
 		if t.Columns != "" {
 			cm, err := rvfit.ParseColumnMap(t.Columns)
 			if err != nil {

@@ -526,6 +526,9 @@ func analyse(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options
 	do.Star = star
 	do.Seed = seed
 	do.SkipModels = o.SkipModels
+	if do.LightCurve, err = loadLightCurve(m, e); err != nil {
+		return outcome{err: err}
+	}
 	dg, err := activity.Diagnose(ctx, s, &do)
 	if err != nil {
 		return outcome{err: err}

@@ -244,6 +244,14 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 		line("star_file", sum)
 		inputs = append(inputs, activity.InputHash{Path: e.StarFile, SHA256: sum})
 	}
+	if e.Photometry != "" {
+		sum, err := activity.HashFile(m.path(e.Photometry))
+		if err != nil {
+			return "", nil, fmt.Errorf("photometry: %w", err)
+		}
+		line("photometry", sum)
+		inputs = append(inputs, activity.InputHash{Path: e.Photometry, SHA256: sum})
+	}
 	switch {
 	case e.Series != nil:
 		var buf bytes.Buffer
