@@ -59,6 +59,27 @@ type MeasureOptions struct {
 	// the spectra it lists (see ReadSideTable); spectra it does not list
 	// keep the values from their headers.
 	Side map[string]SideEntry
+	// Report, when not nil, receives what Measure noticed besides the
+	// failures: the mask used, files skipped as not spectra, warnings on
+	// kept spectra and the barycentric conventions met.
+	Report *MeasureReport
+}
+
+// MeasureReport is what Measure noticed besides the failures.
+type MeasureReport struct {
+	// Mask is the mask used; for a mask built from the spectra, Mask.Build
+	// names the spectra used and left out and gives the systemic velocity,
+	// and Mask.Relative says when no rest frame was found.
+	Mask *indicators.Mask
+	// Skipped names the files that are not spectra (masks, notes), with
+	// what they look like; they are not failures.
+	Skipped []MeasureFailure
+	// Warnings names spectra kept whole but with something to check, such
+	// as an index band that does not sit on its line.
+	Warnings []MeasureFailure
+	// Conventions describes, once each, how the barycentric corrections
+	// of the spectra were composed (indicators.BaryConvention.Describe).
+	Conventions []string
 }
 
 // SideEntry is one row of a side table: what a file's header lacks or gets
@@ -67,7 +88,8 @@ type SideEntry struct {
 	// BJD is the mid-exposure epoch, BJD_TDB in days.
 	BJD float64
 	// BERV is the barycentric correction in m/s, to be added to measured
-	// velocities.
+	// velocities: the radial component of the observer's barycentric
+	// velocity (indicators.BaryVelocity, transverse term included).
 	BERV float64
 }
 
@@ -181,6 +203,10 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 		return nil, nil, fmt.Errorf("%w: no files given", ErrNoSpectra)
 	}
 	var failures []MeasureFailure
+	rep := opts.Report
+	if rep == nil {
+		rep = &MeasureReport{}
+	}
 	mask := opts.Mask
 	if mask == nil {
 		m, err := BuildMask(paths, opts)
@@ -189,6 +215,7 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 		}
 		mask = m
 	}
+	rep.Mask = mask
 	iopts := measureIndicatorOptions(opts)
 
 	workers := opts.Workers
@@ -208,6 +235,7 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 	type item struct {
 		res        *indicators.Result
 		instrument string
+		bary       indicators.BaryConvention
 		err        error
 	}
 	items := make([]item, len(paths))
@@ -220,12 +248,16 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 		go func() {
 			defer wg.Done()
 			for i := range jobs {
-				s, err := readSpectrum(paths[i], opts)
-				if err == nil {
+				items[i].err = guard(paths[i], func() error {
+					s, err := readSpectrum(paths[i], opts)
+					if err != nil {
+						return err
+					}
 					items[i].instrument = instrumentOf(s, opts.Instrument)
+					items[i].bary = s.Bary
 					items[i].res, err = measureOne(s, mask, iopts)
-				}
-				items[i].err = err
+					return err
+				})
 				if opts.Progress != nil {
 					mu.Lock()
 					done++
@@ -248,7 +280,12 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 	}
 
 	var keep []int
+	conv := map[indicators.BaryConvention]bool{}
 	for i, it := range items {
+		if errors.Is(it.err, indicators.ErrNotSpectrum) {
+			rep.Skipped = append(rep.Skipped, MeasureFailure{Path: paths[i], Err: it.err})
+			continue
+		}
 		if it.err != nil {
 			failures = append(failures, MeasureFailure{Path: paths[i], Err: it.err})
 			continue
@@ -257,9 +294,21 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 		if perr := partialError(it.res); perr != nil {
 			failures = append(failures, MeasureFailure{Path: paths[i], Partial: true, Err: perr})
 		}
+		for _, w := range it.res.Warnings {
+			rep.Warnings = append(rep.Warnings, MeasureFailure{Path: paths[i], Partial: true, Err: errors.New(w)})
+		}
+		if it.res.BERV != 0 || it.bary == indicators.BaryRedshift {
+			if !conv[it.bary] {
+				conv[it.bary] = true
+				rep.Conventions = append(rep.Conventions, it.bary.Describe())
+			}
+		}
 	}
 	if len(keep) == 0 {
-		return nil, failures, fmt.Errorf("%w: all %d spectra failed", ErrNoSpectra, len(paths))
+		if len(rep.Skipped) == len(paths) {
+			return nil, failures, fmt.Errorf("%w: none of the %d files is a spectrum", ErrNoSpectra, len(paths))
+		}
+		return nil, failures, fmt.Errorf("%w: all %d spectra failed", ErrNoSpectra, len(paths)-len(rep.Skipped))
 	}
 	sort.SliceStable(keep, func(a, b int) bool {
 		ta, tb := items[keep[a]].res.BJD, items[keep[b]].res.BJD
@@ -352,7 +401,11 @@ func BuildMask(paths []string, opts *MeasureOptions) (*indicators.Mask, error) {
 		if len(specs) == n {
 			break
 		}
-		s, err := readSpectrum(p, opts)
+		var s *indicators.Spectrum
+		err := guard(p, func() (err error) {
+			s, err = readSpectrum(p, opts)
+			return err
+		})
 		if err != nil {
 			continue
 		}
@@ -361,11 +414,31 @@ func BuildMask(paths []string, opts *MeasureOptions) (*indicators.Mask, error) {
 	if len(specs) == 0 {
 		return nil, fmt.Errorf("%w: no spectrum could be read to build a mask", ErrNoSpectra)
 	}
-	m, err := indicators.BuildMask(specs, opts.MaskOptions)
+	var m *indicators.Mask
+	err := guard("the mask", func() (err error) {
+		m, err = indicators.BuildMask(specs, opts.MaskOptions)
+		return err
+	})
 	if err != nil {
-		return nil, fmt.Errorf("building a mask: %w", err)
+		return nil, fmt.Errorf("building a mask from %d spectra: %w", len(specs), err)
 	}
 	return m, nil
+}
+
+// ErrInternal is wrapped by the failure of a spectrum whose reading or
+// measurement ran into a bug (a recovered panic).
+var ErrInternal = errors.New("activity: internal error")
+
+// guard runs f, turning a panic into an error wrapping ErrInternal that
+// names what was being done; the panic's own text (a program detail) is not
+// shown.
+func guard(what string, f func() error) (err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			err = fmt.Errorf("%s: %w while reading or measuring it (a bug in spotsift; please report it with this file)", what, ErrInternal)
+		}
+	}()
+	return f()
 }
 
 // readSpectrum reads one file and applies the side table.
@@ -380,6 +453,7 @@ func readSpectrum(path string, opts *MeasureOptions) (*indicators.Spectrum, erro
 		}
 		if e.BERV != 0 {
 			s.BERV = e.BERV
+			s.Bary = indicators.BaryVelocity
 		}
 	}
 	return s, nil
@@ -435,12 +509,16 @@ func partialError(r *indicators.Result) error {
 	add(r.DeltaV)
 	add(r.Vspan)
 	add(r.Chromatic)
-	add(r.SIndex)
-	if r.SIndex.Err == nil && !errors.Is(r.LogRHK.Err, indicators.ErrNoColour) {
-		add(r.LogRHK)
+	// Indices left out for want of a rest frame are reported once, with
+	// the mask.
+	if !errors.Is(r.SIndex.Err, indicators.ErrNoZeroPoint) {
+		add(r.SIndex)
+		if r.SIndex.Err == nil && !errors.Is(r.LogRHK.Err, indicators.ErrNoColour) {
+			add(r.LogRHK)
+		}
+		add(r.HAlpha)
+		add(r.NaD)
 	}
-	add(r.HAlpha)
-	add(r.NaD)
 	if len(msgs) == 0 {
 		return nil
 	}

@@ -34,6 +34,10 @@ var (
 	ErrParse           = errors.New("indicators: cannot parse")
 	ErrNoColour        = errors.New("indicators: B-V not given")
 	ErrNotRequested    = errors.New("indicators: not requested")
+	ErrNotRegular      = errors.New("indicators: not a regular file")
+	ErrTooLarge        = errors.New("indicators: file too large")
+	ErrNotSpectrum     = errors.New("indicators: not a spectrum")
+	ErrNoZeroPoint     = errors.New("indicators: the mask has no rest frame, so the index bands cannot be placed (give the systemic velocity or a mask of rest wavelengths)")
 )
 
 // FileError reports a problem at a place in a spectrum or mask file. Empty

@@ -73,15 +73,79 @@ type ReadOptions struct {
 
 // ReadFile reads the spectrum in the file at path: a FITS file when it
 // starts with "SIMPLE  =", else a text file (see ReadText).
+//
+// Only regular files are read (not a FIFO, a device such as /dev/zero or a
+// directory: the error wraps ErrNotRegular), and no more than
+// MaxFileSize bytes. A text file that is recognisably not a spectrum — a
+// line mask, notes, a binary file of another kind — gives an error wrapping
+// ErrNotSpectrum that says what it looks like.
 func ReadFile(path string, opts *ReadOptions) (*Spectrum, error) {
-	data, err := os.ReadFile(path)
+	data, err := ReadRegularFile(path, MaxFileSize)
 	if err != nil {
 		return nil, err
 	}
 	if bytes.HasPrefix(data, []byte("SIMPLE  =")) {
 		return readFITSBytes(data, path, opts)
 	}
+	if why := notSpectrum(data); why != "" {
+		return nil, fileErr(path, -1, "", fmt.Errorf("%w: %s", ErrNotSpectrum, why))
+	}
 	return ReadText(bytes.NewReader(data), path, opts)
+}
+
+// MaxFileSize is the largest spectrum or mask file ReadFile and
+// ReadMaskFile read, in bytes (2 GiB).
+const MaxFileSize = 2 << 30
+
+// ReadRegularFile reads the regular file at path, refusing anything else
+// (a FIFO, a device, a directory: an error wrapping ErrNotRegular, found
+// without blocking or reading) and files larger than limit bytes (an error
+// wrapping ErrTooLarge).
+func ReadRegularFile(path string, limit int64) ([]byte, error) {
+	fi, err := os.Stat(path)
+	if err != nil {
+		return nil, err
+	}
+	if !fi.Mode().IsRegular() {
+		return nil, fileErr(path, -1, "", fmt.Errorf("%w (%s)", ErrNotRegular, fileKind(fi.Mode())))
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	// The file may have been replaced between Stat and Open.
+	if fi, err = f.Stat(); err != nil {
+		return nil, err
+	}
+	if !fi.Mode().IsRegular() {
+		return nil, fileErr(path, -1, "", fmt.Errorf("%w (%s)", ErrNotRegular, fileKind(fi.Mode())))
+	}
+	if fi.Size() > limit {
+		return nil, fileErr(path, -1, "", fmt.Errorf("%w: %d bytes, at most %d", ErrTooLarge, fi.Size(), limit))
+	}
+	data, err := io.ReadAll(io.LimitReader(f, limit+1))
+	if err != nil {
+		return nil, fileErr(path, -1, "", err)
+	}
+	if int64(len(data)) > limit {
+		return nil, fileErr(path, -1, "", fmt.Errorf("%w: more than %d bytes", ErrTooLarge, limit))
+	}
+	return data, nil
+}
+
+func fileKind(m os.FileMode) string {
+	switch {
+	case m.IsDir():
+		return "a directory"
+	case m&os.ModeNamedPipe != 0:
+		return "a FIFO"
+	case m&os.ModeDevice != 0 || m&os.ModeCharDevice != 0:
+		return "a device"
+	case m&os.ModeSocket != 0:
+		return "a socket"
+	}
+	return "not a regular file"
 }
 
 // ReadFITS reads a spectrum from the FITS file in r; name is used in error
@@ -106,9 +170,12 @@ func ReadFile(path string, opts *ReadOptions) (*Spectrum, error) {
 // is a *FileError naming the file and, where it applies, the HDU and
 // keyword; a damaged file never panics.
 func ReadFITS(r io.Reader, name string, opts *ReadOptions) (*Spectrum, error) {
-	data, err := io.ReadAll(r)
+	data, err := io.ReadAll(io.LimitReader(r, MaxFileSize+1))
 	if err != nil {
 		return nil, fileErr(name, -1, "", err)
+	}
+	if len(data) > MaxFileSize {
+		return nil, fileErr(name, -1, "", fmt.Errorf("%w: more than %d bytes", ErrTooLarge, MaxFileSize))
 	}
 	return readFITSBytes(data, name, opts)
 }
@@ -222,9 +289,12 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 					}
 				case strings.HasPrefix(key, "NAXIS"):
 					var k, n int
-					if k, err = strconv.Atoi(key[5:]); err != nil {
+					if k, err = strconv.Atoi(key[5:]); err != nil || !allDigits(key[5:]) {
 						err = nil
 						continue
+					}
+					if k < 1 || k > 999 {
+						return nil, fileErr(name, h, key, fmt.Errorf("%w: axis keywords run from NAXIS1 to NAXIS999", ErrBadKeyword))
 					}
 					if n, err = ival(); err == nil {
 						for len(sp.axes) < k {
@@ -310,6 +380,16 @@ func structural(k string) bool {
 		return true
 	}
 	return strings.HasPrefix(k, "NAXIS") || strings.HasPrefix(k, "TFORM")
+}
+
+// allDigits reports whether s is a non-empty string of ASCII digits.
+func allDigits(s string) bool {
+	for i := 0; i < len(s); i++ {
+		if s[i] < '0' || s[i] > '9' {
+			return false
+		}
+	}
+	return s != ""
 }
 
 func allPadding(b []byte) bool {
@@ -629,7 +709,7 @@ func readFITSBytes(data []byte, name string, opts *ReadOptions) (*Spectrum, erro
 		case ws == "air" || av == "air":
 			s.Vacuum = false
 		default:
-			return nil, fileErr(name, fluxHDU, "CTYPE1", ErrUnknownScale)
+			return nil, fileErr(name, fluxHDU, "CTYPE1", fmt.Errorf("%w: say so in the header (CTYPE1 = 'AWAV' for air or 'WAVE' for vacuum, or WAVESCAL = 'air' or 'vacuum'), or give the scale of every spectrum (--scale air or --scale vacuum)", ErrUnknownScale))
 		}
 	}
 
@@ -852,6 +932,17 @@ func readEpoch(s *Spectrum, look func(string) header, opts *ReadOptions) error {
 	if unit == 0 {
 		unit = 1000
 	}
+	if look("BARYZ").has("BARYZ") {
+		z, err := look("BARYZ").float("BARYZ")
+		if err != nil {
+			return err
+		}
+		if !(z > -0.001 && z < 0.001) {
+			h := look("BARYZ")
+			return fileErr(h.file, h.hdu, "BARYZ", fmt.Errorf("%w: barycentric redshift %v, want |z| < 0.001", ErrBadKeyword, z))
+		}
+		s.Bary, s.BaryZ = BaryRedshift, z
+	}
 	if bk == "" {
 		if !look("BERV").has("BERV") {
 			return nil
@@ -863,7 +954,20 @@ func readEpoch(s *Spectrum, look func(string) header, opts *ReadOptions) error {
 		return err
 	}
 	s.BERV = v * unit
+	if s.Bary != BaryRedshift {
+		s.Bary = bervConvention(look("BERVCONV").str("BERVCONV"))
+	}
 	return nil
+}
+
+// bervConvention maps the BERVCONV keyword onto a convention: 'RADIAL'
+// keeps a purely radial BERV (as WriteFITS records for simulated spectra);
+// anything else, or no keyword, is BaryVelocity.
+func bervConvention(v string) BaryConvention {
+	if strings.EqualFold(strings.TrimSpace(v), "RADIAL") {
+		return BaryRadial
+	}
+	return BaryVelocity
 }
 
 // isoToJD parses an ISO 8601 date or date-time (as in DATE-OBS) as a Julian

@@ -37,7 +37,9 @@ import (
 // The primary header carries the epoch three ways, BJD_TDB (days, full
 // precision), MJD-OBS = BJD_TDB − 2400000.5 and DATE-OBS (ISO 8601, from the
 // same number; these two are barycentric here, not UTC), the barycentric
-// correction as BERV in km/s when it is not zero, WAVESCAL = 'air' or
+// correction as BERV in km/s when it is not zero with its convention as
+// BERVCONV ('RADIAL', 'VELOCITY' or 'REDSHIFT', see BaryConvention) and
+// z_B as BARYZ for the last, WAVESCAL = 'air' or
 // 'vacuum', and the keywords of Spectrum.Header.
 
 // FITSEncoder writes spectra as FITS files. Its zero value writes float64
@@ -98,7 +100,7 @@ var reservedKeys = map[string]bool{
 	"EXTEND": true, "XTENSION": true, "PCOUNT": true, "GCOUNT": true, "EXTNAME": true,
 	"END": true, "CTYPE1": true, "CRVAL1": true, "CDELT1": true, "CRPIX1": true,
 	"CUNIT1": true, "CD1_1": true, "BUNIT": true, "BSCALE": true, "BZERO": true,
-	"BJD_TDB": true, "MJD-OBS": true, "DATE-OBS": true, "BERV": true, "WAVESCAL": true,
+	"BJD_TDB": true, "MJD-OBS": true, "DATE-OBS": true, "BERV": true, "WAVESCAL": true, "BERVCONV": true, "BARYZ": true,
 	"DC-FLAG": true,
 }
 
@@ -189,6 +191,12 @@ func (e *FITSEncoder) Encode(w io.Writer, s *Spectrum) error {
 	}
 	if s.BERV != 0 {
 		prim = append(prim, card{"BERV", s.BERV / 1000, "barycentric correction to add [km/s]"})
+	}
+	if s.BERV != 0 || s.Bary == BaryRedshift {
+		prim = append(prim, card{"BERVCONV", s.Bary.String(), "how the correction composes (spotsift)"})
+	}
+	if s.Bary == BaryRedshift {
+		prim = append(prim, card{"BARYZ", s.BaryZ, "barycentric redshift z_B"})
 	}
 	keys := make([]string, 0, len(s.Header))
 	for k := range s.Header {

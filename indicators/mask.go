@@ -2,10 +2,10 @@ package indicators
 
 import (
 	"bufio"
+	"bytes"
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"sort"
 	"strconv"
 	"strings"
@@ -25,6 +25,14 @@ type Mask struct {
 	Weight []float64
 	// Vacuum reports whether the wavelengths are vacuum wavelengths.
 	Vacuum bool
+	// Relative reports whether the wavelengths are not rest wavelengths
+	// but in the frame of one spectrum (a mask BuildMask could not give a
+	// zero point): velocities measured with it are relative, and Measure
+	// does not place the chromospheric bands with them.
+	Relative bool
+	// Build, for a mask made by BuildMask, says how: the spectra used and
+	// left out, and the systemic velocity found.
+	Build *MaskBuild
 }
 
 // NewMask returns a mask of the lines (wavelength in Å, weight), sorted by
@@ -70,7 +78,7 @@ func (m *Mask) onScale(vacuum bool) *Mask {
 	if m.Vacuum == vacuum {
 		return m
 	}
-	c := &Mask{Name: m.Name, Wavelength: make([]float64, len(m.Wavelength)), Weight: append([]float64(nil), m.Weight...), Vacuum: vacuum}
+	c := &Mask{Name: m.Name, Wavelength: make([]float64, len(m.Wavelength)), Weight: append([]float64(nil), m.Weight...), Vacuum: vacuum, Relative: m.Relative, Build: m.Build}
 	for i, w := range m.Wavelength {
 		c.Wavelength[i] = onScale(w, m.Vacuum, vacuum)
 	}
@@ -138,7 +146,7 @@ func ReadMask(r io.Reader, name string, opts *ReadOptions) (*Mask, error) {
 		case "vacuum", "vac":
 			vac = true
 		default:
-			return nil, fileErr(name, -1, "WAVESCAL", ErrUnknownScale)
+			return nil, &FileError{File: name, HDU: -1, Line: 1, Order: -1, Pixel: -1, Err: fmt.Errorf("%w: a mask says whether its wavelengths are in air or vacuum in a header line of its own: add the line \"# WAVESCAL = air\" (or \"# WAVESCAL = vacuum\") at the top of the file, before the first wavelength", ErrUnknownScale)}
 		}
 	}
 	m, err := NewMask(wl, wt, vac)
@@ -150,13 +158,14 @@ func ReadMask(r io.Reader, name string, opts *ReadOptions) (*Mask, error) {
 }
 
 // ReadMaskFile reads the mask in the text file at path with ReadMask.
+// Only a regular file is read (see ReadRegularFile), of at most
+// MaxFileSize bytes.
 func ReadMaskFile(path string, opts *ReadOptions) (*Mask, error) {
-	f, err := os.Open(path)
+	data, err := ReadRegularFile(path, MaxFileSize)
 	if err != nil {
 		return nil, err
 	}
-	defer f.Close()
-	return ReadMask(f, path, opts)
+	return ReadMask(bytes.NewReader(data), path, opts)
 }
 
 // WriteMask writes m as text that ReadMask reads back exactly.
@@ -166,7 +175,7 @@ func WriteMask(w io.Writer, m *Mask) error {
 	if m.Vacuum {
 		scale = "vacuum"
 	}
-	fmt.Fprintf(bw, "# spotsift line mask: wavelength [Angstrom], weight\n# WAVESCAL = %s\n", scale)
+	fmt.Fprintf(bw, "%s: wavelength [Angstrom], weight\n# WAVESCAL = %s\n", maskMarker, scale)
 	for i := range m.Wavelength {
 		fmt.Fprintf(bw, "%s %s\n", strconv.FormatFloat(m.Wavelength[i], 'g', -1, 64), strconv.FormatFloat(m.Weight[i], 'g', -1, 64))
 	}

@@ -45,30 +45,97 @@ type MaskOptions struct {
 	// Active lists regions (air, stellar rest frame) to reject; nil means
 	// DefaultActive, an empty non-nil slice none.
 	Active []Region
-	// Systemic is the star's systemic velocity in m/s, used (when
-	// FixedSystemic is set) to put the mask in the stellar rest frame.
+	// Systemic is the star's barycentric systemic velocity in m/s, used
+	// (when FixedSystemic is set) to put the mask in the stellar rest frame.
 	Systemic float64
 	// FixedSystemic reports whether Systemic is used as given; by default
-	// the velocity is estimated from the Na I D and H-alpha minima of the
-	// co-added spectrum against their laboratory wavelengths (0 when they
-	// are not found), good to about 1 km/s.
+	// the rest frame is found by identifying lines of the co-added
+	// spectrum in LabLines.
 	FixedSystemic bool
 	// MaxSpectra bounds how many spectra are co-added (the first ones
 	// given); zero means all.
 	MaxSpectra int
 }
 
-// BuildMask derives a weighted line mask from a star's own spectra: it
-// co-adds them (each moved to the first one's frame by the difference of
-// their BERVs and resampled by linear interpolation onto the first spectrum's grid),
-// normalises the co-add by an upper envelope (the 0.9 quantile of the flux
-// in windows of 2 Å, interpolated), and keeps local minima deeper than
-// MinDepth that are the lowest point of their line down to half depth, and
-// neither blended (MinSeparation), nor in a telluric region, nor in an
-// activity-sensitive region. Line centres and depths come from a Gaussian
-// fitted to each line's core; weights are the depths. The
-// mask is moved to the stellar rest frame by the systemic velocity and has
-// the air or vacuum scale of the spectra.
+// ZeroPoint says how a built mask's rest frame was set.
+type ZeroPoint int
+
+const (
+	// ZeroNone: no rest frame; the mask is in the observer's frame of its
+	// first spectrum, and velocities measured with it are relative.
+	ZeroNone ZeroPoint = iota
+	// ZeroLabLines: lines of the co-added spectrum were identified in
+	// LabLines.
+	ZeroLabLines
+	// ZeroGiven: the systemic velocity was given (MaskOptions.Systemic).
+	ZeroGiven
+)
+
+// MaskBuild records how BuildMask made a mask.
+type MaskBuild struct {
+	// Spectra names the spectra co-added.
+	Spectra []string
+	// LeftOut names the spectra left out of the co-add, with the reason.
+	LeftOut []LeftOut
+	// ZeroPoint says how the rest frame was set.
+	ZeroPoint ZeroPoint
+	// Systemic and SystemicSigma are the star's barycentric velocity and
+	// its statistical error in m/s (NaN with ZeroNone; SystemicSigma is NaN
+	// with ZeroGiven). The error leaves out the systematic floor of about
+	// 0.5 km/s (see LabLines).
+	Systemic, SystemicSigma float64
+	// Identified is the number of LabLines matched, Candidates the number
+	// that fall inside the spectra.
+	Identified, Candidates int
+	// StrongOnly reports whether the rest frame rests on the broad strong
+	// lines only (StrongLabLines): too few of LabLines were matched.
+	StrongOnly bool
+	// Problem says, with ZeroNone, why no line could be identified.
+	Problem string
+}
+
+// StrongLabLines are the broad strong lines of LabLines (Ca II K and H,
+// the Balmer lines, Mg I b, Ca I 4227, Na I D), air, Å, from the same
+// source. BuildMask falls back on them when too few of LabLines are found.
+var StrongLabLines = []LabLine{
+	{"Ca II", 3933.663}, {"Ca II", 3968.468}, {"H I", 4101.734}, {"Ca I", 4226.728},
+	{"H I", 4340.462}, {"H I", 4861.323}, {"Mg I", 5167.321}, {"Mg I", 5172.684},
+	{"Mg I", 5183.604}, {"Na I", 5889.951}, {"Na I", 5895.924}, {"H I", 6562.797},
+}
+
+// LeftOut is a spectrum left out of a mask's co-add.
+type LeftOut struct {
+	Name, Reason string
+}
+
+// BuildMask derives a weighted line mask from a star's own spectra.
+//
+// Each spectrum is moved to the first one's frame by the ratio of their
+// barycentric factors, resampled by linear interpolation onto the first
+// spectrum's grid and scaled to a median of 1; the co-add is the median of
+// these, pixel by pixel, so that one odd spectrum cannot dominate it.
+// A spectrum whose flux hardly correlates with the co-add (correlation
+// below half the median of all spectra's, or undefined, as for a constant
+// flux) is named in Build.LeftOut and left out. The co-add is normalised
+// by an upper envelope (the 0.9 quantile of the flux in windows of 2 Å,
+// interpolated); local minima deeper than MinDepth that are the lowest
+// point of their line down to half depth, and neither blended
+// (MinSeparation), nor in a telluric region, nor in an activity-sensitive
+// region, are kept. Line centres and depths come from a Gaussian fitted to
+// each line's core; weights are the depths.
+//
+// The rest frame: unless FixedSystemic, the minima of the co-add are
+// matched against LabLines (on the spectra's air or vacuum scale) over
+// velocities within ±600 km/s; the velocity where most laboratory lines
+// find a minimum within a tolerance (a quarter of the median line FWHM,
+// 1.5 to 5 km/s) is accepted when that count stands clear of chance
+// matches (at least 6 and above the median count over all velocities by
+// 6 times its square root, plus 3), and refined to the mean offset of the
+// matched lines after clipping. The mask then carries rest wavelengths and
+// Build reports the barycentric systemic velocity with its error. When no
+// match is good enough the mask is left in the first spectrum's frame,
+// Relative is set and Build.Problem says why: velocities measured with it
+// are relative, and Measure leaves the chromospheric indices out.
 //
 // Reference: the weighting by line depth follows Pepe et al. 2002, A&A 388,
 // 632 (from memory); the rest is common practice. It returns an error
@@ -85,7 +152,7 @@ func BuildMask(spectra []*Spectrum, opts *MaskOptions) (*Mask, error) {
 	if o.MinDepth == 0 {
 		o.MinDepth = 0.05
 	}
-	if !(o.MinDepth > 0 && o.MinDepth < 1) || o.MinSeparation < 0 || o.MaxSpectra < 0 {
+	if !(o.MinDepth > 0 && o.MinDepth < 1) || o.MinSeparation < 0 || o.MaxSpectra < 0 || math.IsNaN(o.Systemic) || math.Abs(o.Systemic) >= C {
 		return nil, fmt.Errorf("%w: mask options %+v", ErrBadParameter, o)
 	}
 	if o.Telluric == nil {
@@ -106,108 +173,65 @@ func BuildMask(spectra []*Spectrum, opts *MaskOptions) (*Mask, error) {
 			return nil, fmt.Errorf("%w: %s and %s", ErrScaleMismatch, ref.Name, s.Name)
 		}
 	}
-	maxBERV := 0.0
-	for _, s := range spectra {
-		maxBERV = math.Max(maxBERV, math.Abs(s.BERV-ref.BERV))
+	build := &MaskBuild{Systemic: math.NaN(), SystemicSigma: math.NaN()}
+	coadd, used, err := coAdd(spectra, build)
+	if err != nil {
+		return nil, err
 	}
-	// Co-add onto the reference grid, in the observer's frame of the
-	// reference: a spectrum with BERV b is moved by D(b)/D(b_ref).
+	maxBERV := 0.0
+	for j, s := range spectra {
+		if used[j] {
+			maxBERV = math.Max(maxBERV, C*math.Abs(s.baryLog()-ref.baryLog()))
+			build.Spectra = append(build.Spectra, s.Name)
+		}
+	}
 	var found []maskLine
-	for _, ord := range ref.Orders {
-		n := len(ord.Wavelength)
-		sum := make([]float64, n)
-		cnt := make([]float64, n)
-		for _, s := range spectra {
-			d := math.Exp(LogDopplerFactor(s.BERV) - LogDopplerFactor(ref.BERV))
-			for _, so := range s.Orders {
-				if so.Wavelength[len(so.Wavelength)-1]*d < ord.Wavelength[0] || so.Wavelength[0]*d > ord.Wavelength[n-1] {
-					continue
-				}
-				resampleAdd(sum, cnt, ord.Wavelength, so.Wavelength, so.Flux, d)
-			}
-		}
-		f := make([]float64, n)
-		for i := range f {
-			if cnt[i] > 0 {
-				f[i] = sum[i] / cnt[i]
-			} else {
-				f[i] = math.NaN()
-			}
-		}
-		cont := envelope(ord.Wavelength, f, 2.0, 0.9)
-		for i := 2; i+2 < n; i++ {
-			if math.IsNaN(f[i-1]) || math.IsNaN(f[i]) || math.IsNaN(f[i+1]) || !(cont[i] > 0) {
-				continue
-			}
-			if !(f[i] < f[i-1] && f[i] <= f[i+1]) {
-				continue
-			}
-			// The minimum must be the lowest point down to half its depth
-			// on both sides (noise makes several minima in one line).
-			depth0 := 1 - f[i]/cont[i]
-			if depth0 < o.MinDepth {
-				continue
-			}
-			half := cont[i] * (1 - depth0/2)
-			l, r := i, i
-			lowest := true
-			for l > 0 && f[l] < half && !math.IsNaN(f[l]) {
-				l--
-				if f[l] < f[i] {
-					lowest = false
-				}
-			}
-			for r < n-1 && f[r] < half && !math.IsNaN(f[r]) {
-				r++
-				if f[r] < f[i] {
-					lowest = false
-				}
-			}
-			if !lowest || math.IsNaN(f[l]) || math.IsNaN(f[r]) {
-				continue
-			}
-			// Fit a Gaussian to the core (down to half depth, at least 7
-			// pixels) in velocity about pixel i.
-			for r-l < 6 && l > 0 && r < n-1 {
-				l--
-				r++
-			}
-			x := make([]float64, 0, r-l+1)
-			y := make([]float64, 0, r-l+1)
-			for j := l; j <= r; j++ {
-				x = append(x, C*math.Log(ord.Wavelength[j]/ord.Wavelength[i]))
-				y = append(y, f[j]/cont[i])
-			}
-			sg := C * (ord.Wavelength[r] - ord.Wavelength[l]) / ord.Wavelength[i] / 2.3548
-			res, ok := lmFit(x, y, ones(len(x)), []float64{1, depth0, 0, math.Max(sg, 1)}, gaussModel, 100)
-			if !ok || math.Abs(res.theta[2]) > x[len(x)-1]-x[0] {
-				continue
-			}
-			lam := ord.Wavelength[i] * math.Exp(LogDopplerFactor(res.theta[2]))
-			depth := res.theta[1] / res.theta[0]
-			fwhm := 2.3548 * math.Abs(res.theta[3])
-			if depth < o.MinDepth || depth >= 1 {
-				continue
-			}
-			found = append(found, maskLine{lam, depth, fwhm})
-		}
+	for oi, ord := range ref.Orders {
+		found = append(found, findLines(ord.Wavelength, coadd[oi], o.MinDepth)...)
 	}
 	if len(found) == 0 {
 		return nil, fmt.Errorf("%w: no line deeper than %.3g in the co-added spectra", ErrNoMaskLines, o.MinDepth)
 	}
 	sort.Slice(found, func(a, b int) bool { return found[a].lambda < found[b].lambda })
-	// Systemic velocity.
-	vsys := o.Systemic
-	if !o.FixedSystemic {
-		vsys = VelocityFromLog(LogDopplerFactor(estimateSystemic(ref, found)) + LogDopplerFactor(ref.BERV))
-	}
-	// Blends.
 	ws := make([]float64, len(found))
 	for i, l := range found {
 		ws[i] = l.fwhm
 	}
 	sort.Float64s(ws)
 	medFWHM := ws[len(ws)/2]
+	// The rest frame: vco is the star's velocity in the co-add's frame.
+	vco := 0.0
+	switch {
+	case o.FixedSystemic:
+		vco = VelocityFromLog(LogDopplerFactor(o.Systemic) - ref.baryLog())
+		build.ZeroPoint, build.Systemic = ZeroGiven, o.Systemic
+	default:
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, ord := range ref.Orders {
+			lo = math.Min(lo, ord.Wavelength[0])
+			hi = math.Max(hi, ord.Wavelength[len(ord.Wavelength)-1])
+		}
+		id := identifyLines(found, ref.Vacuum, lo, hi, medFWHM)
+		if id.problem != "" {
+			// Few laboratory lines, but the strongest broad ones may be
+			// there (spectra of invented lines plus the strong lines).
+			if id2 := identifyStrong(found, ref.Vacuum, medFWHM); id2.problem == "" {
+				id = id2
+				build.StrongOnly = true
+			} else {
+				id.problem += "; " + id2.problem
+			}
+		}
+		build.Identified, build.Candidates = id.n, id.candidates
+		if id.problem != "" {
+			build.Problem = id.problem
+		} else {
+			vco = id.v
+			build.ZeroPoint = ZeroLabLines
+			build.Systemic = ref.BarycentricVelocity(vco)
+			build.SystemicSigma = id.sigma
+		}
+	}
 	sep := o.MinSeparation
 	if sep == 0 {
 		sep = 2.5 * medFWHM
@@ -227,8 +251,8 @@ func BuildMask(spectra []*Spectrum, opts *MaskOptions) (*Mask, error) {
 			}
 		}
 	}
-	// Rest wavelength = co-added wavelength · D(BERV_ref)/D(v_sys).
-	dsys := math.Exp(LogDopplerFactor(vsys) - LogDopplerFactor(ref.BERV))
+	// Rest wavelength = co-added wavelength / D(vco).
+	dsys := DopplerFactor(vco)
 	inAny := func(lam float64, regs []Region, vacuum bool, widen float64) bool {
 		for _, r := range regs {
 			lo := onScale(r.Lo, false, vacuum) * (1 - widen/C)
@@ -264,7 +288,358 @@ func BuildMask(spectra []*Spectrum, opts *MaskOptions) (*Mask, error) {
 		return nil, err
 	}
 	m.Name = "built from " + ref.Name
+	m.Build = build
+	m.Relative = build.ZeroPoint == ZeroNone
 	return m, nil
+}
+
+// coAdd resamples every spectrum onto the first one's grid and frame,
+// scales each to a median of 1 per order and returns the pixel-wise median
+// per order of the reference, leaving out (and recording in b) spectra that
+// do not follow the others. used reports which spectra were kept.
+func coAdd(spectra []*Spectrum, b *MaskBuild) (coadd [][]float64, used []bool, err error) {
+	ref := spectra[0]
+	ns := len(spectra)
+	stacks := make([][][]float32, len(ref.Orders))
+	for oi, ord := range ref.Orders {
+		n := len(ord.Wavelength)
+		st := make([][]float32, ns)
+		sum := make([]float64, n)
+		cnt := make([]float64, n)
+		for j, s := range spectra {
+			clear(sum)
+			clear(cnt)
+			d := math.Exp(s.baryLog() - ref.baryLog())
+			for _, so := range s.Orders {
+				if so.Wavelength[len(so.Wavelength)-1]*d < ord.Wavelength[0] || so.Wavelength[0]*d > ord.Wavelength[n-1] {
+					continue
+				}
+				resampleAdd(sum, cnt, ord.Wavelength, so.Wavelength, so.Flux, d)
+			}
+			row := make([]float32, n)
+			var vals []float64
+			for i := range row {
+				if cnt[i] > 0 {
+					row[i] = float32(sum[i] / cnt[i])
+					vals = append(vals, sum[i]/cnt[i])
+				} else {
+					row[i] = float32(math.NaN())
+				}
+			}
+			if len(vals) > 0 {
+				med := quickMedian(vals)
+				if med > 0 {
+					for i := range row {
+						row[i] /= float32(med)
+					}
+				}
+			}
+			st[j] = row
+		}
+		stacks[oi] = st
+	}
+	used = make([]bool, ns)
+	for j := range used {
+		used[j] = true
+	}
+	median := func() [][]float64 {
+		out := make([][]float64, len(stacks))
+		buf := make([]float64, 0, ns)
+		for oi, st := range stacks {
+			n := len(ref.Orders[oi].Wavelength)
+			f := make([]float64, n)
+			for i := range f {
+				buf = buf[:0]
+				for j := range st {
+					if used[j] && st[j][i] == st[j][i] {
+						buf = append(buf, float64(st[j][i]))
+					}
+				}
+				if len(buf) == 0 {
+					f[i] = math.NaN()
+					continue
+				}
+				sort.Float64s(buf)
+				k := len(buf) / 2
+				if len(buf)%2 == 1 {
+					f[i] = buf[k]
+				} else {
+					f[i] = 0.5 * (buf[k-1] + buf[k])
+				}
+			}
+			out[oi] = f
+		}
+		return out
+	}
+	coadd = median()
+	if ns < 3 {
+		return coadd, used, nil
+	}
+	// Correlation of each spectrum with the co-add.
+	r := make([]float64, ns)
+	for j := 0; j < ns; j++ {
+		var n, sx, sy, sxx, syy, sxy float64
+		for oi, st := range stacks {
+			f := coadd[oi]
+			for i, x32 := range st[j] {
+				x, y := float64(x32), f[i]
+				if x != x || y != y {
+					continue
+				}
+				n++
+				sx += x
+				sy += y
+				sxx += x * x
+				syy += y * y
+				sxy += x * y
+			}
+		}
+		cov := sxy - sx*sy/n
+		vx, vy := sxx-sx*sx/n, syy-sy*sy/n
+		r[j] = cov / math.Sqrt(vx*vy)
+		if !(vx > 1e-12*n) || !(vy > 0) {
+			r[j] = math.NaN()
+		}
+	}
+	var good []float64
+	for _, x := range r {
+		if !math.IsNaN(x) {
+			good = append(good, x)
+		}
+	}
+	medR := math.NaN()
+	if len(good) > 0 {
+		medR = quickMedian(good)
+	}
+	if !(medR > 0) {
+		return nil, nil, fmt.Errorf("%w: the spectra do not share their lines (median correlation with their co-add %.2g); is the star the same in all of them?", ErrNoMaskLines, medR)
+	}
+	left := false
+	for j, s := range spectra {
+		switch {
+		case math.IsNaN(r[j]):
+			used[j] = false
+			b.LeftOut = append(b.LeftOut, LeftOut{s.Name, "its flux is constant (no lines)"})
+		case r[j] < 0.5*medR:
+			used[j] = false
+			b.LeftOut = append(b.LeftOut, LeftOut{s.Name, fmt.Sprintf("its flux does not follow the other spectra's lines (correlation %.2f with their co-add, median %.2f)", r[j], medR)})
+		default:
+			continue
+		}
+		left = true
+	}
+	if left {
+		coadd = median()
+	}
+	return coadd, used, nil
+}
+
+func quickMedian(x []float64) float64 {
+	c := append([]float64(nil), x...)
+	sort.Float64s(c)
+	return c[len(c)/2]
+}
+
+// findLines returns the minima of one order of the co-add f (on the grid
+// wl) deeper than minDepth below its envelope, with Gaussian-fitted
+// centres, depths and widths.
+func findLines(wl, f []float64, minDepth float64) []maskLine {
+	n := len(wl)
+	var found []maskLine
+	cont := envelope(wl, f, 2.0, 0.9)
+	for i := 2; i+2 < n; i++ {
+		if math.IsNaN(f[i-1]) || math.IsNaN(f[i]) || math.IsNaN(f[i+1]) || !(cont[i] > 0) {
+			continue
+		}
+		if !(f[i] < f[i-1] && f[i] <= f[i+1]) {
+			continue
+		}
+		// The minimum must be the lowest point down to half its depth
+		// on both sides (noise makes several minima in one line).
+		depth0 := 1 - f[i]/cont[i]
+		if depth0 < minDepth {
+			continue
+		}
+		half := cont[i] * (1 - depth0/2)
+		l, r := i, i
+		lowest := true
+		for l > 0 && f[l] < half && !math.IsNaN(f[l]) {
+			l--
+			if f[l] < f[i] {
+				lowest = false
+			}
+		}
+		for r < n-1 && f[r] < half && !math.IsNaN(f[r]) {
+			r++
+			if f[r] < f[i] {
+				lowest = false
+			}
+		}
+		if !lowest || math.IsNaN(f[l]) || math.IsNaN(f[r]) {
+			continue
+		}
+		// Fit a Gaussian to the core (down to half depth, at least 7
+		// pixels) in velocity about pixel i.
+		for r-l < 6 && l > 0 && r < n-1 {
+			l--
+			r++
+		}
+		x := make([]float64, 0, r-l+1)
+		y := make([]float64, 0, r-l+1)
+		bad := false
+		for j := l; j <= r; j++ {
+			if math.IsNaN(f[j]) {
+				bad = true
+				break
+			}
+			x = append(x, C*math.Log(wl[j]/wl[i]))
+			y = append(y, f[j]/cont[i])
+		}
+		if bad {
+			continue
+		}
+		sg := C * (wl[r] - wl[l]) / wl[i] / 2.3548
+		res, ok := lmFit(x, y, ones(len(x)), []float64{1, depth0, 0, math.Max(sg, 1)}, gaussModel, 100)
+		if !ok || math.Abs(res.theta[2]) > x[len(x)-1]-x[0] {
+			continue
+		}
+		lam := wl[i] * math.Exp(LogDopplerFactor(res.theta[2]))
+		depth := res.theta[1] / res.theta[0]
+		fwhm := 2.3548 * math.Abs(res.theta[3])
+		if depth < minDepth || depth >= 1 {
+			continue
+		}
+		found = append(found, maskLine{lam, depth, fwhm})
+	}
+	return found
+}
+
+// identification is the outcome of identifyLines.
+type identification struct {
+	v, sigma      float64 // velocity of the lines in the co-add's frame, m/s
+	n, candidates int
+	problem       string
+}
+
+// identifyLines matches the found minima against LabLines; see BuildMask.
+func identifyLines(found []maskLine, vacuum bool, lo, hi, fwhm float64) identification {
+	const vmax = 600e3
+	tol := math.Min(5e3, math.Max(1.5e3, 0.25*fwhm))
+	lam := make([]float64, len(found))
+	for i, l := range found {
+		lam[i] = l.lambda
+	}
+	var lab []float64
+	for _, l := range LabLines {
+		w := onScale(l.Air, false, vacuum)
+		if w*(1+vmax/C) > lo && w*(1-vmax/C) < hi {
+			lab = append(lab, w)
+		}
+	}
+	id := identification{candidates: len(lab)}
+	if len(lab) == 0 {
+		id.problem = fmt.Sprintf("the spectra (%.0f–%.0f Å) hold none of the %d laboratory lines", lo, hi, len(LabLines))
+		return id
+	}
+	// Histogram of pair offsets, bins of tol/4.
+	bw := tol / 4
+	nb := int(2*vmax/bw) + 1
+	hist := make([]float64, nb)
+	type pair struct {
+		lab int
+		u   float64
+	}
+	var pairs []pair
+	for li, w := range lab {
+		a := sort.SearchFloat64s(lam, w*(1-(vmax+tol)/C))
+		for k := a; k < len(lam) && lam[k] <= w*(1+(vmax+tol)/C); k++ {
+			u := Velocity(lam[k] / w)
+			pairs = append(pairs, pair{li, u})
+			if b := int((u + vmax) / bw); b >= 0 && b < nb {
+				hist[b]++
+			}
+		}
+	}
+	// Counts in windows of ±tol.
+	half := 4
+	win := make([]float64, nb)
+	var run float64
+	for b := 0; b < nb+half; b++ {
+		if b < nb {
+			run += hist[b]
+		}
+		if b-2*half-1 >= 0 {
+			run -= hist[b-2*half-1]
+		}
+		if c := b - half; c >= 0 && c < nb {
+			win[c] = run
+		}
+	}
+	best := 0
+	for b := range win {
+		if win[b] > win[best] {
+			best = b
+		}
+	}
+	bg := quickMedian(win)
+	peak := win[best]
+	vpeak := -vmax + (float64(best)+0.5)*bw
+	need := math.Max(6, bg+6*math.Sqrt(bg)+3)
+	if peak < need {
+		id.problem = fmt.Sprintf("no velocity within ±%.0f km/s lines up the co-added spectrum's %d minima with the %d laboratory lines in its range (best: %.0f matches at %+.1f km/s; chance gives about %.1f, %.0f needed)", vmax/1e3, len(found), len(lab), peak, vpeak/1e3, bg, math.Ceil(need))
+		return id
+	}
+	// Refine: per laboratory line, the nearest minimum to the peak.
+	bestU := make([]float64, len(lab))
+	for i := range bestU {
+		bestU[i] = math.NaN()
+	}
+	for _, p := range pairs {
+		if d := math.Abs(p.u - vpeak); d <= 1.5*tol && (math.IsNaN(bestU[p.lab]) || d < math.Abs(bestU[p.lab]-vpeak)) {
+			bestU[p.lab] = p.u
+		}
+	}
+	var us []float64
+	for _, u := range bestU {
+		if !math.IsNaN(u) {
+			us = append(us, u)
+		}
+	}
+	for iter := 0; iter < 3 && len(us) >= 3; iter++ {
+		med := quickMedian(us)
+		dev := make([]float64, len(us))
+		for i, u := range us {
+			dev[i] = math.Abs(u - med)
+		}
+		mad := 1.4826 * quickMedian(dev)
+		lim := math.Max(3*mad, 200)
+		var kept []float64
+		for _, u := range us {
+			if math.Abs(u-med) <= lim {
+				kept = append(kept, u)
+			}
+		}
+		if len(kept) == len(us) {
+			break
+		}
+		us = kept
+	}
+	var m, s2 float64
+	for _, u := range us {
+		m += u
+	}
+	m /= float64(len(us))
+	for _, u := range us {
+		s2 += (u - m) * (u - m)
+	}
+	id.n = len(us)
+	id.v = m
+	if len(us) > 1 {
+		id.sigma = math.Sqrt(s2 / float64(len(us)-1) / float64(len(us)))
+	} else {
+		id.sigma = math.NaN()
+	}
+	return id
 }
 
 // maskLine is a minimum found in a co-added spectrum.
@@ -340,27 +715,84 @@ func envelope(wl, f []float64, w, q float64) []float64 {
 	return out
 }
 
-// estimateSystemic returns the median velocity offset of the deepest found
-// minima near Na I D1, D2 and H-alpha from their laboratory wavelengths,
-// in the frame of the co-add; 0 when none is found within ±150 km/s.
-func estimateSystemic(ref *Spectrum, found []maskLine) float64 {
-	var vs []float64
-	for _, b := range []Band{BandNaD1, BandNaD2, BandHAlpha} {
-		lab := onScale(b.Center, false, ref.Vacuum)
-		best, bd := -1, 0.0
-		for i, l := range found {
-			v := C * (l.lambda - lab) / lab
-			if math.Abs(v) < 150e3 && l.depth > bd {
-				best, bd = i, l.depth
+// identifyStrong matches the broad minima (FWHM at least twice the
+// median, depth at least 0.2) against StrongLabLines within ±600 km/s and
+// a tolerance of 5 km/s: at least 3 distinct lines must agree, and at
+// least 2 more than at any velocity further than 15 km/s away.
+func identifyStrong(found []maskLine, vacuum bool, fwhm float64) identification {
+	const vmax, tol = 600e3, 5e3
+	type pair struct {
+		lab int
+		u   float64
+	}
+	var pairs []pair
+	broad := 0
+	for _, l := range found {
+		if l.fwhm < 2*fwhm || l.depth < 0.2 {
+			continue
+		}
+		broad++
+		for li, sl := range StrongLabLines {
+			u := Velocity(l.lambda / onScale(sl.Air, false, vacuum))
+			if math.Abs(u) <= vmax {
+				pairs = append(pairs, pair{li, u})
 			}
 		}
-		if best >= 0 && bd > 0.3 {
-			vs = append(vs, Velocity(found[best].lambda/lab))
+	}
+	count := func(v float64) (int, []float64) {
+		best := make([]float64, len(StrongLabLines))
+		for i := range best {
+			best[i] = math.NaN()
+		}
+		for _, p := range pairs {
+			if d := math.Abs(p.u - v); d <= tol && (math.IsNaN(best[p.lab]) || d < math.Abs(best[p.lab]-v)) {
+				best[p.lab] = p.u
+			}
+		}
+		var us []float64
+		for _, u := range best {
+			if !math.IsNaN(u) {
+				us = append(us, u)
+			}
+		}
+		return len(us), us
+	}
+	bestN, bestV := 0, 0.0
+	for _, p := range pairs {
+		if n, _ := count(p.u); n > bestN {
+			bestN, bestV = n, p.u
 		}
 	}
-	if len(vs) == 0 {
-		return 0
+	second := 0
+	for _, p := range pairs {
+		if math.Abs(p.u-bestV) > 3*tol {
+			if n, _ := count(p.u); n > second {
+				second = n
+			}
+		}
 	}
-	sort.Float64s(vs)
-	return vs[len(vs)/2]
+	id := identification{candidates: len(StrongLabLines)}
+	if bestN < 3 || bestN < second+2 {
+		id.problem = fmt.Sprintf("nor do the %d broad minima match the strong lines (Ca II H and K, Balmer, Mg I b, Na I D) at one velocity (best %d lines, next best %d)", broad, bestN, second)
+		return id
+	}
+	_, us := count(bestV)
+	// Recentre once on the mean of the matches.
+	var m float64
+	for _, u := range us {
+		m += u
+	}
+	_, us = count(m / float64(len(us)))
+	m = 0
+	for _, u := range us {
+		m += u
+	}
+	m /= float64(len(us))
+	var s2 float64
+	for _, u := range us {
+		s2 += (u - m) * (u - m)
+	}
+	id.v, id.n = m, len(us)
+	id.sigma = math.Sqrt(s2 / float64(len(us)-1) / float64(len(us)))
+	return id
 }

@@ -90,6 +90,10 @@ type Result struct {
 	// log10 R'HK, HAlpha and NaD the H-alpha and Na I D indices; all are
 	// measured in the stellar rest frame.
 	SIndex, LogRHK, HAlpha, NaD Estimate
+
+	// Warnings says what looks wrong without stopping a measurement, such
+	// as an index band that does not sit on its line (see Measure).
+	Warnings []string
 }
 
 // OrderRV is the RV of one order or pseudo-order.
@@ -115,6 +119,18 @@ type OrderRV struct {
 // band sums. σ_x is Order.Err when given, else photon noise plus
 // CCFOptions.ReadNoise in quadrature.
 //
+// The indices are measured in the star's rest frame at every epoch: the
+// bands are moved by the star's velocity in the spectrum's frame, the CCF
+// velocity against m's rest wavelengths, whatever the systemic velocity and
+// the barycentric correction. Each index checks that its bands sit on the
+// lines: the deepest point of the (3-pixel smoothed) flux within ±3 Å of
+// each line centre — Ca II K and H, Na I D2 and D1, H-alpha — must fall
+// inside the line's band (±0.6, ±0.25 and ±0.8 Å); a line that does not is
+// named in Result.Warnings with its offset (a wrong systemic velocity or
+// wavelength scale, or, for H-alpha, a line in emission). With a mask that
+// has no rest frame (Mask.Relative) the indices are not measured: their
+// errors wrap ErrNoZeroPoint.
+//
 // A quantity that cannot be measured carries its own error in its Estimate
 // and the others are still returned. Measure returns an error only when the
 // spectrum is invalid or the CCF cannot be computed (e.g. ErrNoMaskLines);
@@ -128,9 +144,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 		return nil, err
 	}
 	r := &Result{Name: s.Name, BJD: s.BJD, BERV: s.BERV}
-	bary := func(v float64) float64 {
-		return VelocityFromLog(LogDopplerFactor(v) + LogDopplerFactor(s.BERV))
-	}
+	bary := s.BarycentricVelocity
 	ccf, err := computeCCF(s, m, opts.CCF)
 	restV := 0.0
 	if opts.CCF != nil {
@@ -146,8 +160,11 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 			restV = v
 		}
 	}
-	if opts.NoIndices {
+	if opts.NoIndices || (m != nil && m.Relative) {
 		e := failed(ErrNotRequested)
+		if !opts.NoIndices {
+			e = failed(fmt.Errorf("%s: %w", s.Name, ErrNoZeroPoint))
+		}
 		r.SIndex, r.LogRHK, r.HAlpha, r.NaD = e, e, e, e
 		if ccf != nil {
 			releaseSlab(ccf.plan.slab)
@@ -180,6 +197,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	}
 	r.HAlpha = est(hAlpha(s, orders, restV, opts.HAlphaWidth))
 	r.NaD = est(naD(s, orders, restV))
+	r.Warnings = append(r.Warnings, checkBands(s, orders, restV)...)
 	if ccf != nil {
 		// The plan holds pixel-sized arrays; recycle them rather than keep
 		// them alive with the result.
@@ -412,4 +430,60 @@ func (g GaussianFit) PhotonLimit(v, variance []float64, oversampling float64) fl
 		s += d * d / variance[k]
 	}
 	return math.Sqrt(oversampling / s)
+}
+
+// bandLines are the line cores checkBands looks for: the laboratory air
+// wavelength (as the bands use), the tolerance in Å and the index.
+var bandLines = []struct {
+	name, index string
+	air, tol    float64
+}{
+	{"Ca II K", "S-index", BandCaK.Center, 0.6},
+	{"Ca II H", "S-index", BandCaH.Center, 0.6},
+	{"Na I D2", "Na D", BandNaD2.Center, 0.25},
+	{"Na I D1", "Na D", BandNaD1.Center, 0.25},
+	{"H-alpha", "H-alpha", BandHAlpha.Center, 0.8},
+}
+
+// checkBands returns a warning for each index line whose core (the deepest
+// point of the 3-pixel running mean of the flux within ±3 Å of the
+// expected centre) lies outside the tolerance; lines the spectrum does not
+// cover are not checked.
+func checkBands(s *Spectrum, orders []ccfOrder, rv float64) []string {
+	var out []string
+	d := DopplerFactor(rv)
+	for _, bl := range bandLines {
+		c := onScale(bl.air, false, s.Vacuum) * d
+		lo, hi := c-3, c+3
+		best := -1
+		for i, o := range orders {
+			e := o.edges
+			if lo >= e[0] && hi <= e[len(e)-1] && (best < 0 || centrality(o, c) > centrality(orders[best], c)) {
+				best = i
+			}
+		}
+		if best < 0 {
+			continue
+		}
+		o := orders[best]
+		x0 := searchEdges(o.edges, lo) + 1
+		x1 := searchEdges(o.edges, hi) - 1
+		if x1-x0 < 4 {
+			continue
+		}
+		imin, fmin := -1, math.Inf(1)
+		for x := x0; x <= x1; x++ {
+			if f := o.flux[x-1] + o.flux[x] + o.flux[x+1]; f < fmin {
+				imin, fmin = x, f
+			}
+		}
+		if imin < 0 {
+			continue
+		}
+		at := 0.5 * (o.edges[imin] + o.edges[imin+1])
+		if off := at - c; math.Abs(off) > bl.tol {
+			out = append(out, fmt.Sprintf("%s: %s band off the line: the line core lies %+.2f Å (%+.0f km/s) from the band centre at %.3f Å; the star's velocity, the mask's rest frame or the wavelength scale may be wrong", bl.index, bl.name, off, C*off/c/1e3, c))
+		}
+	}
+	return out
 }

@@ -23,6 +23,13 @@ type Spectrum struct {
 	// BERV is the barycentric correction in m/s to be added to measured
 	// velocities; 0 when unknown or already applied.
 	BERV float64
+	// Bary says how BERV (or BaryZ) is composed with measured velocities;
+	// the zero value, BaryRadial, takes BERV as a purely radial
+	// relativistic velocity. Readers set BaryVelocity for a header BERV
+	// (see BaryConvention).
+	Bary BaryConvention
+	// BaryZ is the barycentric redshift z_B when Bary is BaryRedshift.
+	BaryZ float64
 	// Header holds the header keywords of the file it was read from (or is to
 	// be written with), as strings keyed by keyword.
 	Header map[string]string

@@ -139,7 +139,7 @@ func ReadText(r io.Reader, name string, opts *ReadOptions) (*Spectrum, error) {
 		case "air":
 			s.Vacuum = false
 		default:
-			return nil, fileErr(name, -1, "WAVESCAL", ErrUnknownScale)
+			return nil, fileErr(name, -1, "WAVESCAL", fmt.Errorf("%w: add a comment line \"# WAVESCAL = air\" or \"# WAVESCAL = vacuum\" above the columns, or give the scale of every spectrum (--scale air or --scale vacuum)", ErrUnknownScale))
 		}
 	}
 	if err := textEpoch(s, opts); err != nil {
@@ -215,5 +215,15 @@ func textEpoch(s *Spectrum, opts *ReadOptions) error {
 		return fileErr(s.Name, -1, bk, ErrMissingKeyword)
 	}
 	s.BERV = v * unit
+	if z, ok, err := get("BARYZ"); err != nil {
+		return err
+	} else if ok {
+		if !(z > -0.001 && z < 0.001) {
+			return fileErr(s.Name, -1, "BARYZ", fmt.Errorf("%w: barycentric redshift %v, want |z| < 0.001", ErrBadKeyword, z))
+		}
+		s.Bary, s.BaryZ = BaryRedshift, z
+	} else if s.BERV != 0 {
+		s.Bary = bervConvention(s.Header["BERVCONV"])
+	}
 	return nil
 }

@@ -2,9 +2,11 @@ package main
 
 import (
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 
 	"spotsift/activity"
@@ -34,6 +36,7 @@ that fail on an otherwise good spectrum.`)
 	epochKey := fs.String("epoch-keyword", "", "header `keyword` holding the epoch in days (default: BJD_TDB, MJD-OBS, DATE-OBS)")
 	bervKey := fs.String("berv-keyword", "", "header `keyword` holding the barycentric correction in km/s to add")
 	instr := fs.String("instrument", "", "instrument `label` for every epoch (default: the INSTRUME keyword)")
+	systemic := fs.String("systemic", "", "the star's barycentric systemic velocity in `km/s`, for a mask built from the spectra (default: found by identifying laboratory lines)")
 	if code, ok := parseFlags(fs, args); !ok {
 		return code
 	}
@@ -64,19 +67,50 @@ that fail on an otherwise good spectrum.`)
 	if err != nil {
 		return fail(e, exitUsage, err)
 	}
-	opts := &activity.MeasureOptions{Read: ro, Star: star, Instrument: *instr, Workers: c.workers}
+	rep := &activity.MeasureReport{}
+	opts := &activity.MeasureOptions{Read: ro, Star: star, Instrument: *instr, Workers: c.workers, Report: rep}
+	if *systemic != "" {
+		v, err := strconv.ParseFloat(*systemic, 64)
+		if err != nil || math.IsNaN(v) || math.Abs(v) > 3000 {
+			return fail(e, exitUsage, errorf("measure: --systemic %q: want a velocity in km/s, within ±3000", *systemic))
+		}
+		if *mask != "" {
+			return fail(e, exitUsage, errorf("measure: --systemic sets the rest frame of a mask built from the spectra; a --mask file has rest wavelengths already"))
+		}
+		opts.MaskOptions = &indicators.MaskOptions{Systemic: v * 1000, FixedSystemic: true}
+	}
 	if *mask != "" {
-		m, err := indicators.ReadMaskFile(*mask, ro)
+		// A mask declares its own scale (its "# WAVESCAL" line): --scale
+		// is about the spectra.
+		m, err := indicators.ReadMaskFile(*mask, nil)
 		if err != nil {
 			return fail(e, exitUsage, err)
 		}
 		opts.Mask = m
+		// The mask file may sit among the spectra.
+		if mi, err := os.Stat(*mask); err == nil {
+			kept := paths[:0]
+			for _, p := range paths {
+				if pi, err := os.Stat(p); err == nil && os.SameFile(mi, pi) {
+					if !c.quiet {
+						fmt.Fprintf(e.stderr, "spotsift: note: %s: skipped: it is the --mask file\n", p)
+					}
+					continue
+				}
+				kept = append(kept, p)
+			}
+			paths = kept
+			if len(paths) == 0 {
+				return fail(e, exitUsage, errorf("measure: --spectra %q holds no spectrum besides the mask", *spectra))
+			}
+		}
 	}
 	bar := newProgress(e.stderr, len(paths), "measuring", c.quiet)
 	opts.Progress = bar.Set
 	s, failures, err := activity.Measure(ctx, paths, opts)
 	bar.Done()
-	reportFailures(e, failures, false)
+	reportMeasure(e, rep, c.quiet)
+	reportFailures(e, failures, c.quiet)
 	if err != nil {
 		return fail(e, exitFailed, err)
 	}
@@ -87,6 +121,70 @@ that fail on an otherwise good spectrum.`)
 		fmt.Fprintf(e.stderr, "spotsift: %d of %d spectra measured into %s\n", s.Len(), len(paths), *out)
 	}
 	return exitOK
+}
+
+// reportMeasure prints what Measure noticed: files skipped as not spectra,
+// how a built mask was made (its systemic velocity, the spectra left out,
+// or why it has no rest frame), the barycentric conventions assumed and
+// the warnings on kept spectra (up to five per kind). With quiet, nothing.
+func reportMeasure(e *env, rep *activity.MeasureReport, quiet bool) {
+	if quiet {
+		return
+	}
+	for _, f := range rep.Skipped {
+		msg := strings.TrimPrefix(f.Err.Error(), f.Path+": ")
+		msg = strings.TrimPrefix(msg, indicators.ErrNotSpectrum.Error()+": ")
+		fmt.Fprintf(e.stderr, "spotsift: note: %s: skipped, not a spectrum: %s\n", f.Path, msg)
+	}
+	if m := rep.Mask; m != nil && m.Build != nil {
+		b := m.Build
+		for _, l := range b.LeftOut {
+			fmt.Fprintf(e.stderr, "spotsift: note: %s: left out of the mask: %s\n", l.Name, l.Reason)
+		}
+		scale := "air"
+		if m.Vacuum {
+			scale = "vacuum"
+		}
+		switch b.ZeroPoint {
+		case indicators.ZeroLabLines:
+			what := fmt.Sprintf("%d of %d laboratory lines", b.Identified, b.Candidates)
+			if b.StrongOnly {
+				what = fmt.Sprintf("%d strong lines (Ca II, Balmer, Mg I b, Na I D) only", b.Identified)
+			}
+			fmt.Fprintf(e.stderr, "spotsift: mask of %d lines from %d spectra (%s); systemic velocity %+.3f ± %.3f km/s from %s (about 0.5 km/s systematic)\n",
+				m.Len(), len(b.Spectra), scale, b.Systemic/1e3, b.SystemicSigma/1e3, what)
+		case indicators.ZeroGiven:
+			fmt.Fprintf(e.stderr, "spotsift: mask of %d lines from %d spectra (%s), at the given systemic velocity %+.3f km/s\n", m.Len(), len(b.Spectra), scale, b.Systemic/1e3)
+		default:
+			fmt.Fprintf(e.stderr, "spotsift: warning: the mask built from the spectra has no rest frame: %s.\n"+
+				"  RVs are relative to %s, and S-index, log R'HK, H-alpha and Na D are left out.\n"+
+				"  Give the star's systemic velocity (--systemic KM/S) or a mask of rest wavelengths (--mask FILE).\n", b.Problem, b.Spectra[0])
+		}
+	}
+	for _, c := range rep.Conventions {
+		fmt.Fprintf(e.stderr, "spotsift: note: barycentric correction: %s\n", c)
+	}
+	shown := map[string]int{}
+	var kinds []string
+	for _, w := range rep.Warnings {
+		// The kind: the index and line, e.g. "S-index: Ca II K band off the line".
+		kind := w.Err.Error()
+		if i := strings.Index(kind, " line:"); i > 0 {
+			kind = kind[:i+5]
+		}
+		if shown[kind] == 0 {
+			kinds = append(kinds, kind)
+		}
+		shown[kind]++
+		if shown[kind] <= 5 {
+			fmt.Fprintf(e.stderr, "spotsift: warning: %s: %v\n", w.Path, w.Err)
+		}
+	}
+	for _, k := range kinds {
+		if n := shown[k]; n > 5 {
+			fmt.Fprintf(e.stderr, "spotsift: warning: ... and %d more spectra with %q\n", n-5, k)
+		}
+	}
 }
 
 // reportFailures names the spectra that failed on stderr: every one that
