@@ -333,6 +333,7 @@ func (tr *trial) run(sig *Signal) {
 	tr.seasonCoherence()
 	tr.stackedGrowth()
 	tr.chromaticity()
+	tr.ffPrime()
 	if tr.d.opts.SkipModels {
 		tr.skipped("model_comparison", "Gaussian-process fits were switched off")
 	} else {
