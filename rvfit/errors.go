@@ -21,6 +21,8 @@ var (
 	ErrBadMapping      = errors.New("rvfit: bad column mapping")
 	ErrBadFormat       = errors.New("rvfit: bad table format")
 	ErrMismatch        = errors.New("rvfit: mismatched lengths")
+	ErrImplausible     = errors.New("rvfit: value not plausible for its quantity")
+	ErrNotRegular      = errors.New("rvfit: not a regular file")
 )
 
 // TableError reports a problem at a place in a table file. Line is the

@@ -28,6 +28,11 @@ type Series struct {
 
 	// Indicators holds any number of named indicator columns, in table order.
 	Indicators []Indicator
+
+	// Notes says how the series was read: the table's layout, which column
+	// was taken as what, which were ignored, what was converted. Warnings
+	// about the data itself are returned separately by the readers.
+	Notes []string
 }
 
 // DefaultInstrument labels epochs of a table that has no instrument column.

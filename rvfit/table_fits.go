@@ -7,6 +7,7 @@ import (
 	"io"
 	"math"
 	"reflect"
+	"strconv"
 	"strings"
 
 	"github.com/astrogo/fitsio"
@@ -34,7 +35,16 @@ func ReadFITSTable(r io.Reader, name string, opts *ReadOptions) (s *Series, warn
 	if err != nil {
 		return nil, nil, err
 	}
-	return rt.build(opts)
+	plan, err := mapRoles(rt, opts)
+	if err != nil {
+		return nil, nil, err
+	}
+	for _, c := range rt.cols {
+		if c.required && c.bad != nil && !c.text {
+			return nil, nil, c.bad
+		}
+	}
+	return rt.build(plan, opts)
 }
 
 // scanFITSTable decodes the table HDU of a FITS file into a raw table.
@@ -85,7 +95,10 @@ func scanFITSTable(r io.Reader, name string) (rt *rawTable, err error) {
 	if len(cols) == 0 {
 		return nil, terr(0, "", fmt.Errorf("%w: the table HDU has no columns", ErrBadFormat))
 	}
-	rt = &rawTable{file: name, units: map[string]string{}, num: map[string][]float64{}, empty: map[string][]bool{}, str: map[string][]string{}, bad: map[string]error{}}
+	if len(cols) > maxColumns {
+		return nil, terr(0, "", fmt.Errorf("%w: %d columns, more than the %d a table may have", ErrBadFormat, len(cols), maxColumns))
+	}
+	rt = &rawTable{file: name, units: map[string]string{}}
 	ptrs := make([]any, len(cols))
 	seen := map[string]bool{}
 	for j, c := range cols {
@@ -100,24 +113,24 @@ func scanFITSTable(r io.Reader, name string) (rt *rawTable, err error) {
 			return nil, terr(0, n, ErrDuplicateColumn)
 		}
 		seen[n] = true
-		rt.names = append(rt.names, n)
-		rt.units[n] = strings.TrimSpace(c.Unit)
+		rc := &rawColumn{name: n, pos: j + 1, unit: strings.TrimSpace(c.Unit), keep: true}
+		rt.cols = append(rt.cols, rc)
 		typ := c.Type()
 		if typ == nil {
-			return nil, terr(0, n, fmt.Errorf("%w: unsupported column format %q", ErrBadFormat, c.Format))
+			return nil, terr(0, n, fmt.Errorf("%w: unsupported column format %q", ErrBadFormat, clip(c.Format)))
 		}
 		switch typ.Kind() {
 		case reflect.Float64, reflect.Float32, reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64,
 			reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64, reflect.String:
 			ptrs[j] = reflect.New(typ).Interface()
 		default:
-			return nil, terr(0, n, fmt.Errorf("%w: column format %q (vector or complex columns are not per-epoch values)", ErrBadFormat, c.Format))
+			return nil, terr(0, n, fmt.Errorf("%w: column format %q (vector or complex columns are not per-epoch values)", ErrBadFormat, clip(c.Format)))
 		}
+		rc.num = make([]float64, 0, nrows)
+		rc.state = make([]cellState, 0, nrows)
 		if typ.Kind() == reflect.String {
-			rt.str[n] = make([]string, 0, nrows)
-		} else {
-			rt.num[n] = make([]float64, 0, nrows)
-			rt.empty[n] = make([]bool, 0, nrows)
+			rc.text = true
+			rc.str = make([]string, 0, nrows)
 		}
 	}
 	rows, err := tbl.Read(0, nrows)
@@ -131,24 +144,34 @@ func scanFITSTable(r io.Reader, name string) (rt *rawTable, err error) {
 		if err := rows.Scan(ptrs...); err != nil {
 			return nil, terr(row, "", fmt.Errorf("%w: %v", ErrBadFormat, err))
 		}
-		for j, n := range rt.names {
+		for j, rc := range rt.cols {
 			v := reflect.ValueOf(ptrs[j]).Elem()
+			x, st := math.NaN(), cellOK
 			switch v.Kind() {
 			case reflect.String:
 				// fitsio's own writer puts a NUL before the text.
-				rt.str[n] = append(rt.str[n], strings.Trim(v.String(), "\x00 "))
-				continue
+				t := strings.Trim(v.String(), "\x00 ")
+				rc.str = append(rc.str, t)
+				if y, err := strconv.ParseFloat(t, 64); err == nil {
+					x = y
+				} else {
+					st = cellBad
+					if rc.bad == nil {
+						rc.bad = terr(row, rc.name, fmt.Errorf("%w: %q", ErrNotNumber, clip(t)))
+					}
+				}
 			case reflect.Float64, reflect.Float32:
-				x := v.Float()
-				rt.num[n] = append(rt.num[n], x)
-				rt.empty[n] = append(rt.empty[n], math.IsNaN(x) && !isRequired(n))
+				x = v.Float()
 			case reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64:
-				rt.num[n] = append(rt.num[n], float64(v.Int()))
-				rt.empty[n] = append(rt.empty[n], false)
+				x = float64(v.Int())
 			default:
-				rt.num[n] = append(rt.num[n], float64(v.Uint()))
-				rt.empty[n] = append(rt.empty[n], false)
+				x = float64(v.Uint())
 			}
+			if st == cellOK && math.IsNaN(x) {
+				st = cellNaN
+			}
+			rc.num = append(rc.num, x)
+			rc.state = append(rc.state, st)
 		}
 		rt.line = append(rt.line, row)
 	}
@@ -167,11 +190,6 @@ func isCanonicalFITSName(lc string) bool {
 	}
 	_, ok := UnitOf(lc)
 	return ok
-}
-
-// isRequired reports whether a column must hold a finite value in every row.
-func isRequired(col string) bool {
-	return col == ColTime || col == ColRV || col == ColRVErr
 }
 
 // WriteFITSTable writes s as a FITS file: an empty primary HDU and a binary

@@ -169,10 +169,13 @@ func TestReadAstropyTable(t *testing.T) {
 			// float32 in the file: the values are float32(x) widened, times 1000.
 			{Name: "fwhm", Unit: "m/s", Value: []float64{km(float64(float32(7.12))), km(float64(float32(7.15))), km(float64(float32(7.11))), km(float64(float32(7.18)))}},
 			{Name: "s_index", Value: []float64{0.171, math.NaN(), 0.169, 0.175}},
-			{Name: "NIGHT", Value: []float64{1, 2, 4, 5}},
 		},
 	}
 	sameSeries(t, s, want)
+	// NIGHT is not a recognised indicator: listed as ignored, not read.
+	if !strings.Contains(strings.Join(s.Notes, "\n"), "ignored: NIGHT") {
+		t.Errorf("notes %q do not list NIGHT as ignored", s.Notes)
+	}
 }
 
 // TestAstropyReadsOurs has astropy read a table we write, when Debian's
@@ -276,11 +279,11 @@ var badTables = []struct {
 	{"duplicate column", "time,rv,rv,rv_err\n1,1,1,1\n", nil, ErrDuplicateColumn, 1, "rv"},
 	{"unnamed column", "time,,rv_err\n1,1,1\n", nil, ErrMissingColumn, 1, ""},
 	{"bad quote", "time,rv,rv_err\n1,\"1,1\n", nil, ErrBadFormat, 2, ""},
-	{"NaN indicator", "time,rv,rv_err,bis\n1,1,1,nan\n2,2,1,3\n", nil, ErrNotFinite, 2, "bis"},
+	{"Inf indicator", "time,rv,rv_err,bis\n1,1,1,inf\n2,2,1,3\n", nil, ErrNotFinite, 2, "bis"},
 	{"value without error", "time,rv,rv_err,bis,bis_err\n1,1,1,2,\n2,2,1,3,1\n", nil, ErrNotNumber, 2, "bis_err"},
 	{"error without value", "time,rv,rv_err,bis,bis_err\n1,1,1,,1\n2,2,1,3,1\n", nil, ErrNotNumber, 2, "bis"},
 	{"zero indicator error", "time,rv,rv_err,bis,bis_err\n1,1,1,2,0\n2,2,1,3,1\n", nil, ErrBadUncertainty, 2, "bis_err"},
-	{"text indicator", "time,rv,rv_err,note\n1,1,1,good\n2,2,1,bad\n", nil, ErrNotNumber, 2, "note"},
+	{"text indicator", "time,rv,rv_err,note\n1,1,1,good\n2,2,1,bad\n", &ReadOptions{Indicators: []string{"note"}}, ErrNotNumber, 2, "note"},
 	{"empty instrument", "time,rv,rv_err,instrument\n1,1,1,A\n2,2,1,\n", nil, ErrNotNumber, 3, "instrument"},
 	{"bad rv unit", "# units: rv=furlong/fortnight\ntime,rv,rv_err\n1,1,1\n2,2,1\n", nil, ErrBadUnit, 0, "rv"},
 	{"bad units comment", "# units: rv\ntime,rv,rv_err\n1,1,1\n", nil, ErrBadUnit, 1, ""},

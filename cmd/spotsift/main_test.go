@@ -78,7 +78,7 @@ func TestBadInput(t *testing.T) {
 		{"stray argument", []string{"scan", "--data", goodPath, "extra"}, `unexpected argument "extra"`},
 		{"no data flag", []string{"scan"}, "--data is required"},
 		{"data file absent", []string{"scan", "--data", filepath.Join(dir, "nope.csv")}, "no such file or directory"},
-		{"data is a folder", []string{"vet", "--data", dir}, "is a directory"},
+		{"data is a folder", []string{"vet", "--data", dir}, "a folder, not a file"},
 		{"empty table", []string{"scan", "--data", table("empty.csv", "")}, "the file is empty"},
 		{"no rows", []string{"scan", "--data", table("hdr.csv", "time,rv,rv_err\n")}, "header but no rows"},
 		{"missing column", []string{"scan", "--data", table("nocol.csv", "time,rv\n1,2\n")}, `column "rv_err": rvfit: missing required column`},

@@ -1,0 +1,93 @@
+package rvfit
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// realDataDir returns ../shared/realdata beside the repository root, or
+// skips the test when it is absent.
+func realDataDir(t testing.TB) string {
+	t.Helper()
+	dir, err := os.Getwd()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for {
+		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
+			break
+		}
+		parent := filepath.Dir(dir)
+		if parent == dir {
+			t.Skip("no go.mod above the test's folder")
+		}
+		dir = parent
+	}
+	rd := filepath.Join(dir, "..", "shared", "realdata")
+	if _, err := os.Stat(rd); err != nil {
+		t.Skipf("public RV files not found at %s (the folder of real data beside the repository); skipping", rd)
+	}
+	return rd
+}
+
+// realFiles are the public files of ../shared/realdata with the options
+// README.md documents for each ("Reading real tables"). minRows is the
+// fewest epochs each must give (the file's row count less documented
+// rejections, from looking at the files).
+var realFiles = []struct {
+	file    string
+	opts    ReadOptions
+	minRows int
+	wantInd []string
+}{
+	{"keck-hires/HD26965_KECK.vels", ReadOptions{Columns: map[string]string{"s_index": "4", "halpha": "5"}}, 280, []string{"s_index", "halpha"}},
+	{"corot7/corot7.txt", ReadOptions{}, 170, nil},
+	{"51peg-harps/51pegrv.txt", ReadOptions{RVUnit: "km/s"}, 90, nil},
+	{"eps-eri/22049_Benedict06_Tull.rdb", ReadOptions{}, 30, nil},
+	{"eps-eri/22049_CLS21_APF.csv", ReadOptions{Duplicates: "mean"}, 500, nil},
+	{"eps-eri/22049_CLS21_Hamilton.csv", ReadOptions{}, 300, nil},
+	{"eps-eri/22049_EBPS_HIRES.vels", ReadOptions{Columns: map[string]string{"s_index": "4", "halpha": "5"}}, 160, []string{"s_index", "halpha"}},
+	{"eps-eri/22049_RVBank_HARPS.csv", ReadOptions{RejectIf: []string{"f_RV!=0"}, Units: map[string]string{"BIS": "km/s"}}, 700, []string{"fwhm", "contrast", "bis", "log_rhk", "halpha"}},
+	{"eps-eri/22049_Roettenbacher22_EXPRES.txt", ReadOptions{}, 150, nil},
+	{"eps-eri/22049_Zechmeister13_CES-LC.txt", ReadOptions{}, 60, nil},
+	{"eps-eri/22049_Zechmeister13_CES-VLC.txt", ReadOptions{}, 60, nil},
+	{"eps-eri/22049_rv_main_binned.txt", ReadOptions{}, 690, nil},
+	{"eps-eri/22049_rv_main_unbinned.txt", ReadOptions{Duplicates: "mean"}, 2100, nil},
+}
+
+func TestReadRealFiles(t *testing.T) {
+	rd := realDataDir(t)
+	for _, tt := range realFiles {
+		t.Run(tt.file, func(t *testing.T) {
+			opts := tt.opts
+			s, warns, err := ReadTable(filepath.Join(rd, tt.file), &opts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			t.Logf("%d epochs; notes %q; warnings %q", s.Len(), s.Notes, warns)
+			if s.Len() < tt.minRows {
+				t.Errorf("%d epochs, want at least %d", s.Len(), tt.minRows)
+			}
+			for _, name := range tt.wantInd {
+				if s.Indicator(name) == nil || s.Indicator(name).Count() == 0 {
+					t.Errorf("no indicator %q (have %v)", name, indicatorNamesOf(s))
+				}
+			}
+			for _, tm := range s.Time {
+				if tm < 2440000 || tm > 2470000 {
+					t.Fatalf("time %v is not a full Julian date of the last decades", tm)
+				}
+			}
+		})
+	}
+}
+
+func indicatorNamesOf(s *Series) string {
+	var n []string
+	for _, ind := range s.Indicators {
+		n = append(n, ind.Name)
+	}
+	return strings.Join(n, ",")
+}
