@@ -3,6 +3,7 @@ package gp
 import (
 	"fmt"
 	"math"
+	"spotsift/mapfit"
 )
 
 // Misfit summarises how well one autocorrelation function approximates
@@ -109,8 +110,8 @@ func fitAutocorrelation(target Kernel, starts [][]float64, maxLag float64, build
 		ref[i] = target.Cov(lags[i])
 	}
 	k0 := target.Cov(0)
-	p := make([]float64, len(starts[0]))
 	obj := func(x []float64) float64 {
+		p := make([]float64, len(x))
 		for i, v := range x {
 			p[i] = math.Exp(v)
 		}
@@ -128,28 +129,31 @@ func fitAutocorrelation(target Kernel, starts [][]float64, maxLag float64, build
 		}
 		return ss
 	}
-	var best []float64
-	bestF := math.Inf(1)
-	for _, start := range starts {
-		x0 := make([]float64, len(start))
-		for i, v := range start {
-			x0[i] = math.Log(v)
+	// Least squares through the fitting layer: ln "posterior" −ss/2ε² with
+	// ε = 1e-3 of k(0), every parameter positive.
+	sp := make(mapfit.Space, len(starts[0]))
+	for i := range sp {
+		sp[i] = mapfit.Param{Name: fmt.Sprintf("p%d", i), Kind: mapfit.Positive}
+	}
+	lp := func(q []float64) float64 {
+		x := make([]float64, len(q))
+		for i, v := range q {
+			x[i] = math.Log(v)
 		}
-		if math.IsInf(obj(x0), 1) {
-			continue
-		}
-		x, _ := bfgs(obj, x0, 5000)
-		if f := obj(x); f < bestF {
-			best, bestF = x, f
+		return -obj(x) / 2e-6
+	}
+	var ok [][]float64
+	for _, st := range starts {
+		if !math.IsInf(lp(st), -1) {
+			ok = append(ok, st)
 		}
 	}
-	if best == nil {
+	if len(ok) == 0 {
 		return nil, fmt.Errorf("%w: approximation not defined at any start", ErrFit)
 	}
-	x := best
-	out := make([]float64, len(x))
-	for i, v := range x {
-		out[i] = math.Exp(v)
+	res, err := mapfit.Fit(&mapfit.Problem{Space: sp, LogPost: lp, Starts: ok}, &mapfit.Settings{MaxEvaluations: 5000, Workers: 1, NoLaplace: true})
+	if err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrFit, err)
 	}
-	return out, nil
+	return res.X, nil
 }

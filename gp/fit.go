@@ -3,8 +3,11 @@ package gp
 import (
 	"fmt"
 	"math"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/mat"
+
+	"spotsift/mapfit"
 )
 
 // FitSettings controls MAP fits of hyperparameters. A nil *FitSettings
@@ -27,11 +30,9 @@ type FitSettings struct {
 type FitResult struct {
 	// Params is the MAP parameter vector (natural parameters).
 	Params []float64
-	// Sigma holds the Laplace 1σ uncertainty of each parameter, the square
-	// root of the diagonal of the inverse Hessian of −ln posterior in the
-	// natural parameters; zero for fixed parameters, NaN for parameters
-	// the data do not constrain (see laplaceCov) or if NoUncertainty was
-	// set.
+	// Sigma holds the Laplace 1σ uncertainty of each parameter
+	// (mapfit.Laplace); zero for fixed parameters, NaN for parameters the
+	// data do not constrain or if NoUncertainty was set.
 	Sigma []float64
 	// Cov is the Laplace covariance of the free parameters (in the order
 	// of Free); nil when unavailable. Unconstrained parameters have NaN
@@ -48,15 +49,14 @@ type FitResult struct {
 	Evaluations int
 }
 
-// MAP maximises lnPost over the parameters, starting from p0. Parameters
-// with positive[i] set are fitted as ln p_i (so they stay positive); the
-// others directly. The optimiser is BFGS with central finite-difference
-// gradients and a backtracking line search (see bfgs). The uncertainty is the Laplace approximation: the inverse of
-// the finite-difference Hessian of −ln post at the maximum, in the
-// natural parameters.
-//
-// References: Nocedal & Wright 2006, Numerical Optimization, ch. 6 (BFGS);
-// the Laplace approximation as in docs/methods.md §9 [common practice].
+// MAP maximises lnPost over the parameters, starting from p0, through
+// mapfit (gonum/optimize's BFGS in transformed coordinates, with the
+// Laplace approximation at the optimum). Parameters with positive[i] set
+// are fitted as ln p_i (so they stay positive); the others directly, in
+// units of a tenth of their starting magnitude. Sigma and Cov are the
+// Laplace errors and covariance of the natural parameters (mapfit.Laplace:
+// curvature in the transformed coordinates, eigen-subspace fallback, NaN
+// where unknown).
 func MAP(lnPost func(p []float64) float64, p0 []float64, positive []bool, s *FitSettings) (*FitResult, error) {
 	n := len(p0)
 	if positive != nil && len(positive) != n {
@@ -73,179 +73,77 @@ func MAP(lnPost func(p []float64) float64, p0 []float64, positive []bool, s *Fit
 		set.MaxEvaluations = 4000
 	}
 	var free []int
+	var sp mapfit.Space
 	for i := 0; i < n; i++ {
-		if set.Fixed == nil || !set.Fixed[i] {
-			free = append(free, i)
-		}
 		if positive != nil && positive[i] && !(p0[i] > 0) {
 			return nil, fmt.Errorf("%w: starting parameter %d = %g must be positive", ErrBadParam, i, p0[i])
 		}
+		if set.Fixed != nil && set.Fixed[i] {
+			continue
+		}
+		free = append(free, i)
+		if positive != nil && positive[i] {
+			sp = append(sp, mapfit.Param{Name: fmt.Sprintf("p%d", i), Kind: mapfit.Positive})
+		} else {
+			sp = append(sp, mapfit.Param{Name: fmt.Sprintf("p%d", i), Kind: mapfit.Free, Scale: math.Max(0.1*math.Abs(p0[i]), 1e-3)})
+		}
 	}
-	isPos := func(i int) bool { return positive != nil && positive[i] }
 	full := func(x []float64) []float64 {
 		p := append([]float64(nil), p0...)
 		for k, i := range free {
-			if isPos(i) {
-				p[i] = math.Exp(x[k])
-			} else {
-				p[i] = x[k]
-			}
+			p[i] = x[k]
 		}
 		return p
 	}
-	evals := 0
-	post := func(p []float64) float64 {
-		evals++
+	var evals atomic.Int64
+	post := func(x []float64) float64 {
+		evals.Add(1)
+		p := full(x)
 		v := lnPost(p)
 		if set.LogPrior != nil {
 			v += set.LogPrior(p)
 		}
 		return v
 	}
-	obj := func(x []float64) float64 {
-		v := post(full(x))
-		if math.IsNaN(v) || math.IsInf(v, 1) {
-			return math.Inf(1)
-		}
-		return -v
-	}
 	x0 := make([]float64, len(free))
 	for k, i := range free {
-		if isPos(i) {
-			x0[k] = math.Log(p0[i])
-		} else {
-			x0[k] = p0[i]
-		}
+		x0[k] = p0[i]
 	}
-	if math.IsInf(obj(x0), 1) {
+	if v := post(x0); math.IsNaN(v) || math.IsInf(v, 0) {
 		return nil, fmt.Errorf("%w: objective not finite at the starting point", ErrFit)
 	}
-	res := &FitResult{Free: free}
-	x := x0
-	if len(free) > 0 {
-		var conv bool
-		x, conv = bfgs(obj, x0, set.MaxEvaluations)
-		res.Converged = conv
-	}
-	res.Params = full(x)
-	res.LogPost = post(res.Params)
-	res.Sigma = make([]float64, n)
-	if set.NoUncertainty || len(free) == 0 {
-		for _, i := range free {
-			res.Sigma[i] = math.NaN()
-		}
-		res.Evaluations = evals
+	res := &FitResult{Free: free, Sigma: make([]float64, n)}
+	if len(free) == 0 {
+		res.Params = append([]float64(nil), p0...)
+		res.LogPost = post(nil)
+		res.Converged = true
+		res.Evaluations = int(evals.Load())
 		return res, nil
 	}
-	// Laplace: Hessian of −ln post in the natural free parameters.
-	nat := func(y []float64) float64 {
-		p := append([]float64(nil), res.Params...)
-		for k, i := range free {
-			p[i] = y[k]
-		}
-		v := post(p)
-		if math.IsNaN(v) {
-			return math.Inf(1)
-		}
-		return -v
+	fit, err := mapfit.Fit(&mapfit.Problem{Space: sp, LogPost: post, Starts: [][]float64{x0}},
+		&mapfit.Settings{MaxEvaluations: set.MaxEvaluations, Workers: 1, NoLaplace: set.NoUncertainty})
+	if err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrFit, err)
 	}
-	y0 := make([]float64, len(free))
-	steps := make([]float64, len(free))
-	for k, i := range free {
-		y0[k] = res.Params[i]
-		steps[k] = 1e-4 * math.Max(math.Abs(y0[k]), 1e-3)
-	}
-	h := hessian(nat, y0, steps)
-	res.Cov = laplaceCov(h)
-	for k, i := range free {
+	res.Params = full(fit.X)
+	res.LogPost = fit.LogPost
+	res.Converged = fit.Converged
+	for _, i := range free {
 		res.Sigma[i] = math.NaN()
-		if res.Cov != nil {
-			if v := res.Cov.At(k, k); v >= 0 {
-				res.Sigma[i] = math.Sqrt(v)
+	}
+	if L := fit.Laplace; L != nil && L.Cov != nil {
+		res.Cov = mat.NewSymDense(len(free), nil)
+		for a := range free {
+			for b := 0; b <= a; b++ {
+				res.Cov.SetSym(a, b, L.Cov[a][b])
 			}
 		}
+		for k, i := range free {
+			res.Sigma[i] = L.Errors[k]
+		}
 	}
-	res.Evaluations = evals
+	res.Evaluations = int(evals.Load())
 	return res, nil
-}
-
-// laplaceCov returns the inverse of the Hessian h of −ln post. When h is
-// not positive definite (a parameter the data do not constrain, or a
-// saddle), the inverse is taken on the subspace of positive curvature and
-// every parameter with weight in the other directions gets a NaN
-// variance, so it is reported as unconstrained rather than falsely
-// precise. It returns nil if no direction has positive curvature.
-func laplaceCov(h *mat.SymDense) *mat.SymDense {
-	var chol mat.Cholesky
-	if chol.Factorize(h) {
-		var cov mat.SymDense
-		if err := chol.InverseTo(&cov); err == nil {
-			return &cov
-		}
-	}
-	var eig mat.EigenSym
-	if !eig.Factorize(h, true) {
-		return nil
-	}
-	vals := eig.Values(nil)
-	var vecs mat.Dense
-	eig.VectorsTo(&vecs)
-	n := len(vals)
-	maxv := 0.0
-	for _, v := range vals {
-		maxv = math.Max(maxv, v)
-	}
-	if !(maxv > 0) {
-		return nil
-	}
-	cov := mat.NewSymDense(n, nil)
-	bad := make([]bool, n)
-	for k, lam := range vals {
-		if lam > 1e-10*maxv {
-			for i := 0; i < n; i++ {
-				for j := 0; j <= i; j++ {
-					cov.SetSym(i, j, cov.At(i, j)+vecs.At(i, k)*vecs.At(j, k)/lam)
-				}
-			}
-			continue
-		}
-		for i := 0; i < n; i++ {
-			if w := vecs.At(i, k); w*w > 1e-6 {
-				bad[i] = true
-			}
-		}
-	}
-	for i, b := range bad {
-		if b {
-			cov.SetSym(i, i, math.NaN())
-		}
-	}
-	return cov
-}
-
-// hessian returns the central finite-difference Hessian of f at x with
-// per-coordinate steps h.
-func hessian(f func([]float64) float64, x, h []float64) *mat.SymDense {
-	n := len(x)
-	hs := mat.NewSymDense(n, nil)
-	y := append([]float64(nil), x...)
-	f0 := f(x)
-	eval := func(i int, di float64, j int, dj float64) float64 {
-		copy(y, x)
-		y[i] += di
-		y[j] += dj
-		return f(y)
-	}
-	for i := 0; i < n; i++ {
-		fp := eval(i, h[i], i, 0)
-		fm := eval(i, -h[i], i, 0)
-		hs.SetSym(i, i, (fp-2*f0+fm)/(h[i]*h[i]))
-		for j := 0; j < i; j++ {
-			v := (eval(i, h[i], j, h[j]) - eval(i, h[i], j, -h[j]) - eval(i, -h[i], j, h[j]) + eval(i, -h[i], j, -h[j])) / (4 * h[i] * h[j])
-			hs.SetSym(i, j, v)
-		}
-	}
-	return hs
 }
 
 // FitMulti fits the hyperparameters of a multi-output model to observed

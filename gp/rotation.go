@@ -140,8 +140,9 @@ type RotationSHO struct {
 }
 
 var (
-	_ Celerite  = RotationSHO{}
-	_ Validator = RotationSHO{}
+	_ Celerite       = RotationSHO{}
+	_ Validator      = RotationSHO{}
+	_ Differentiable = RotationSHO{}
 )
 
 // SHOs returns the two oscillators (at P and at P/2).
@@ -162,6 +163,27 @@ func (k RotationSHO) Cov(tau float64) float64 {
 		return a.Cov(tau)
 	}
 	return a.Cov(tau) + b.Cov(tau)
+}
+
+// CovDeriv returns k(τ), dk/dτ and d²k/dτ² from the celerite terms: for
+// τ ≥ 0 each term e^(−cτ)(a cos dτ + b sin dτ) differentiates to the same
+// form with (a, b) → (−ca + db, −cb − da); k is even, k' odd. Every
+// oscillator has k'(0) = 0, so the process is mean-square differentiable
+// and the values at τ = 0 are the true derivatives.
+func (k RotationSHO) CovDeriv(tau float64) (c, dc, d2c float64) {
+	sg := 1.0
+	if tau < 0 {
+		tau, sg = -tau, -1
+	}
+	for _, t := range k.Terms(nil) {
+		tc := newTermCoef(t.A, t.B, t.C, t.D)
+		e := math.Exp(-tc.c * tau)
+		sn, cn := math.Sincos(tc.d * tau)
+		c += e * (tc.a*cn + tc.b*sn)
+		dc += e * (tc.a1*cn + tc.b1*sn)
+		d2c += e * (tc.a2*cn + tc.b2*sn)
+	}
+	return c, sg * dc, d2c
 }
 
 // Terms appends the celerite terms of both oscillators (the second is
