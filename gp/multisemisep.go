@@ -20,9 +20,9 @@ import (
 //	k(τ) = e^(−c|τ|) [a cos dτ + b sin d|τ|],
 //
 // and its lag derivatives keep that form for τ > 0 (k' has coefficients
-// a1 = −ca + db, b1 = −cb − da, and k'' the same map applied again), so the
+// a1 = −ca + db, b1 = −cb − da, and k” the same map applied again), so the
 // covariance of output o at t_n and output o' at an earlier t_m,
-// x_oᵀ M(t_n − t_m) x_o' with x = (C, R) and M = [[k, −k'], [k', −k'']],
+// x_oᵀ M(t_n − t_m) x_o' with x = (C, R) and M = [[k, −k'], [k', −k”]],
 // is a sum over terms of e^(−c(t_n−t_m)) U_n·V_m with four columns per
 // term:
 //
@@ -139,7 +139,7 @@ func (m *MultiRotation) check(p []float64) error {
 	return nil
 }
 
-// termCoef holds one oscillator's coefficients of k, k' and k'' for τ > 0
+// termCoef holds one oscillator's coefficients of k, k' and k” for τ > 0
 // and its damping c and frequency d.
 type termCoef struct{ a, b, a1, b1, a2, b2, c, d float64 }
 
@@ -621,7 +621,7 @@ func (m *MultiRotation) Predict(p []float64, r [][]float64, out Output, tnew []f
 }
 
 // crossTerms returns cov(output a at t, output b at t − tau) from the
-// term coefficients: x_aᵀ M(τ) x_b with M = [[k, −k'], [k', −k'']].
+// term coefficients: x_aᵀ M(τ) x_b with M = [[k, −k'], [k', −k”]].
 func crossTerms(tc []termCoef, a, b Output, tau float64) float64 {
 	sg := 1.0
 	if tau < 0 {
