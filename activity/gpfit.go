@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat"
 
 	"spotsift/gp"
 	"spotsift/mapfit"
@@ -622,7 +623,415 @@ func fillFit(out *GPActivityFit, res *mapfit.Result, beta []float64, covBeta *ma
 	}
 }
 
+// multiIndicators returns the indicator columns of GPMulti: the names
+// given, or the first chromospheric index with errors and the bisector
+// span when it has errors.
+func multiIndicators(s *rvfit.Series, names []string) ([]string, error) {
+	if names != nil {
+		for _, n := range names {
+			if t, _, _, _ := indicatorSeries(s, n); len(t) < 4 {
+				return nil, fmt.Errorf("%w: indicator %q is missing, has no errors or fewer than 4 values", ErrGPModel, n)
+			}
+		}
+		return names, nil
+	}
+	var out []string
+	for _, n := range []string{"log_rhk", "s_index", "halpha"} {
+		if t, _, _, _ := indicatorSeries(s, n); len(t) >= 4 {
+			out = append(out, n)
+			break
+		}
+	}
+	if t, _, _, _ := indicatorSeries(s, "bis"); len(t) >= 4 {
+		out = append(out, "bis")
+	}
+	if len(out) == 0 {
+		return nil, fmt.Errorf("%w: the multi-output model needs an index (log_rhk, s_index or halpha) or bis column with errors", ErrGPModel)
+	}
+	return out, nil
+}
+
+// multiModel is the GPMulti model of a series: the RVs of each
+// instrument and each indicator as series of gp.MultiRotation, linear
+// terms (per-instrument offsets of every series, the sinusoid in the RVs)
+// profiled by generalised least squares.
+type multiModel struct {
+	mr      *gp.MultiRotation
+	y       [][]float64   // per series
+	cols    [][][]float64 // design columns, each per series
+	names   []string      // natural parameter names
+	sp      mapfit.Space
+	hasR    []bool // output o has a derivative term
+	nOut    int
+	nSeries int
+	lnPMu   float64
+	lnPSig  float64
+	seriesT [][]float64
+	rvIdx   [][]int // for each RV series, the epochs of s
+}
+
+// toP maps the natural parameters to MultiRotation's vector (an index has
+// no derivative term: its R is 0).
+func (mm *multiModel) toP(x []float64) []float64 {
+	p := append([]float64(nil), x[:4]...)
+	k := 4
+	for o := 0; o < mm.nOut; o++ {
+		p = append(p, x[k])
+		k++
+		if mm.hasR[o] {
+			p = append(p, x[k])
+			k++
+		} else {
+			p = append(p, 0)
+		}
+	}
+	return append(p, x[k:]...)
+}
+
+// gradX maps a gradient over MultiRotation's vector to the natural
+// parameters.
+func (mm *multiModel) gradX(gp []float64) []float64 {
+	g := append([]float64(nil), gp[:4]...)
+	k := 4
+	for o := 0; o < mm.nOut; o++ {
+		g = append(g, gp[k])
+		if mm.hasR[o] {
+			g = append(g, gp[k+1])
+		}
+		k += 2
+	}
+	return append(g, gp[k:]...)
+}
+
+// profile returns the profile ln L at x (and its gradient when grad is not
+// nil: by the envelope theorem the partial gradient at β̂), β̂ and its
+// covariance, and the residuals.
+func (mm *multiModel) profile(x, grad []float64, wantCov bool) (float64, []float64, *mat.SymDense, [][]float64, bool) {
+	p := mm.toP(x)
+	rhs := append([][][]float64{mm.y}, mm.cols...)
+	sol, err := mm.mr.SolveMany(p, rhs)
+	if err != nil {
+		return math.Inf(-1), nil, nil, nil, false
+	}
+	nc := len(mm.cols)
+	flat := func(v [][]float64) []float64 {
+		var o []float64
+		for _, s := range v {
+			o = append(o, s...)
+		}
+		return o
+	}
+	y := flat(mm.y)
+	ky := flat(sol[0])
+	X := make([][]float64, nc)
+	KX := make([][]float64, nc)
+	for j := range mm.cols {
+		X[j], KX[j] = flat(mm.cols[j]), flat(sol[j+1])
+	}
+	a := mat.NewSymDense(nc, nil)
+	b := mat.NewVecDense(nc, nil)
+	for j := 0; j < nc; j++ {
+		b.SetVec(j, dot(KX[j], y))
+		for l := j; l < nc; l++ {
+			a.SetSym(j, l, dot(KX[j], X[l]))
+		}
+	}
+	_ = ky
+	var ch mat.Cholesky
+	if !ch.Factorize(a) {
+		return math.Inf(-1), nil, nil, nil, false
+	}
+	var bv mat.VecDense
+	if err := ch.SolveVecTo(&bv, b); err != nil {
+		return math.Inf(-1), nil, nil, nil, false
+	}
+	beta := make([]float64, nc)
+	r := make([][]float64, len(mm.y))
+	for s := range mm.y {
+		r[s] = append([]float64(nil), mm.y[s]...)
+	}
+	for j := range beta {
+		beta[j] = bv.AtVec(j)
+		for s := range r {
+			for i := range r[s] {
+				r[s][i] -= beta[j] * mm.cols[j][s][i]
+			}
+		}
+	}
+	var lnL float64
+	if grad != nil {
+		gp := make([]float64, len(p))
+		lnL, err = mm.mr.LogLikelihoodGrad(gp, p, r)
+		copy(grad, mm.gradX(gp))
+	} else {
+		lnL, err = mm.mr.LogLikelihood(p, r)
+	}
+	if err != nil || math.IsNaN(lnL) {
+		return math.Inf(-1), nil, nil, nil, false
+	}
+	var cov *mat.SymDense
+	if wantCov {
+		cov = mat.NewSymDense(nc, nil)
+		if err := ch.InverseTo(cov); err != nil {
+			cov = nil
+		}
+	}
+	return lnL, beta, cov, r, true
+}
+
+// lnPrior returns the log prior inside the box and its gradient:
+// log-uniform in the period (or a Gaussian in ln P), the quality factor
+// and the quality gap; uniform in the rest.
+func (mm *multiModel) lnPrior(x, grad []float64) float64 {
+	lp := -math.Log(x[0]) - math.Log(x[1]) - math.Log(x[2])
+	if grad != nil {
+		grad[0] -= 1 / x[0]
+		grad[1] -= 1 / x[1]
+		grad[2] -= 1 / x[2]
+	}
+	if mm.lnPSig > 0 {
+		z := (math.Log(x[0]) - mm.lnPMu) / mm.lnPSig
+		lp -= 0.5 * z * z
+		if grad != nil {
+			grad[0] -= z / (mm.lnPSig * x[0])
+		}
+	}
+	return lp
+}
+
 // fitMultiActivity is FitGPActivity's GPMulti.
 func fitMultiActivity(s *rvfit.Series, o *GPActivityOptions) (*GPActivityFit, error) {
-	return nil, fmt.Errorf("%w: the multi-output model is not available yet", ErrGPModel)
+	inds, err := multiIndicators(s, o.Indicators)
+	if err != nil {
+		return nil, err
+	}
+	instr := s.Instruments()
+	gi, _ := groupIndex(s.Instrument)
+	T := s.Baseline()
+	mm := &multiModel{nOut: 1 + len(inds)}
+	outputs := append([]string{"rv"}, inds...)
+	mm.hasR = make([]bool, mm.nOut)
+	mm.hasR[0] = true
+	var series []gp.Series
+	var seriesInst [][]int
+	var seriesNames []string
+	var scat []float64
+	// RVs: one series per instrument.
+	for k, in := range instr {
+		var sr gp.Series
+		var y []float64
+		var idx []int
+		for i := range s.Time {
+			if gi[i] == k {
+				sr.T = append(sr.T, s.Time[i])
+				sr.Variance = append(sr.Variance, s.RVErr[i]*s.RVErr[i])
+				y = append(y, s.RV[i])
+				idx = append(idx, i)
+			}
+		}
+		series = append(series, sr)
+		mm.y = append(mm.y, y)
+		mm.rvIdx = append(mm.rvIdx, idx)
+		seriesInst = append(seriesInst, constInts(len(y), k))
+		seriesNames = append(seriesNames, "jitter_"+in)
+	}
+	rvSD := math.Max(stddev(s.RV), 1e-9)
+	nRVSeries := len(series)
+	startSeries := [][3][]float64{{s.Time, s.RV, s.RVErr}}
+	for j, name := range inds {
+		t, y, e, idx := indicatorSeries(s, name)
+		sr := gp.Series{Output: 1 + j, T: t}
+		for _, v := range e {
+			sr.Variance = append(sr.Variance, v*v)
+		}
+		if name == "bis" {
+			mm.hasR[1+j] = true
+		}
+		ins := make([]int, len(idx))
+		for i, k := range idx {
+			ins[i] = gi[k]
+		}
+		series = append(series, sr)
+		mm.y = append(mm.y, y)
+		seriesInst = append(seriesInst, ins)
+		seriesNames = append(seriesNames, "jitter_"+name)
+		scat = append(scat, math.Max(stddev(y), 1e-12))
+		startSeries = append(startSeries, [3][]float64{t, y, e})
+	}
+	mm.nSeries = len(series)
+	if mm.mr, err = gp.NewMultiRotation(outputs, series); err != nil {
+		return nil, fmt.Errorf("%s: %w", s.Name, err)
+	}
+	// Design: an offset per instrument for every series, the sinusoid in
+	// the RVs.
+	var linNames []string
+	var widths []float64
+	for sIdx := range series {
+		seen := map[int]bool{}
+		for _, k := range seriesInst[sIdx] {
+			seen[k] = true
+		}
+		for k := range instr {
+			if !seen[k] {
+				continue
+			}
+			col := make([][]float64, len(series))
+			for s2 := range series {
+				col[s2] = make([]float64, len(series[s2].T))
+			}
+			for i, kk := range seriesInst[sIdx] {
+				if kk == k {
+					col[sIdx][i] = 1
+				}
+			}
+			mm.cols = append(mm.cols, col)
+			label := outputs[series[sIdx].Output]
+			linNames = append(linNames, "offset_"+label+"_"+instr[k])
+			widths = append(widths, 3*rvSpan(mm.y[sIdx]))
+		}
+	}
+	if o.Period > 0 {
+		cc := make([][]float64, len(series))
+		sc := make([][]float64, len(series))
+		for s2 := range series {
+			cc[s2] = make([]float64, len(series[s2].T))
+			sc[s2] = make([]float64, len(series[s2].T))
+		}
+		for s2 := 0; s2 < nRVSeries; s2++ {
+			for i, t := range series[s2].T {
+				sc[s2][i], cc[s2][i] = math.Sincos(2 * math.Pi * (t - s.Time[0]) / o.Period)
+			}
+		}
+		mm.cols = append(mm.cols, cc, sc)
+		linNames = append(linNames, "sin_cos", "sin_sin")
+		widths = append(widths, 6*rvSpan(s.RV), 6*rvSpan(s.RV))
+	}
+	// Parameters and their boxes.
+	pLo, pHi := 1.5, math.Max(3, T/2)
+	if o.Rotation > 0 {
+		ls := math.Max(o.RotationErr/o.Rotation, 0.1)
+		mm.lnPMu, mm.lnPSig = math.Log(o.Rotation), ls
+		pLo, pHi = math.Max(0.5, o.Rotation*math.Exp(-4*ls)), o.Rotation*math.Exp(4*ls)
+	}
+	mm.sp = mapfit.Space{
+		{Name: "gp_prot", Kind: mapfit.LogBounded, Lo: pLo, Hi: pHi},
+		{Name: "gp_qual", Kind: mapfit.LogBounded, Lo: 0.05, Hi: 30},
+		{Name: "gp_qgap", Kind: mapfit.LogBounded, Lo: 0.01, Hi: 30},
+		{Name: "gp_mix", Kind: mapfit.Bounded, Lo: 0, Hi: 1},
+	}
+	// dG/dt of a unit process at period P is ~2π/P: derivative
+	// coefficients get a box wide enough for 10× the scatter at pHi.
+	rW := pHi / (2 * math.Pi)
+	mm.sp = append(mm.sp,
+		mapfit.Param{Name: "gp_rv_level", Kind: mapfit.Bounded, Lo: 0, Hi: 10 * rvSD},
+		mapfit.Param{Name: "gp_rv_slope", Kind: mapfit.Bounded, Lo: -10 * rvSD * rW, Hi: 10 * rvSD * rW})
+	for j, name := range inds {
+		mm.sp = append(mm.sp, mapfit.Param{Name: "gp_" + name + "_level", Kind: mapfit.Bounded, Lo: -10 * scat[j], Hi: 10 * scat[j]})
+		if mm.hasR[1+j] {
+			mm.sp = append(mm.sp, mapfit.Param{Name: "gp_" + name + "_slope", Kind: mapfit.Bounded, Lo: -10 * scat[j] * rW, Hi: 10 * scat[j] * rW})
+		}
+	}
+	for sIdx, n := range seriesNames {
+		sd := rvSD
+		if sIdx >= nRVSeries {
+			sd = scat[sIdx-nRVSeries]
+		}
+		mm.sp = append(mm.sp, mapfit.Param{Name: n, Kind: mapfit.Bounded, Lo: 0, Hi: 5 * sd})
+	}
+	post := func(x []float64) float64 {
+		lnL, _, _, _, ok := mm.profile(x, nil, false)
+		if !ok || !inBox(mm.sp, x) {
+			return math.Inf(-1)
+		}
+		return lnL + mm.lnPrior(x, nil)
+	}
+	grad := func(g, x []float64) float64 {
+		if !inBox(mm.sp, x) {
+			return math.Inf(-1)
+		}
+		lnL, _, _, _, ok := mm.profile(x, g, false)
+		if !ok {
+			return math.Inf(-1)
+		}
+		return lnL + mm.lnPrior(x, g)
+	}
+	// Starts: each period from the rotation estimate and the periodograms
+	// of the RVs and indicators; levels at 0.7 of each series' scatter,
+	// signed by the series' correlation with the RVs at shared epochs.
+	sign := func(j int) []float64 {
+		t, y, _, idx := indicatorSeries(s, inds[j])
+		_ = t
+		if len(idx) < 4 {
+			return []float64{1, -1}
+		}
+		var a, b []float64
+		for i, k := range idx {
+			a, b = append(a, s.RV[k]), append(b, y[i])
+		}
+		if c := stat.Correlation(a, b, nil); c < 0 {
+			return []float64{-1}
+		}
+		return []float64{1}
+	}
+	var starts [][]float64
+	for _, P := range periodStarts(o.Rotation, startSeries, pLo, pHi, o.Starts) {
+		x := []float64{P, 1, 2, 0.5, 0.7 * rvSD, 0}
+		for j := range inds {
+			x = append(x, sign(j)[0]*0.7*scat[j])
+			if mm.hasR[1+j] {
+				x = append(x, 0)
+			}
+		}
+		for sIdx := range seriesNames {
+			sd := rvSD
+			if sIdx >= nRVSeries {
+				sd = scat[sIdx-nRVSeries]
+			}
+			x = append(x, 0.3*sd)
+		}
+		for i, q := range mm.sp {
+			if q.Kind == mapfit.Bounded || q.Kind == mapfit.LogBounded {
+				w := 1e-3 * (q.Hi - q.Lo)
+				x[i] = math.Max(q.Lo+w, math.Min(q.Hi-w, x[i]))
+			}
+		}
+		starts = append(starts, x)
+	}
+	res, err := mapfit.Fit(&mapfit.Problem{Space: mm.sp, LogPost: post, Grad: grad, Starts: starts},
+		&mapfit.Settings{MaxEvaluations: 300 * len(mm.sp), Workers: o.Workers})
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", s.Name, err)
+	}
+	lnL, beta, covBeta, r, ok := mm.profile(res.X, nil, true)
+	if !ok {
+		return nil, fmt.Errorf("%s: %w: the covariance at the optimum is not positive definite", s.Name, mapfit.ErrNoStart)
+	}
+	out := &GPActivityFit{Model: GPMulti, Period: o.Period, Names: mm.sp.Names(), Params: res.X,
+		LogLikelihood: lnL, LogPosterior: res.LogPost, NumData: mm.mr.Len(), Rotation: res.X[0], RotationErr: math.NaN(),
+		Amplitude: math.NaN(), AmplitudeErr: math.NaN(), LinearNames: linNames}
+	fillFit(out, res, beta, covBeta, widths)
+	out.RotationErr = out.Errors[0]
+	// Residuals after the full model: RV less offsets, sinusoid and the
+	// predictive mean of the RV output given every series.
+	p := mm.toP(res.X)
+	rvOut := gp.Output{C: p[4], R: p[5]}
+	out.Residuals = make([]float64, s.Len())
+	for k := 0; k < nRVSeries; k++ {
+		mean, err := mm.mr.Predict(p, r, rvOut, series[k].T)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", s.Name, err)
+		}
+		for i, idx := range mm.rvIdx[k] {
+			out.Residuals[idx] = r[k][i] - mean[i]
+		}
+	}
+	return out, nil
+}
+
+func constInts(n, v int) []int {
+	out := make([]int, n)
+	for i := range out {
+		out[i] = v
+	}
+	return out
 }

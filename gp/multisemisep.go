@@ -20,7 +20,7 @@ import (
 //	k(τ) = e^(−c|τ|) [a cos dτ + b sin d|τ|],
 //
 // and its lag derivatives keep that form for τ > 0 (k' has coefficients
-// a1 = −ca + db, b1 = −cb − da, and k” the same map applied again), so the
+// a1 = −ca + db, b1 = −cb − da, and k″ the same map applied again), so the
 // covariance of output o at t_n and output o' at an earlier t_m,
 // x_oᵀ M(t_n − t_m) x_o' with x = (C, R) and M = [[k, −k'], [k', −k”]],
 // is a sum over terms of e^(−c(t_n−t_m)) U_n·V_m with four columns per
@@ -565,6 +565,62 @@ func (m *MultiRotation) backward(ws *mrWork, p []float64, tc [mrTerms]termCoef, 
 	}
 }
 
+// SolveMany returns K⁻¹y for each right-hand side (per-series slices, as
+// the residuals of LogLikelihood), factorising K once.
+func (m *MultiRotation) SolveMany(p []float64, rhs [][][]float64) ([][][]float64, error) {
+	if err := m.check(p); err != nil {
+		return nil, err
+	}
+	for _, r := range rhs {
+		if err := m.checkR(r); err != nil {
+			return nil, err
+		}
+	}
+	ws := m.work()
+	defer mrPool.Put(ws)
+	if _, err := m.factor(ws, p); err != nil {
+		return nil, err
+	}
+	out := make([][][]float64, len(rhs))
+	alpha := make([]float64, len(m.t))
+	for i, r := range rhs {
+		m.solve(ws, r, alpha)
+		out[i] = make([][]float64, len(m.series))
+		for s := range m.series {
+			out[i][s] = make([]float64, len(m.series[s].T))
+		}
+		for k, a := range alpha {
+			out[i][m.ser[k]][m.pos[k]] = a
+		}
+	}
+	return out, nil
+}
+
+// solve stores K⁻¹r in alpha (merged order) with the factorisation in ws:
+// the forward pass, then x_n = z_n/D_n − W_n·g, g = φ_{n+1}(g + U_{n+1}
+// x_{n+1}).
+func (m *MultiRotation) solve(ws *mrWork, r [][]float64, alpha []float64) {
+	const R = mrRank
+	n := len(m.t)
+	for k := 0; k < n; k++ {
+		ws.y[k] = r[m.ser[k]][m.pos[k]]
+	}
+	m.forward(ws)
+	g := make([]float64, R)
+	alpha[n-1] = ws.z[n-1] / ws.d[n-1]
+	for k := n - 2; k >= 0; k-- {
+		ph := ws.phi[(k+1)*R : (k+2)*R]
+		un := ws.u[(k+1)*R : (k+2)*R]
+		wk := ws.w[k*R : k*R+R]
+		wg := 0.0
+		for i := 0; i < R; i++ {
+			g[i] = ph[i] * (g[i] + un[i]*alpha[k+1])
+			wg += wk[i] * g[i]
+		}
+		alpha[k] = ws.z[k]/ws.d[k] - wg
+	}
+}
+
 // Predict returns the predictive mean of the noise-free output out (any
 // (C, R), e.g. one of the model's outputs at its fitted coefficients, or
 // Output{C: 1} for G) at times tnew, given per-series residuals r.
@@ -580,32 +636,13 @@ func (m *MultiRotation) Predict(p []float64, r [][]float64, out Output, tnew []f
 	}
 	ws := m.work()
 	defer mrPool.Put(ws)
-	const R = mrRank
 	n := len(m.t)
-	for k := 0; k < n; k++ {
-		ws.y[k] = r[m.ser[k]][m.pos[k]]
-	}
 	tc, err := m.factor(ws, p)
 	if err != nil {
 		return nil, err
 	}
-	m.forward(ws)
-	// Backward: x_n = z_n/D_n − W_n·g, g = φ_{n+1}(g + U_{n+1} x_{n+1}).
 	alpha := make([]float64, n)
-	g := make([]float64, R)
-	alpha[n-1] = ws.z[n-1] / ws.d[n-1]
-	for k := n - 2; k >= 0; k-- {
-		ph := ws.phi[(k+1)*R : (k+2)*R]
-		un := ws.u[(k+1)*R : (k+2)*R]
-		wk := ws.w[k*R : k*R+R]
-		wg := 0.0
-		for i := 0; i < R; i++ {
-			g[i] = ph[i] * (g[i] + un[i]*alpha[k+1])
-			wg += wk[i] * g[i]
-		}
-		alpha[k] = ws.z[k]/ws.d[k] - wg
-	}
-	no := len(m.outputs)
+	m.solve(ws, r, alpha)
 	mean := make([]float64, len(tnew))
 	for i, ts := range tnew {
 		v := 0.0
@@ -616,19 +653,16 @@ func (m *MultiRotation) Predict(p []float64, r [][]float64, out Output, tnew []f
 		}
 		mean[i] = v
 	}
-	_ = no
 	return mean, nil
 }
 
 // crossTerms returns cov(output a at t, output b at t − tau) from the
 // term coefficients: x_aᵀ M(τ) x_b with M = [[k, −k'], [k', −k”]].
 func crossTerms(tc []termCoef, a, b Output, tau float64) float64 {
-	sg := 1.0
 	if tau < 0 {
 		// cov(a@t, b@t') = cov(b@t', a@t) with a positive lag.
 		a, b = b, a
 		tau = -tau
-		sg = 1
 	}
 	v := 0.0
 	for _, c := range tc {
@@ -639,5 +673,5 @@ func crossTerms(tc []termCoef, a, b Output, tau float64) float64 {
 		k2 := e * (c.a2*cn + c.b2*sn)
 		v += a.C*b.C*k - a.C*b.R*k1 + a.R*b.C*k1 - a.R*b.R*k2
 	}
-	return sg * v
+	return v
 }
