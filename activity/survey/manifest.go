@@ -15,6 +15,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"github.com/BurntSushi/toml"
 
@@ -48,6 +49,12 @@ type Entry struct {
 	// the table's own statement, else m/s).
 	Columns map[string]string
 	RVUnit  string
+	// Read holds the other options of reading the star's table, as the
+	// command-line flags of the same names: indicators (nil: recognised
+	// names), units, time_zero, missing, reject_if, duplicate_epochs and
+	// split (zero-point splits, LABEL@JD). Data may also name a data-set
+	// file (.toml, rvfit.ReadDataSetFile) of several tables.
+	Read TableOptions
 	// Photometry is the star's light curve (a table read with
 	// photometry.Read), "" for none. A relative path is taken from
 	// Manifest.Dir.
@@ -67,9 +74,76 @@ type Manifest struct {
 	Stars []Entry
 }
 
+// TableOptions are the per-star options of reading a table beyond Columns
+// and RVUnit.
+type TableOptions struct {
+	Indicators []string
+	Units      map[string]string
+	TimeZero   string
+	Missing    []string
+	RejectIf   []string
+	Duplicates string
+	Split      []string
+}
+
+// empty reports whether no option is set.
+func (o *TableOptions) empty() bool {
+	return o.Indicators == nil && len(o.Units) == 0 && o.TimeZero == "" && len(o.Missing) == 0 &&
+		len(o.RejectIf) == 0 && o.Duplicates == "" && len(o.Split) == 0
+}
+
+// key is a canonical text of the options, for the input hash ("" when
+// none is set, so that older states stay valid).
+func (o *TableOptions) key() string {
+	if o.empty() {
+		return ""
+	}
+	units := make([]string, 0, len(o.Units))
+	for _, k := range sortedKeys(o.Units) {
+		units = append(units, k+"="+o.Units[k])
+	}
+	ind := "(recognised)"
+	if o.Indicators != nil {
+		ind = strings.Join(o.Indicators, ",")
+	}
+	return fmt.Sprintf("indicators=%q units=%q time_zero=%q missing=%q reject_if=%q duplicates=%q split=%q",
+		ind, strings.Join(units, ","), o.TimeZero, strings.Join(o.Missing, ","), strings.Join(o.RejectIf, ";"), o.Duplicates, strings.Join(o.Split, ","))
+}
+
+func sortedKeys(m map[string]string) []string {
+	keys := make([]string, 0, len(m))
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	return keys
+}
+
+// readOptions are the rvfit options that read the entry's table.
+func (e *Entry) readOptions() *rvfit.ReadOptions {
+	d := e.Read.Duplicates
+	if d == "error" {
+		d = ""
+	}
+	return &rvfit.ReadOptions{Columns: e.Columns, RVUnit: e.RVUnit, Indicators: e.Read.Indicators, Units: e.Read.Units,
+		TimeZero: e.Read.TimeZero, Missing: e.Read.Missing, RejectIf: e.Read.RejectIf, Duplicates: d}
+}
+
+// semicolonList splits a manifest cell of values separated by ';'.
+func semicolonList(s string) []string {
+	var out []string
+	for _, p := range strings.Split(s, ";") {
+		if p = strings.TrimSpace(p); p != "" {
+			out = append(out, p)
+		}
+	}
+	return out
+}
+
 // csvColumns are the columns a CSV manifest may have; name and data are
 // required.
 var csvColumns = []string{"name", "data", "star_file", "periods", "columns", "rv_unit", "photometry",
+	"indicators", "units", "time_zero", "missing", "reject_if", "duplicate_epochs", "split",
 	"b_v", "mass", "teff", "vsini", "rotation_period", "rotation_period_err"}
 
 // inlineKeys are the star parameters a manifest may give inline, with
@@ -200,6 +274,24 @@ func ParseManifestCSV(r io.Reader, name string) (*Manifest, error) {
 			}
 			e.Columns = cm
 		}
+		if c := get("indicators"); c != "" {
+			e.Read.Indicators = []string{}
+			if c != "none" {
+				e.Read.Indicators = semicolonList(c)
+			}
+		}
+		if c := get("units"); c != "" {
+			u, err := rvfit.ParseColumnMap(strings.ReplaceAll(c, ";", ","))
+			if err != nil {
+				return nil, bad("units", err.Error())
+			}
+			e.Read.Units = u
+		}
+		e.Read.TimeZero = get("time_zero")
+		e.Read.Missing = semicolonList(get("missing"))
+		e.Read.RejectIf = semicolonList(get("reject_if"))
+		e.Read.Duplicates = get("duplicate_epochs")
+		e.Read.Split = semicolonList(get("split"))
 		inline := map[string]float64{}
 		for _, k := range inlineKeys {
 			v := get(k)
@@ -240,6 +332,13 @@ type tomlEntry struct {
 	Columns           string    `toml:"columns"`
 	RVUnit            string    `toml:"rv_unit"`
 	Photometry        string    `toml:"photometry"`
+	Indicators        []string  `toml:"indicators"`
+	Units             string    `toml:"units"`
+	TimeZero          string    `toml:"time_zero"`
+	Missing           []string  `toml:"missing"`
+	RejectIf          []string  `toml:"reject_if"`
+	DuplicateEpochs   string    `toml:"duplicate_epochs"`
+	Split             []string  `toml:"split"`
 	BV                *float64  `toml:"b_v"`
 	Mass              *float64  `toml:"mass"`
 	Teff              *float64  `toml:"teff"`
@@ -276,6 +375,15 @@ func ParseManifestTOML(b []byte, name string) (*Manifest, error) {
 			}
 			e.Columns = cm
 		}
+		if t.Units != "" {
+			u, err := rvfit.ParseColumnMap(t.Units)
+			if err != nil {
+				return nil, &ManifestError{File: name, Line: line, Key: fmt.Sprintf("star[%d].units", i+1), Msg: err.Error()}
+			}
+			e.Read.Units = u
+		}
+		e.Read.Indicators, e.Read.TimeZero, e.Read.Missing = t.Indicators, t.TimeZero, t.Missing
+		e.Read.RejectIf, e.Read.Duplicates, e.Read.Split = t.RejectIf, t.DuplicateEpochs, t.Split
 		inline := map[string]float64{}
 		for k, p := range map[string]*float64{"b_v": t.BV, "mass": t.Mass, "teff": t.Teff, "vsini": t.VSinI,
 			"rotation_period": t.RotationPeriod, "rotation_period_err": t.RotationPeriodErr} {
@@ -388,6 +496,12 @@ func (m *Manifest) Check() error {
 		if strings.TrimSpace(e.Name) == "" {
 			return bad("name", fmt.Sprintf("star %d has no name", i+1))
 		}
+		if len(e.Name) > maxNameBytes {
+			return bad("name", fmt.Sprintf("star %d: a name of %d bytes; names are at most %d bytes (they name folders)", i+1, len(e.Name), maxNameBytes))
+		}
+		if msg := badNameChars(e.Name); msg != "" {
+			return bad("name", fmt.Sprintf("star %d: the name %s", i+1, msg))
+		}
 		if e.Data == "" && e.Series == nil {
 			return bad("data", fmt.Sprintf("star %q has no data", e.Name))
 		}
@@ -410,8 +524,38 @@ func (m *Manifest) Check() error {
 		default:
 			return bad("rv_unit", fmt.Sprintf("star %q: unit %q is neither m/s nor km/s", e.Name, e.RVUnit))
 		}
+		if err := e.readOptions().Check(); err != nil {
+			return bad("reading options", fmt.Sprintf("star %q: %v", e.Name, err))
+		}
+		for _, sp := range e.Read.Split {
+			if _, _, err := rvfit.ParseSplit(sp); err != nil {
+				return bad("split", fmt.Sprintf("star %q: %v", e.Name, err))
+			}
+		}
 	}
 	return nil
+}
+
+// maxNameBytes bounds a star's name: it names a folder, and file systems
+// allow 255 bytes.
+const maxNameBytes = 255
+
+// badNameChars says what is wrong with the characters of a star name, or
+// "" when nothing is: it must be UTF-8 without control or bidirectional
+// formatting characters.
+func badNameChars(name string) string {
+	if !utf8.ValidString(name) {
+		return "is not UTF-8 text"
+	}
+	for _, r := range name {
+		if r < 0x20 || r == 0x7f || (r >= 0x80 && r < 0xa0) {
+			return fmt.Sprintf("holds the control character %U", r)
+		}
+		if r >= 0x202A && r <= 0x202E || r >= 0x2066 && r <= 0x2069 || r == 0x200E || r == 0x200F {
+			return fmt.Sprintf("holds the bidirectional formatting character %U", r)
+		}
+	}
+	return ""
 }
 
 func (m *Manifest) file() string {

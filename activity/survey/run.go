@@ -690,7 +690,7 @@ func loadSeries(ctx context.Context, m *Manifest, e *Entry, star *activity.Star)
 			notes = append(notes, fmt.Sprintf("spectrum %s %s: %v", filepath.Base(f.Path), what, f.Err))
 		}
 	} else {
-		s, notes, err = rvfit.ReadTable(p, &rvfit.ReadOptions{Columns: e.Columns, RVUnit: e.RVUnit})
+		s, notes, err = readTables(p, e)
 		if err != nil {
 			return nil, nil, err
 		}

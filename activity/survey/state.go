@@ -227,6 +227,9 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 		line("column", k+"="+e.Columns[k])
 	}
 	line("rv_unit", e.RVUnit)
+	if k := e.Read.key(); k != "" {
+		line("read", k)
+	}
 	if e.Star != nil {
 		b, _ := json.Marshal(e.Star)
 		line("inline", string(b))
@@ -286,7 +289,7 @@ func InputHash(m *Manifest, e *Entry, o *Options) (string, []activity.InputHash,
 			if err := regularFile(p, "data"); err != nil {
 				return "", nil, err
 			}
-			sum, err := activity.HashFile(p)
+			sum, err := hashData(p)
 			if err != nil {
 				return "", nil, fmt.Errorf("data: %w", err)
 			}
