@@ -232,17 +232,20 @@ func (tr *trial) stackedGrowth() {
 	pval := float64(exceed+1) / float64(nsim+1)
 	const alpha = 0.01
 	e := Evidence{Name: "stacked_growth", Value: Num(pval), Threshold: alpha}
+	if exceed == 0 {
+		e.Bound = "<"
+	}
 	snr := tr.amp / tr.ampErr
 	switch {
 	case pval < alpha:
 		e.Points, e.Weight = TowardActivity, Weights.StackedGrowth.Activity
-		e.Reason = fmt.Sprintf("the power grows unlike a strictly periodic signal as epochs are added (Monte Carlo p = %.2g)", pval)
+		e.Reason = fmt.Sprintf("the power grows unlike a strictly periodic signal as epochs are added (Monte Carlo %s)", pText(pval, exceed == 0))
 	case snr >= 5:
 		e.Points, e.Weight = TowardPlanet, -Weights.StackedGrowth.Planet
-		e.Reason = fmt.Sprintf("the power grows as a strictly periodic signal's would as epochs are added (Monte Carlo p = %.2g)", pval)
+		e.Reason = fmt.Sprintf("the power grows as a strictly periodic signal's would as epochs are added (Monte Carlo %s)", pText(pval, exceed == 0))
 	default:
 		e.Points = TowardNeither
-		e.Reason = fmt.Sprintf("the power's growth is consistent with a periodic signal (p = %.2g), but at %.1fσ the test is weak", pval, snr)
+		e.Reason = fmt.Sprintf("the power's growth is consistent with a periodic signal (%s), but at %.1fσ the test is weak", pText(pval, exceed == 0), snr)
 	}
 	tr.add(e)
 }

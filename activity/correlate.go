@@ -126,6 +126,9 @@ type LaggedCorrelation struct {
 	P float64 `json:"p"`
 	// Pairs is the number of epoch pairs in the best lag bin.
 	Pairs int `json:"pairs"`
+	// Floor is true when no permutation reached the observed |DCF|: P is
+	// then an upper limit, 1/(nPerm+1).
+	Floor bool `json:"floor,omitempty"`
 }
 
 // DiscreteCorrelation returns the lagged correlation of x and y (same
@@ -217,6 +220,7 @@ func DiscreteCorrelation(t, x, y []float64, maxLag, binWidth float64, minPairs, 
 		}
 	}
 	out.P = float64(exceed+1) / float64(nPerm+1)
+	out.Floor = exceed == 0
 	return out
 }
 

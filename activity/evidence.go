@@ -236,8 +236,12 @@ func (tr *trial) indicatorTests() {
 		if !r.ok {
 			continue
 		}
-		tr.add(Evidence{Name: "lagged_correlation:" + r.name, Value: Num(r.lag.P), Threshold: 0.01, Points: TowardNeither,
-			Reason: fmt.Sprintf("for information: strongest discrete correlation of %s with the signal's RVs is %.2f at a lag of %.3g d (permutation p = %.2g before correction)", r.name, r.lag.DCF, r.lag.Lag, r.lag.P)})
+		bound := ""
+		if r.lag.Floor {
+			bound = "<"
+		}
+		tr.add(Evidence{Name: "lagged_correlation:" + r.name, Value: Num(r.lag.P), Threshold: 0.01, Points: TowardNeither, Bound: bound,
+			Reason: fmt.Sprintf("for information: strongest discrete correlation of %s with the signal's RVs is %.2f at a lag of %.3g d (permutation %s before correction)", r.name, r.lag.DCF, r.lag.Lag, pText(r.lag.P, r.lag.Floor))})
 	}
 
 }

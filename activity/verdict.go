@@ -67,6 +67,10 @@ type Evidence struct {
 	// the value at which the test changes side.
 	Value     Num `json:"value"`
 	Threshold Num `json:"threshold"`
+	// Bound is "<" when Value is an upper limit (a Monte Carlo p-value
+	// with no draw reaching the observed statistic is bounded by the
+	// resolution 1/(draws+1), not equal to it), "" otherwise.
+	Bound string `json:"bound,omitempty"`
 	// Points is TowardPlanet, TowardActivity or TowardNeither.
 	Points string `json:"points"`
 	// Weight is the contribution to the score: positive toward activity,
