@@ -123,8 +123,8 @@ type OrderRV struct {
 // bands are moved by the star's velocity in the spectrum's frame, the CCF
 // velocity against m's rest wavelengths, whatever the systemic velocity and
 // the barycentric correction. Each index checks that its bands sit on the
-// lines: the deepest point of the (3-pixel smoothed) flux within ±3 Å of
-// each line centre — Ca II K and H, Na I D2 and D1, H-alpha — must fall
+// lines: the deepest point of the flux, averaged over a box as wide as the
+// tolerance below, within ±3 Å of each line centre — Ca II K and H, Na I D2 and D1, H-alpha — must fall
 // inside the line's band (±0.6, ±0.25 and ±0.8 Å); a line that does not is
 // named in Result.Warnings with its offset (a wrong systemic velocity or
 // wavelength scale, or, for H-alpha, a line in emission). With a mask that
@@ -280,6 +280,14 @@ func (r *Result) measureCCF(c *CCF, opts *Options, bary func(float64) float64) (
 		segGrads[s] = make([]float64, nv)
 	}
 	vq, vs := c.plan.propagate(grads, segGrads)
+	if sig := math.Sqrt(vq[qRV]); !(sig < r.Fit.FWHM()) {
+		// A flat CCF (a spectrum without lines, a constant flux): the fit
+		// finds a "line" whose position is unknown to more than its width.
+		e := failed(fmt.Errorf("%s: %w: the CCF has no significant dip (RV error %.3g m/s exceeds the fitted width %.3g m/s)", r.Name, ErrNoLine, sig, r.Fit.FWHM()))
+		r.RV, r.FWHM, r.Contrast, r.BIS, r.DeltaV, r.Vspan, r.Chromatic = e, e, e, e, e, e, e
+		r.PhotonLimit = math.NaN()
+		return 0, false
+	}
 
 	r.RV = Estimate{Value: bary(th[2]), Sigma: math.Sqrt(vq[qRV])}
 	r.FWHM = Estimate{Value: r.Fit.FWHM(), Sigma: math.Sqrt(vq[qFWHM])}
@@ -446,9 +454,9 @@ var bandLines = []struct {
 }
 
 // checkBands returns a warning for each index line whose core (the deepest
-// point of the 3-pixel running mean of the flux within ±3 Å of the
-// expected centre) lies outside the tolerance; lines the spectrum does not
-// cover are not checked.
+// point of the running mean of the flux over a box as wide as the
+// tolerance, within ±3 Å of the expected centre) lies outside the
+// tolerance; lines the spectrum does not cover are not checked.
 func checkBands(s *Spectrum, orders []ccfOrder, rv float64) []string {
 	var out []string
 	d := DopplerFactor(rv)
@@ -466,14 +474,22 @@ func checkBands(s *Spectrum, orders []ccfOrder, rv float64) []string {
 			continue
 		}
 		o := orders[best]
-		x0 := searchEdges(o.edges, lo) + 1
-		x1 := searchEdges(o.edges, hi) - 1
-		if x1-x0 < 4 {
+		x0 := searchEdges(o.edges, lo)
+		x1 := searchEdges(o.edges, hi)
+		if x1-x0 < 8 {
 			continue
 		}
-		imin, fmin := -1, math.Inf(1)
+		// Running mean over a box as wide as the tolerance: narrow
+		// blends and an emission core narrower than the band do not move
+		// the minimum of the line's trough.
+		cum := make([]float64, x1-x0+2)
 		for x := x0; x <= x1; x++ {
-			if f := o.flux[x-1] + o.flux[x] + o.flux[x+1]; f < fmin {
+			cum[x-x0+1] = cum[x-x0] + o.flux[x]
+		}
+		h := max(1, int(0.5*bl.tol*float64(x1-x0)/(hi-lo)))
+		imin, fmin := -1, math.Inf(1)
+		for x := x0 + h; x <= x1-h; x++ {
+			if f := cum[x-x0+h+1] - cum[x-x0-h]; f < fmin {
 				imin, fmin = x, f
 			}
 		}

@@ -118,7 +118,11 @@ that fail on an otherwise good spectrum.`)
 		return fail(e, exitFailed, err)
 	}
 	if !c.quiet {
-		fmt.Fprintf(e.stderr, "spotsift: %d of %d spectra measured into %s\n", s.Len(), len(paths), *out)
+		skipped := ""
+		if n := len(rep.Skipped); n > 0 {
+			skipped = fmt.Sprintf(" (%d other files skipped)", n)
+		}
+		fmt.Fprintf(e.stderr, "spotsift: %d of %d spectra measured into %s%s\n", s.Len(), len(paths)-len(rep.Skipped), *out, skipped)
 	}
 	return exitOK
 }
