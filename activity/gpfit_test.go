@@ -160,8 +160,10 @@ func TestFitGPActivityMulti(t *testing.T) {
 	// Without a rotation estimate the multi-output fit finds the rotation
 	// from the data alone (within 10%), converges, and leaves residuals at
 	// the measurement noise.
+	// The baseline covers at least six rotations (as a survey of a slow
+	// rotator would).
 	for _, prot := range []float64{4, 17, 45} {
-		s := multiStar(uint64(prot), 150, 200, prot)
+		s := multiStar(uint64(prot), 150, math.Max(200, 6*prot), prot)
 		f, err := FitGPActivity(s, &GPActivityOptions{Model: GPMulti})
 		if err != nil {
 			t.Fatal(err)

@@ -60,6 +60,8 @@ type StartResult struct {
 	// not on an evaluation limit or a failure.
 	Converged   bool `json:"converged"`
 	Evaluations int  `json:"evaluations"`
+
+	score float64 // the maximised function (ln posterior with scales in ln x)
 }
 
 // Result is the outcome of Fit.
@@ -113,7 +115,10 @@ func (r *Result) Summary() string {
 	return s
 }
 
-// Fit maximises the posterior from every start and keeps the best: each
+// Fit maximises the posterior from every start and keeps the best (for
+// the scale parameters, Positive and LogBounded, the posterior of ln x: a
+// log-uniform prior is then flat and cannot pile the optimum up at its
+// lower bound, common practice for scales); each
 // start runs (optionally) Nelder–Mead and then BFGS with a More–Thuente
 // line search (gonum/optimize) in the transformed coordinates, and the
 // best optimum gets its Laplace approximation.
@@ -171,7 +176,7 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	res.Best = -1
 	for i, st := range res.Starts {
 		res.Evaluations += st.Evaluations
-		if !math.IsInf(st.LogPost, -1) && !math.IsNaN(st.LogPost) && (res.Best < 0 || st.LogPost > res.Starts[res.Best].LogPost) {
+		if !math.IsInf(st.score, -1) && !math.IsNaN(st.score) && (res.Best < 0 || st.score > res.Starts[res.Best].score) {
 			res.Best = i
 		}
 	}
@@ -182,7 +187,7 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	res.X = append([]float64(nil), b.X...)
 	res.LogPost, res.Converged, res.Status = b.LogPost, b.Converged, b.Status
 	for _, st := range res.Starts {
-		if st.LogPost >= b.LogPost-s.AgreeTol {
+		if st.score >= b.score-s.AgreeTol {
 			res.Agree++
 		}
 	}
@@ -199,8 +204,11 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	return res, nil
 }
 
-// objective returns −ln posterior at u (+Inf where it vanishes), plus
-// −ln|det dx/du| when withJac is set.
+// objective returns the function minimised at u (+Inf where the posterior
+// vanishes): without withJac, −[ln p(x) + Σ ln x_i over the scale
+// parameters (Positive, LogBounded)], whose minimum is the MAP with every
+// scale taken in ln x; with withJac, −ln q(u) = −[ln p(x) + ln|det dx/du|],
+// the density the Laplace approximation expands.
 func (p *Problem) objective(u []float64, withJac bool) float64 {
 	x := p.Space.ToX(nil, u)
 	v := p.LogPost(x)
@@ -210,6 +218,8 @@ func (p *Problem) objective(u []float64, withJac bool) float64 {
 	if withJac {
 		_, lj := p.Space.jacobian(u)
 		v += lj
+	} else {
+		v += p.Space.logScale(x)
 	}
 	return -v
 }
@@ -238,6 +248,14 @@ func (p *Problem) gradU(g, u []float64, withJac bool) float64 {
 		return math.Inf(1)
 	}
 	J, lj := p.Space.jacobian(u)
+	if !withJac {
+		for i, q := range p.Space {
+			if q.Kind == Positive || q.Kind == LogBounded {
+				gx[i] += 1 / x[i]
+			}
+		}
+		v += p.Space.logScale(x)
+	}
 	for j := 0; j < d; j++ {
 		s := 0.0
 		for i := 0; i < d; i++ {
@@ -279,7 +297,7 @@ func converged(st optimize.Status) bool {
 func (p *Problem) run(u0 []float64, s *Settings) StartResult {
 	evals := 0
 	f := func(u []float64) float64 { evals++; return p.objective(u, false) }
-	out := StartResult{X: p.Space.ToX(nil, u0), LogPost: math.Inf(-1), Status: "not started"}
+	out := StartResult{X: p.Space.ToX(nil, u0), LogPost: math.Inf(-1), Status: "not started", score: math.Inf(-1)}
 	if math.IsInf(f(u0), 1) {
 		out.Status = "start outside the support"
 		out.Evaluations = evals
@@ -335,7 +353,8 @@ func (p *Problem) run(u0 []float64, s *Settings) StartResult {
 		}
 	}
 	out.X = p.Space.ToX(nil, u)
-	out.LogPost = -fu
+	out.LogPost = p.LogPost(out.X)
+	out.score = -fu
 	out.Status = status.String()
 	out.Converged = conv
 	out.Evaluations = evals

@@ -288,3 +288,15 @@ func (s Space) AtBound(x []float64) []Bound {
 	}
 	return out
 }
+
+// logScale returns Σ ln x_i over the scale parameters (Positive and
+// LogBounded): the log Jacobian from x to ln x.
+func (s Space) logScale(x []float64) float64 {
+	v := 0.0
+	for i, q := range s {
+		if q.Kind == Positive || q.Kind == LogBounded {
+			v += math.Log(x[i])
+		}
+	}
+	return v
+}
