@@ -210,12 +210,23 @@ func safeRange(lo, hi float64, isLog bool) (float64, float64) {
 	if lo > hi {
 		lo, hi = hi, lo
 	}
+	// Values all within 1e-290 of zero (subnormal arithmetic loses the
+	// digits ticks need) are drawn on [−1, 1].
+	if math.Max(math.Abs(lo), math.Abs(hi)) < 1e-290 {
+		return -1, 1
+	}
 	// A span too small to hold distinct ticks at this magnitude is widened
 	// around its centre.
 	mid := lo/2 + hi/2
 	if hi-lo <= 1e-9*math.Max(math.Abs(lo), math.Abs(hi)) || hi == lo {
 		d := math.Max(math.Abs(mid)*1e-3, 1)
 		lo, hi = mid-d, mid+d
+		if hi > plotLimit {
+			lo, hi = plotLimit-2*d, plotLimit
+		}
+		if lo < -plotLimit {
+			lo, hi = -plotLimit, -plotLimit+2*d
+		}
 	}
 	return lo, hi
 }
@@ -508,13 +519,35 @@ func fitZeroPoints(s *rvfit.Series, dg *Diagnosis) *zeroPoints {
 		}
 	}
 	offsets := func(y, e []float64) []float64 {
+		var off []float64
 		if fit, err := fitSines(s.Time, y, e, z.inst, ninst, z.signals, s.Time[0]); err == nil {
-			return fit.Offset
+			off = fit.Offset
+		} else if fit, err := fitSines(s.Time, y, e, z.inst, ninst, nil, s.Time[0]); err == nil {
+			off = fit.Offset
+		} else {
+			off = make([]float64, ninst)
+			for k := range off {
+				off[k] = math.NaN()
+			}
 		}
-		if fit, err := fitSines(s.Time, y, e, z.inst, ninst, nil, s.Time[0]); err == nil {
-			return fit.Offset
+		// A fit that overflowed (values near the float64 limit) falls back
+		// to the instrument's median.
+		for k := range off {
+			if !plottable(off[k]) {
+				var v []float64
+				for i := range y {
+					if z.inst[i] == k && plottable(y[i]) {
+						v = append(v, y[i])
+					}
+				}
+				off[k] = 0
+				if len(v) > 0 {
+					sort.Float64s(v)
+					off[k] = v[len(v)/2]
+				}
+			}
 		}
-		return make([]float64, ninst)
+		return off
 	}
 	z.rv = offsets(s.RV, s.RVErr)
 	for k := range s.Indicators {
@@ -890,7 +923,7 @@ func figCorrelations(s *rvfit.Series, dg *Diagnosis, z *zeroPoints) (*figure, []
 		if dg == nil || dg.details == nil || len(dg.Signals) == 0 {
 			x, y := z.correctedIndicator(ind), z.correctedRV(s)
 			c := Pearson(y, x)
-			p := newPlot(fmt.Sprintf("%s: r = %.2f", safeLabel(ind.Name), c.R), safeLabel(ind.Name)+" − zero point", "rv − offset (m/s)")
+			p := newPlot(fmt.Sprintf("%s: r = %s", safeLabel(ind.Name), fmtR(c.R)), safeLabel(ind.Name)+" − zero point", "rv − offset (m/s)")
 			byInstrument(p, z, x, y, nil)
 			ps, info = append(ps, p), append(info, corrPanel{-1, ind.Name, c})
 			continue
@@ -906,7 +939,7 @@ func figCorrelations(s *rvfit.Series, dg *Diagnosis, z *zeroPoints) (*figure, []
 				vals[i] -= fit.Offset[z.inst[i]]
 			}
 			c := Pearson(det.own, vals)
-			p := newPlot(fmt.Sprintf("S%d · %s: r = %.2f", j+1, safeLabel(ind.Name), c.R), safeLabel(ind.Name)+" − zero point", fmt.Sprintf("S%d's own RVs (m/s)", j+1))
+			p := newPlot(fmt.Sprintf("S%d · %s: r = %s", j+1, safeLabel(ind.Name), fmtR(c.R)), safeLabel(ind.Name)+" − zero point", fmt.Sprintf("S%d's own RVs (m/s)", j+1))
 			byInstrument(p, z, vals, det.own, nil)
 			ps, info = append(ps, p), append(info, corrPanel{j, ind.Name, c})
 		}
@@ -926,6 +959,15 @@ func figCorrelations(s *rvfit.Series, dg *Diagnosis, z *zeroPoints) (*figure, []
 	return &figure{name: "correlations", title: "RV against the indicators",
 		caption: caption, plots: rows, key: instKey(z.insts),
 		w: 17 * vg.Centimeter, h: vg.Length(5.4*float64(len(rows))+1) * vg.Centimeter}, info
+}
+
+// fmtR formats a correlation coefficient as the evidence does (two
+// decimals), "—" when unknown.
+func fmtR(r float64) string {
+	if !isFinite(r) {
+		return "—"
+	}
+	return strconv.FormatFloat(r, 'f', 2, 64)
 }
 
 // gpMean returns the GP's predictive mean at the data epochs and on a
@@ -1023,7 +1065,6 @@ func figGP(s *rvfit.Series, dg *Diagnosis, z *zeroPoints) *figure {
 		if len(det.own) != s.Len() {
 			continue
 		}
-		t0 := timeOrigin(s.Time)
 		// A grid inside the observed stretches only (no band across gaps).
 		var grid []float64
 		for i := 0; i+1 < s.Len(); i++ {
@@ -1042,53 +1083,62 @@ func figGP(s *rvfit.Series, dg *Diagnosis, z *zeroPoints) *figure {
 			continue
 		}
 		y := make([]float64, s.Len())
-		res := make([]float64, s.Len())
-		rel := make([]float64, s.Len())
 		for i := range y {
 			y[i] = det.own[i] - det.comp[i]
-			res[i] = y[i] - atData[i]
-			rel[i] = s.Time[i] - t0
 		}
-		p := newPlot(fmt.Sprintf("GP activity model (S%d's sinusoid removed)", k+1), "", "rv (m/s)")
-		seg := func(lo, hi int) {
-			var poly plotter.XYs
-			for j := lo; j < hi; j++ {
-				poly = append(poly, plotter.XY{X: grid[j] - t0, Y: mean[j] + sd[j]})
-			}
-			for j := hi - 1; j >= lo; j-- {
-				poly = append(poly, plotter.XY{X: grid[j] - t0, Y: mean[j] - sd[j]})
-			}
-			if len(xys(polyX(poly), polyY(poly))) == len(poly) && len(poly) > 2 {
-				if pg, err := plotter.NewPolygon(poly); err == nil {
-					pg.Color = bandColor
-					pg.LineStyle.Width = 0
-					p.Add(pg)
-				}
-			}
-			var ml plotter.XYs
-			for j := lo; j < hi; j++ {
-				ml = append(ml, plotter.XY{X: grid[j] - t0, Y: mean[j]})
-			}
-			line(p, ml, inkModel, 1, nil)
-		}
-		lo := 0
-		for j := 1; j <= len(grid); j++ {
-			if j == len(grid) || grid[j]-grid[j-1] > 10 {
-				if j-lo > 1 {
-					seg(lo, j)
-				}
-				lo = j
-			}
-		}
-		byInstrument(p, z, rel, y, s.RVErr)
-		pr := newPlot("residuals", timeLabel(t0), "rv (m/s)")
-		byInstrument(pr, z, rel, res, s.RVErr)
-		return &figure{name: "gp", title: "Gaussian-process activity model",
-			caption: fmt.Sprintf("The RVs less S%d's sinusoid and the offsets, with the mean (teal line) and one-sigma band (teal area) of the Gaussian-process activity model (two-oscillator rotation kernel) fitted with it; below, the residuals.", k+1),
-			plots:   [][]*plot.Plot{{p}, {pr}}, key: append(instKey(z.insts), keyItem{"GP mean and one-sigma band", lineThumb(inkModel, 1, nil)}),
-			w: 17 * vg.Centimeter, h: 11 * vg.Centimeter}
+		return drawGP(s, z, k, y, atData, grid, mean, sd)
 	}
 	return nil
+}
+
+// drawGP draws y (the RVs less signal k's sinusoid and the offsets) with
+// the GP mean and one-sigma band on grid, and the residuals y − atData.
+func drawGP(s *rvfit.Series, z *zeroPoints, k int, y, atData, grid, mean, sd []float64) *figure {
+	t0 := timeOrigin(s.Time)
+	res := make([]float64, s.Len())
+	rel := make([]float64, s.Len())
+	for i := range y {
+		res[i] = y[i] - atData[i]
+		rel[i] = s.Time[i] - t0
+	}
+	p := newPlot(fmt.Sprintf("GP activity model (S%d's sinusoid removed)", k+1), "", "rv (m/s)")
+	seg := func(lo, hi int) {
+		var poly plotter.XYs
+		for j := lo; j < hi; j++ {
+			poly = append(poly, plotter.XY{X: grid[j] - t0, Y: mean[j] + sd[j]})
+		}
+		for j := hi - 1; j >= lo; j-- {
+			poly = append(poly, plotter.XY{X: grid[j] - t0, Y: mean[j] - sd[j]})
+		}
+		if len(xys(polyX(poly), polyY(poly))) == len(poly) && len(poly) > 2 {
+			if pg, err := plotter.NewPolygon(poly); err == nil {
+				pg.Color = bandColor
+				pg.LineStyle.Width = 0
+				p.Add(pg)
+			}
+		}
+		var ml plotter.XYs
+		for j := lo; j < hi; j++ {
+			ml = append(ml, plotter.XY{X: grid[j] - t0, Y: mean[j]})
+		}
+		line(p, ml, inkModel, 1, nil)
+	}
+	lo := 0
+	for j := 1; j <= len(grid); j++ {
+		if j == len(grid) || grid[j]-grid[j-1] > 10 {
+			if j-lo > 1 {
+				seg(lo, j)
+			}
+			lo = j
+		}
+	}
+	byInstrument(p, z, rel, y, s.RVErr)
+	pr := newPlot("residuals", timeLabel(t0), "rv (m/s)")
+	byInstrument(pr, z, rel, res, s.RVErr)
+	return &figure{name: "gp", title: "Gaussian-process activity model",
+		caption: fmt.Sprintf("The RVs less S%d's sinusoid and the offsets, with the mean (teal line) and one-sigma band (teal area) of the Gaussian-process activity model (two-oscillator rotation kernel) fitted with it; below, the residuals.", k+1),
+		plots:   [][]*plot.Plot{{p}, {pr}}, key: append(instKey(z.insts), keyItem{"GP mean and one-sigma band", lineThumb(inkModel, 1, nil)}),
+		w: 17 * vg.Centimeter, h: 11 * vg.Centimeter}
 }
 
 func polyX(p plotter.XYs) []float64 {

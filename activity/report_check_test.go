@@ -9,8 +9,6 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-
-	"spotsift/rvfit"
 )
 
 // twoInstrumentFixture diagnoses a quiet star with a 3 m/s planet at 7.3 d
@@ -102,5 +100,3 @@ func TestCorrelationsAsTheEvidence(t *testing.T) {
 		t.Error("the correlation figure does not say how its r is computed")
 	}
 }
-
-var _ = rvfit.Series{}
