@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"regexp"
 	"strconv"
@@ -98,5 +99,87 @@ func TestCorrelationsAsTheEvidence(t *testing.T) {
 	html, _ := os.ReadFile(filepath.Join(dir, HTMLFile))
 	if !strings.Contains(string(html), "computed as the evidence computes them") {
 		t.Error("the correlation figure does not say how its r is computed")
+	}
+}
+
+// checklistItem is one line of the README's reviewer checklist.
+type checklistItem struct{ title, id string }
+
+// readChecklist returns the items of the README's reviewer checklist:
+// lines "- [ ] **Title** (`#id`): ...".
+func readChecklist(t *testing.T) []checklistItem {
+	t.Helper()
+	b, err := os.ReadFile(filepath.Join("..", "README.md"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	re := regexp.MustCompile("(?m)^- \\[ \\] \\*\\*([^*]+)\\*\\* \\(`#([a-z-]+)`\\)")
+	var out []checklistItem
+	for _, m := range re.FindAllStringSubmatch(string(b), -1) {
+		out = append(out, checklistItem{m[1], m[2]})
+	}
+	return out
+}
+
+// TestReviewerChecklist finds every item of the README's reviewer
+// checklist in the report of a two-instrument star: an element with the
+// item's id whose heading is the item's title, in the checklist's order.
+func TestReviewerChecklist(t *testing.T) {
+	items := readChecklist(t)
+	if len(items) < 10 {
+		t.Fatalf("the README's reviewer checklist has %d items; the test reads lines \"- [ ] **Title** (`#id`): ...\"", len(items))
+	}
+	dir := t.TempDir()
+	twoInstrumentFixture(t, dir)
+	b, err := os.ReadFile(filepath.Join(dir, HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	html := string(b)
+	last := -1
+	for _, it := range items {
+		re := regexp.MustCompile(`id="` + regexp.QuoteMeta(it.id) + `">\s*<h[23]>` + regexp.QuoteMeta(it.title) + `</h[23]>`)
+		loc := re.FindStringIndex(html)
+		if loc == nil {
+			t.Errorf("checklist item %q: no element id=%q headed %q in report.html", it.title, it.id, it.title)
+			continue
+		}
+		if loc[0] < last {
+			t.Errorf("checklist item %q comes earlier in the report than the checklist says", it.title)
+		}
+		last = loc[0]
+	}
+}
+
+// TestPDFFirstPage reads the PDF's first page as text (pdftotext, Debian
+// package poppler-utils): it must hold the verdict summary — every
+// signal's period, K and verdict — and the caution.
+func TestPDFFirstPage(t *testing.T) {
+	exe, err := exec.LookPath("pdftotext")
+	if err != nil {
+		t.Skip("pdftotext not installed (Debian package poppler-utils)")
+	}
+	dir := t.TempDir()
+	r, _ := twoInstrumentFixture(t, dir)
+	out, err := exec.Command(exe, "-f", "1", "-l", "1", "-layout", filepath.Join(dir, PDFFile), "-").Output()
+	if err != nil {
+		t.Fatal(err)
+	}
+	page := strings.Join(strings.Fields(string(out)), " ")
+	v, _, err := buildReport(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{r.Diagnosis.Star, "Verdict summary", "K quoted", strings.Join(strings.Fields(Caution), " ")} {
+		if !strings.Contains(page, want) {
+			t.Errorf("page 1 lacks %q:\n%s", want, page)
+		}
+	}
+	for _, s := range v.Summary {
+		for _, want := range []string{s.Signal, s.K, s.Verdict} {
+			if !strings.Contains(page, want) {
+				t.Errorf("page 1 lacks %s's %q", s.Signal, want)
+			}
+		}
 	}
 }
