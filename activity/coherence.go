@@ -148,10 +148,10 @@ func (tr *trial) seasonCoherence() {
 	e := Evidence{Name: "season_coherence", Value: Num(pval), Threshold: alpha}
 	switch {
 	case pval < alpha:
-		e.Points, e.Weight = TowardActivity, Weights.SeasonCoherence.Activity
+		e.Points, e.Weight = TowardActivity, tr.d.w.SeasonCoherence.Activity
 		e.Reason = fmt.Sprintf("amplitude and phase change between %d %s (χ² = %.1f for %d dof, p = %.2g; errors scaled by a red-noise factor %.2f)", len(parts), how, chi2, dof, pval, beta)
 	case minSNR >= 3:
-		e.Points, e.Weight = TowardPlanet, -Weights.SeasonCoherence.Planet
+		e.Points, e.Weight = TowardPlanet, -tr.d.w.SeasonCoherence.Planet
 		e.Reason = fmt.Sprintf("amplitude and phase agree across %d %s (χ² = %.1f for %d dof, p = %.2g; each part at ≥ %.1fσ)", len(parts), how, chi2, dof, pval, minSNR)
 	default:
 		e.Points = TowardNeither
@@ -238,10 +238,10 @@ func (tr *trial) stackedGrowth() {
 	snr := tr.amp / tr.ampErr
 	switch {
 	case pval < alpha:
-		e.Points, e.Weight = TowardActivity, Weights.StackedGrowth.Activity
+		e.Points, e.Weight = TowardActivity, tr.d.w.StackedGrowth.Activity
 		e.Reason = fmt.Sprintf("the power grows unlike a strictly periodic signal as epochs are added (Monte Carlo %s)", pText(pval, exceed == 0))
 	case snr >= 5:
-		e.Points, e.Weight = TowardPlanet, -Weights.StackedGrowth.Planet
+		e.Points, e.Weight = TowardPlanet, -tr.d.w.StackedGrowth.Planet
 		e.Reason = fmt.Sprintf("the power grows as a strictly periodic signal's would as epochs are added (Monte Carlo %s)", pText(pval, exceed == 0))
 	default:
 		e.Points = TowardNeither

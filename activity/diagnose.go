@@ -54,6 +54,27 @@ type Options struct {
 	// period joins the rotation estimates, and where it overlaps the RVs
 	// its FF' prediction is tested as evidence.
 	LightCurve *photometry.LightCurve
+
+	// Weights are the tests' weights; nil means DefaultWeights.
+	Weights *Weights
+	// VerdictThreshold is the |score| beyond which a significant signal is
+	// activity-like or planet-like; zero means DefaultVerdictThreshold.
+	VerdictThreshold float64
+	// IndicatorAlpha is the Holm-corrected level at which an indicator
+	// varies with the signal; zero means DefaultIndicatorAlpha.
+	IndicatorAlpha float64
+	// Probability maps the score to P(planetary); the zero value means the
+	// calibrated mapping.
+	Probability Logistic
+}
+
+// weights returns the weights in force.
+func (o *Options) weights() *Weights {
+	if o.Weights != nil {
+		return o.Weights
+	}
+	w := DefaultWeights()
+	return &w
 }
 
 func (o *Options) withDefaults() Options {
@@ -76,6 +97,12 @@ func (o *Options) withDefaults() Options {
 	if d.Permutations == 0 {
 		d.Permutations = 200
 	}
+	if d.VerdictThreshold == 0 {
+		d.VerdictThreshold = DefaultVerdictThreshold
+	}
+	if d.IndicatorAlpha == 0 {
+		d.IndicatorAlpha = DefaultIndicatorAlpha
+	}
 	return d
 }
 
@@ -94,6 +121,8 @@ type data struct {
 	T     float64
 	grid  rvfit.Grid
 	opts  Options
+	w     *Weights
+	ctx   context.Context
 }
 
 // Diagnose judges every signal of a star's time series: does it track the
@@ -119,7 +148,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	if !(o.FAPThreshold > 0 && o.FAPThreshold < 1) {
 		return nil, fmt.Errorf("%w: false-alarm threshold %g must lie in (0, 1)", ErrBadOption, o.FAPThreshold)
 	}
-	d := &data{s: s, t: s.Time, rv: s.RV, err: s.RVErr, t0: s.Time[0], T: s.Baseline(), opts: o}
+	d := &data{s: s, t: s.Time, rv: s.RV, err: s.RVErr, t0: s.Time[0], T: s.Baseline(), opts: o, w: o.weights(), ctx: ctx}
 	d.inst, d.ninst = groupIndex(s.Instrument)
 	pmax := o.PMax
 	if pmax == 0 {
@@ -150,7 +179,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	if o.Star != nil {
 		diag.Star = o.Star.Name
 	}
-	diag.Rotation = d.estimateRotation(rng)
+	diag.Rotation = d.estimateRotation(ctx, rng)
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -195,7 +224,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 			Amplitude: Num(amp), AmplitudeErr: Num(ampErr)}
 		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
-		Score(&sig, o.FAPThreshold)
+		Score(&sig, &o)
 		diag.Signals = append(diag.Signals, sig)
 		tr.det.freq, tr.det.own, tr.det.comp = sg.freq, own, comp
 		diag.details.signals = append(diag.details.signals, tr.det)
@@ -313,8 +342,13 @@ type trial struct {
 	ampErr float64
 	rot    Rotation
 	rng    *rand.Rand
-	// strongRotation reports whether the period sits at P_rot or P_rot/2.
+	// strongRotation reports whether the period sits at P_rot or P_rot/2
+	// of a rotation hypothesis; gpDegenerate whether it sits at any
+	// harmonic up to P_rot/4, where a sinusoid fits activity as well as an
+	// orbit; caveat is why the signal cannot be planet-like.
 	strongRotation bool
+	gpDegenerate   bool
+	caveat         string
 	// det collects what the report draws.
 	det  signalDetails
 	ev   []Evidence
@@ -329,6 +363,7 @@ func (tr *trial) skipped(name, why string) { tr.skip = append(tr.skip, Skipped{n
 func (tr *trial) run(sig *Signal) {
 	tr.significance(sig)
 	tr.rotationMatch()
+	tr.cycleMatch()
 	tr.indicatorTests()
 	tr.seasonCoherence()
 	tr.stackedGrowth()
@@ -341,4 +376,7 @@ func (tr *trial) run(sig *Signal) {
 	}
 	sig.Evidence = tr.ev
 	sig.Skipped = tr.skip
+	if tr.caveat != "" && sig.Caveat == "" {
+		sig.Caveat = tr.caveat
+	}
 }

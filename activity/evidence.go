@@ -3,6 +3,7 @@ package activity
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 
@@ -13,12 +14,12 @@ import (
 
 // harmonicsOf lists the rotation period's harmonics and their aliases:
 // frequencies n/P (n = 1 … 4), and each shifted by ±1 sidereal day and
-// ±1 year (docs/methods.md §6, common practice). When the period was estimated
-// from the data rather than known (estimated), twice the period is added:
-// a star with spots on opposite hemispheres shows its strongest indicator
-// signal at P_rot/2, so the estimate may itself be a harmonic.
+// ±1 year (common practice), P_rot and P_rot/2 first. When the period was
+// estimated from the data rather than known (estimated), twice the period
+// is added: a star with spots on opposite hemispheres shows its strongest
+// indicator signal at P_rot/2, so the estimate may itself be a harmonic.
 func harmonicsOf(prot float64, estimated bool) []harmonic {
-	const sidereal = 1.0027379 // c/d, docs/methods.md §0 [memory]
+	const sidereal = 1.0027379 // c/d, one sidereal day (from memory)
 	const year = 1 / 365.25    // c/d
 	var out []harmonic
 	ns := []float64{1, 2, 3, 4}
@@ -33,15 +34,17 @@ func harmonicsOf(prot float64, estimated bool) []harmonic {
 		case n > 1:
 			name = fmt.Sprintf("P_rot/%d", int(n))
 		}
+		out = append(out, harmonic{name, n / prot, n, false})
+	}
+	for _, n := range ns {
 		f := n / prot
-		out = append(out, harmonic{name, f, n, false})
 		for _, a := range []struct {
 			label string
 			df    float64
 		}{{"1-day alias", sidereal}, {"1-year alias", year}} {
 			for _, sgn := range []float64{-1, 1} {
 				if g := math.Abs(f + sgn*a.df); g > 0 {
-					out = append(out, harmonic{fmt.Sprintf("%s of %s", a.label, name), g, n, true})
+					out = append(out, harmonic{fmt.Sprintf("%s of %s", a.label, out[slices.IndexFunc(out, func(h harmonic) bool { return h.n == n && !h.alias })].label), g, n, true})
 				}
 			}
 		}
@@ -58,6 +61,24 @@ type harmonic struct {
 
 // strong reports whether h is P_rot or P_rot/2 itself (not an alias).
 func (h harmonic) strong() bool { return !h.alias && (h.n == 1 || h.n == 2) }
+
+// gpReach reports whether h is a harmonic (not an alias) the GP activity
+// model of the model comparison cannot fully absorb or that a sinusoid
+// fits as well as an orbit: P_rot … P_rot/4.
+func (h harmonic) gpReach() bool { return !h.alias && h.n >= 1 }
+
+// windowWeight scales a weak harmonic or alias match by the share q of the
+// searched frequency axis that the match window covers: a window covering
+// a tenth of the axis or more catches a planet as easily as activity and
+// weighs nothing; one covering a thousandth or less weighs fully; between,
+// the weight grows as ln(0.1/q) (the log of the likelihood ratio of
+// landing in the window by chance).
+func windowWeight(q float64) float64 {
+	if !(q > 0) {
+		return 1
+	}
+	return math.Max(0, math.Min(1, math.Log(0.1/q)/math.Log(100)))
+}
 
 // significance is test 1: the RV signal's false-alarm probability. It
 // gates the verdict and adds no weight.
@@ -76,40 +97,104 @@ func (tr *trial) significance(sig *Signal) {
 	tr.add(e)
 }
 
-// rotationMatch is test 2: is the period near the rotation period, its
+// rotationMatch is test 2: is the period near a rotation period, its
 // harmonics or their aliases, within the frequency resolution and the
-// rotation period's uncertainty?
+// rotation period's uncertainty? Every rotation hypothesis is considered
+// and weighs by its share; P_rot and P_rot/2 are checked before any alias.
+// A signal at P_rot or P_rot/2 of a hypothesis with a share of 10 % or
+// more is never planet-like.
 func (tr *trial) rotationMatch() {
-	prot, perr := float64(tr.rot.Period), float64(tr.rot.Err)
-	if !(prot > 0) {
+	hyps := tr.rot.Hypotheses
+	if len(hyps) == 0 && float64(tr.rot.Period) > 0 {
+		hyps = []RotationHypothesis{{Period: float64(tr.rot.Period), Err: float64(tr.rot.Err), Share: 1}}
+	}
+	if len(hyps) == 0 {
 		tr.skipped("rotation_match", "no rotation period could be estimated")
 		return
 	}
+	w := tr.d.w
 	res := 1 / tr.d.T
-	best, bestD := harmonic{}, math.Inf(1)
-	for _, h := range harmonicsOf(prot, tr.rot.Source != "star file") {
-		// Uncertainty of the harmonic's frequency n/P from that of P.
-		df := h.n * perr / (prot * prot)
-		tol := math.Hypot(res, df)
-		if dist := math.Abs(tr.f-h.freq) / tol; dist < bestD {
-			best, bestD = h, dist
+	span := tr.d.grid.FMax() - tr.d.grid.FMin
+	estimated := tr.rot.Source != "star file"
+	total, bestD := 0.0, math.Inf(1)
+	var parts []string
+	for _, hy := range hyps {
+		prot, perr := hy.Period, hy.Err
+		var match *harmonic
+		var matchD, matchTol float64
+		for _, h := range harmonicsOf(prot, estimated) {
+			// Uncertainty of the harmonic's frequency n/P from that of P.
+			df := h.n * perr / (prot * prot)
+			tol := math.Hypot(res, df)
+			dist := math.Abs(tr.f-h.freq) / tol
+			bestD = math.Min(bestD, dist)
+			if dist <= 1 && (match == nil || (!match.strong() && h.strong()) || (match.strong() == h.strong() && dist < matchD)) {
+				hh := h
+				match, matchD, matchTol = &hh, dist, tol
+			}
+		}
+		lbl := fmt.Sprintf("P_rot = %.4g ± %.2g d", prot, perr)
+		if len(hyps) > 1 {
+			lbl = fmt.Sprintf("P_rot = %.4g ± %.2g d (share %.0f%%)", prot, perr, 100*hy.Share)
+		}
+		switch {
+		case match != nil && match.strong():
+			total += hy.Share * w.RotationMatch
+			parts = append(parts, fmt.Sprintf("at %s of %s", match.label, lbl))
+			if hy.Share >= 0.1 {
+				tr.strongRotation = true
+				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
+			}
+		case match != nil:
+			q := 2 * matchTol / span
+			ww := windowWeight(q)
+			total += hy.Share * w.RotationMatchWeak * ww
+			parts = append(parts, fmt.Sprintf("at the %s of %s, a window covering %.1f%% of the frequencies searched (weight ×%.2f)", match.label, lbl, 100*q, ww))
+		default:
+			total -= hy.Share * w.RotationMismatch
+			parts = append(parts, fmt.Sprintf("unrelated to %s", lbl))
+		}
+		if match != nil && match.gpReach() && hy.Share >= 0.1 {
+			tr.gpDegenerate = true
 		}
 	}
-	e := Evidence{Name: "rotation_match", Value: Num(bestD), Threshold: 1}
+	e := Evidence{Name: "rotation_match", Value: Num(bestD), Threshold: 1, Weight: total}
 	switch {
-	case bestD <= 1 && best.strong():
-		e.Points, e.Weight = TowardActivity, Weights.RotationMatch
-		e.Reason = fmt.Sprintf("the period %.4g d sits at %s (%.4g d; P_rot = %.4g ± %.2g d), %.2f tolerance widths away", 1/tr.f, best.label, 1/best.freq, prot, perr, bestD)
-	case bestD <= 1:
-		// A higher harmonic or an alias is a weaker match: such frequencies
-		// cover much of the frequency axis between them.
-		e.Points, e.Weight = TowardActivity, Weights.RotationMatchWeak
-		e.Reason = fmt.Sprintf("the period %.4g d sits at the %s (%.4g d; P_rot = %.4g ± %.2g d), %.2f tolerance widths away: a weaker match than P_rot or P_rot/2", 1/tr.f, best.label, 1/best.freq, prot, perr, bestD)
+	case total > 0:
+		e.Points = TowardActivity
+	case total < 0:
+		e.Points = TowardPlanet
 	default:
-		e.Points, e.Weight = TowardPlanet, -Weights.RotationMismatch
-		e.Reason = fmt.Sprintf("the period %.4g d is %.1f tolerance widths from the nearest rotation harmonic or alias (%s, %.4g d)", 1/tr.f, bestD, best.label, 1/best.freq)
+		e.Points = TowardNeither
 	}
-	tr.strongRotation = bestD <= 1 && best.strong()
+	e.Reason = fmt.Sprintf("the period %.4g d is %s", 1/tr.f, strings.Join(parts, "; "))
+	tr.add(e)
+}
+
+// cycleMatch: a long period at the magnetic cycle seen in an activity
+// indicator is activity. Only periods longer than 100 d are tested (a
+// cycle is years long); the window is the cycle's error and the
+// resolution.
+func (tr *trial) cycleMatch() {
+	c := tr.rot.Cycle
+	if c == nil {
+		return
+	}
+	p := 1 / tr.f
+	if p < 100 {
+		return
+	}
+	tol := math.Hypot(1/tr.d.T, c.Err/(c.Period*c.Period))
+	dist := math.Abs(tr.f-1/c.Period) / tol
+	e := Evidence{Name: "cycle_match", Value: Num(dist), Threshold: 1}
+	if dist <= 1 {
+		e.Points, e.Weight = TowardActivity, tr.d.w.CycleMatch
+		e.Reason = fmt.Sprintf("the period %.4g d matches the magnetic cycle seen in %s (%.4g ± %.2g d, false-alarm probability %.2g)", p, c.Indicator, c.Period, c.Err, c.FAP)
+		tr.caveat = fmt.Sprintf("the period matches the magnetic cycle seen in %s", c.Indicator)
+	} else {
+		e.Points = TowardNeither
+		e.Reason = fmt.Sprintf("for information: the period %.4g d differs from the magnetic cycle seen in %s (%.4g ± %.2g d) by %.1f tolerance widths", p, c.Indicator, c.Period, c.Err, dist)
+	}
 	tr.add(e)
 }
 
@@ -128,6 +213,11 @@ func (tr *trial) indicatorTests() {
 		ok       bool
 		why      string
 		nvalid   int
+		// ratio is the indicator's amplitude per m/s of activity RV;
+		// sens the amplitude, in units of its error, that the indicator
+		// would show if the signal were activity.
+		ratio, sens float64
+		ratioHow    string
 	}
 	var rs []res
 	for _, ind := range d.s.Indicators {
@@ -143,7 +233,15 @@ func (tr *trial) indicatorTests() {
 			rs = append(rs, r)
 			continue
 		}
-		fit, err := fitSines(d.t, ind.Value, sigma, d.inst, d.ninst, []float64{tr.f}, d.t0)
+		// A long period is fitted together with the magnetic cycle, when
+		// one is seen and the period is not at it: the cycle's power
+		// leaks to neighbouring long periods and would otherwise push a
+		// real long-period planet to activity.
+		freqs := []float64{tr.f}
+		if c := tr.rot.Cycle; c != nil && 1/tr.f >= 100 && math.Abs(tr.f-1/c.Period) > 1.5/d.T {
+			freqs = append(freqs, 1/c.Period)
+		}
+		fit, err := fitSines(d.t, ind.Value, sigma, d.inst, d.ninst, freqs, d.t0)
 		if err != nil {
 			r.why = "the sinusoid fit is singular on its epochs"
 			rs = append(rs, r)
@@ -153,6 +251,8 @@ func (tr *trial) indicatorTests() {
 		r.fap = waldFAP(fit, beta)
 		a, ae := fit.amplitude(0)
 		r.amp, r.snr = a, a/(ae*beta)
+		r.ratio, r.ratioHow = tr.activityRatio(&ind, sigma)
+		r.sens = r.ratio * tr.amp / (ae * beta)
 		vals := make([]float64, len(ind.Value))
 		for i := range vals {
 			vals[i] = math.NaN()
@@ -191,7 +291,7 @@ func (tr *trial) indicatorTests() {
 	// period, and the calibration showed 1% letting that noise through
 	// (see Weights).
 	hf, hc := Holm(faps), Holm(cps)
-	const alpha = IndicatorAlpha
+	alpha := d.opts.IndicatorAlpha
 	group := func(name string, adj []float64, w Weight, item func(k int, r res, p float64, sig bool) Evidence) {
 		nsig := 0
 		for _, p := range adj {
@@ -207,26 +307,34 @@ func (tr *trial) indicatorTests() {
 			p := adj[k]
 			e := item(k, r, p, p < alpha)
 			e.Name = name + ":" + r.name
-			e.Value, e.Threshold = Num(p), alpha
+			e.Value, e.Threshold = Num(p), Num(alpha)
 			switch {
 			case nsig > 0 && p < alpha:
 				e.Points, e.Weight = TowardActivity, w.Activity/float64(nsig)
 			case nsig > 0:
 				e.Points = TowardNeither
 			default:
-				e.Points, e.Weight = TowardPlanet, -w.Planet/float64(len(adj))
+				// Absence counts only as far as the indicator could have
+				// shown the signal: fully when activity of this amplitude
+				// would give it a 5σ variation, not at all below 1σ.
+				frac := math.Max(0, math.Min(1, (r.sens-1)/4))
+				e.Points, e.Weight = TowardPlanet, -w.Planet/float64(len(adj))*frac
+				e.Reason += fmt.Sprintf("; had the signal been activity, %s would vary by %.1fσ (%s), so its absence counts %.0f%%", r.name, r.sens, r.ratioHow, 100*frac)
+				if frac == 0 {
+					e.Points = TowardNeither
+				}
 			}
 			tr.add(e)
 			k++
 		}
 	}
-	group("indicator_power", hf, Weights.IndicatorPower, func(k int, r res, p float64, sig bool) Evidence {
+	group("indicator_power", hf, tr.d.w.IndicatorPower, func(k int, r res, p float64, sig bool) Evidence {
 		if sig {
 			return Evidence{Reason: fmt.Sprintf("%s varies at the signal's period (amplitude %.3g, %.1fσ; Holm-corrected false-alarm probability %.2g)", r.name, r.amp, r.snr, p)}
 		}
 		return Evidence{Reason: fmt.Sprintf("%s shows no significant power at the signal's period (Holm-corrected false-alarm probability %.2g)", r.name, p)}
 	})
-	group("indicator_correlation", hc, Weights.IndicatorCorrelation, func(k int, r res, p float64, sig bool) Evidence {
+	group("indicator_correlation", hc, tr.d.w.IndicatorCorrelation, func(k int, r res, p float64, sig bool) Evidence {
 		return Evidence{Reason: fmt.Sprintf("%s against the fitted signal: r = %.2f (Holm-corrected p = %.2g, %d epochs; against the signal's own RVs r = %.2f)", r.name, r.corr.R, p, r.corr.N, r.raw.R)}
 	})
 	// The lagged correlation uses the signal's own RVs, which keep whatever
@@ -244,6 +352,40 @@ func (tr *trial) indicatorTests() {
 			Reason: fmt.Sprintf("for information: strongest discrete correlation of %s with the signal's RVs is %.2f at a lag of %.3g d (permutation %s before correction)", r.name, r.lag.DCF, r.lag.Lag, pText(r.lag.P, r.lag.Floor))})
 	}
 
+}
+
+// activityRatio returns how much an indicator varies per m/s of activity
+// RV, and how that was measured: at the rotation period, the indicator's
+// fitted amplitude over the RV's upper bound (amplitude + 2σ), so that an
+// RV amplitude lost in the noise does not make the indicator look
+// sensitive; without a rotation period, the indicator's excess scatter
+// over the RV's whole scatter (planets included: again a lower bound).
+func (tr *trial) activityRatio(ind *rvfit.Indicator, sigma []float64) (float64, string) {
+	d := tr.d
+	if prot := float64(tr.rot.Period); prot > 0 && 1/prot > d.grid.FMin/2 {
+		fi, err1 := fitSines(d.t, ind.Value, sigma, d.inst, d.ninst, []float64{1 / prot}, d.t0)
+		fr, err2 := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, []float64{1 / prot}, d.t0)
+		if err1 == nil && err2 == nil {
+			ai, _ := fi.amplitude(0)
+			ar, are := fr.amplitude(0)
+			if ar+2*are > 0 {
+				return ai / (ar + 2*are), fmt.Sprintf("its amplitude per m/s of RV at P_rot = %.3g d", prot)
+			}
+		}
+	}
+	var vi, ei []float64
+	for i := range ind.Value {
+		if ind.Valid(i) {
+			vi = append(vi, ind.Value[i])
+			ei = append(ei, sigma[i]*sigma[i])
+		}
+	}
+	exc := stat.Variance(vi, nil) - stat.Mean(ei, nil)
+	sr := stddev(d.rv)
+	if !(exc > 0) || !(sr > 0) {
+		return 0, "no scatter beyond its errors"
+	}
+	return math.Sqrt(exc) / sr, "its excess scatter per m/s of RV scatter"
 }
 
 // indicatorErrors returns an indicator's errors, or, without an error
@@ -325,10 +467,10 @@ func (tr *trial) chromaticity() {
 	const alpha = 0.01
 	e := Evidence{Name: "chromaticity", Value: Num(fap), Threshold: alpha}
 	if fap < alpha {
-		e.Points, e.Weight = TowardActivity, Weights.Chromaticity.Activity
+		e.Points, e.Weight = TowardActivity, tr.d.w.Chromaticity.Activity
 		e.Reason = fmt.Sprintf("the chromatic slope varies at the signal's period (amplitude %.3g m/s per unit ln λ, %.1fσ; false-alarm probability %.2g): the signal depends on wavelength", a, a/ae, fap)
 	} else {
-		e.Points, e.Weight = TowardPlanet, -Weights.Chromaticity.Planet
+		e.Points, e.Weight = TowardPlanet, -tr.d.w.Chromaticity.Planet
 		e.Reason = fmt.Sprintf("the chromatic slope shows no power at the signal's period (false-alarm probability %.2g): the signal looks achromatic", fap)
 	}
 	tr.add(e)

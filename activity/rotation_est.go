@@ -1,12 +1,14 @@
 package activity
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/rand/v2"
 	"sort"
 	"strings"
 
+	"spotsift/activity/starsim"
 	"spotsift/indicators"
 	"spotsift/rvfit"
 )
@@ -19,11 +21,57 @@ type indicatorPeak struct {
 	idx    []int // the epochs with a value
 }
 
-// indicatorPeaks returns the strongest peak of every indicator with enough
-// epochs, most significant first.
-func (d *data) indicatorPeaks() []indicatorPeak {
-	var out []indicatorPeak
+// Bounds of the rotation periods sought, in days: from 1.5 d (shorter ones
+// are rare among the stars RV surveys target; common practice) to 200 d
+// (the slowest M dwarfs rotate in 100–150 d; Newton et al. 2016), and no
+// more than half the baseline.
+const rotPMin, rotPMax = 1.5, 200.0
+
+// seasonLabels returns one label per epoch: its instrument and its
+// observing season (a new season after a gap longer than 60 days; common
+// practice for ground-based visibility). A floating offset per label
+// removes season-to-season changes (magnetic cycles, slow drifts, yearly
+// systematics) before a search for rotation.
+func seasonLabels(t []float64, inst []string) []string {
+	out := make([]string, len(t))
+	k := 0
+	for i := range t {
+		if i > 0 && t[i]-t[i-1] > 60 {
+			k++
+		}
+		out[i] = fmt.Sprintf("%s|%d", inst[i], k)
+	}
+	return out
+}
+
+// rotationSearch is the joint periodogram of the indicators used for the
+// rotation period.
+type rotationSearch struct {
+	grid  rvfit.Grid
+	z     []float64 // Σ over indicators of −(N−m)/2 ln(1 − p): the joint log-likelihood gain
+	lnPri []float64 // log prior of each frequency (0 without one)
+	m     int       // number of indicators combined
+	peaks []indicatorPeak
+	per   map[string][]float64 // each indicator's power
+}
+
+// searchRotation computes, for every indicator with enough epochs, the GLS
+// periodogram with one offset per instrument and season, and their joint
+// log-likelihood gain. It returns nil when no indicator can be used.
+func (d *data) searchRotation(ctx context.Context, rel []RotationEstimate) *rotationSearch {
+	pmax := math.Min(rotPMax, 0.5*d.T)
+	if !(pmax > 2*rotPMin) {
+		return nil
+	}
+	g, err := rvfit.NewGrid(d.t, &rvfit.GridOptions{Oversampling: d.opts.Oversampling, PMin: rotPMin, PMax: pmax})
+	if err != nil {
+		return nil
+	}
+	rs := &rotationSearch{grid: g, z: make([]float64, g.N), lnPri: make([]float64, g.N), per: map[string][]float64{}}
 	for _, ind := range d.s.Indicators {
+		if ctx.Err() != nil {
+			return nil
+		}
 		if ind.Name == chromaticColumn || ind.Count() < MinEpochs {
 			continue
 		}
@@ -38,99 +86,349 @@ func (d *data) indicatorPeaks() []indicatorPeak {
 				in = append(in, d.s.Instrument[i])
 			}
 		}
-		// Rotation periods are sought above 1.5 d (shorter ones are rare
-		// among the slow rotators RV surveys target; common practice).
-		g := d.grid
-		if lo := g.Index(1 / (0.5 * d.T)); lo > 0 {
-			g.FMin, g.N = g.Freq(lo), g.N-lo
-		}
-		if hi := g.Index(1 / 1.5); hi+1 < g.N {
-			g.N = hi + 1
-		}
-		pg, err := rvfit.GLS(t, y, e, g, &rvfit.GLSOptions{Instrument: in})
-		if err != nil {
+		labels := seasonLabels(t, in)
+		pg, err := rvfit.GLS(t, y, e, g, &rvfit.GLSOptions{Instrument: labels, Workers: 1})
+		if err != nil || pg.NObs-pg.NOffsets < MinEpochs {
 			continue
 		}
+		nk := float64(pg.NObs - pg.NOffsets - 2)
+		for k, p := range pg.Power {
+			rs.z[k] += -0.5 * nk * math.Log1p(-math.Min(p, 1-1e-12))
+		}
+		rs.per[ind.Name] = pg.Power
+		rs.m++
 		k := argmax(pg.Power)
 		fap := rvfit.BaluevFAP(pg.Power[k], pg.NObs, pg.NOffsets, g.FMax(), pg.TEff)
-		out = append(out, indicatorPeak{name: ind.Name, period: 1 / refinePeak(pg, k), fap: fap, idx: idx})
+		rs.peaks = append(rs.peaks, indicatorPeak{name: ind.Name, period: 1 / refinePeak(pg, k), fap: fap, idx: idx})
 	}
-	sort.SliceStable(out, func(a, b int) bool { return out[a].fap < out[b].fap })
+	if rs.m == 0 {
+		return nil
+	}
+	sort.SliceStable(rs.peaks, func(a, b int) bool { return rs.peaks[a].fap < rs.peaks[b].fap })
+	// The activity–rotation relations set a log-normal prior on P, no
+	// narrower than 0.3 in ln P (they predict the solar period to 10–20 %,
+	// and scatter more away from the Sun; Mamajek & Hillenbrand 2008).
+	if len(rel) > 0 {
+		mu, sd := 0.0, 0.0
+		for _, r := range rel {
+			mu += math.Log(r.Period)
+			sd = math.Max(sd, r.Err/r.Period)
+		}
+		mu /= float64(len(rel))
+		sd = math.Max(sd, 0.3)
+		for k := range rs.lnPri {
+			z := (math.Log(1/g.Freq(k)) - mu) / sd
+			rs.lnPri[k] = -0.5 * z * z
+		}
+	}
+	return rs
+}
+
+// post is the log posterior (up to a constant) at grid index k.
+func (rs *rotationSearch) post(k int) float64 { return rs.z[k] + rs.lnPri[k] }
+
+// fap is the false-alarm probability of the joint gain at k: 2z follows χ²
+// with 2m degrees of freedom at one frequency (Wilks), times the number of
+// independent frequencies searched (Bonferroni; common practice).
+func (rs *rotationSearch) fap(k int, T float64) float64 {
+	nindep := math.Max(1, T*(rs.grid.FMax()-rs.grid.FMin))
+	return math.Min(1, nindep*chi2Survival(2*rs.z[k], 2*rs.m))
+}
+
+// localMax returns the index of the local maximum of the posterior nearest
+// to frequency f (climbing from the nearest grid point).
+func (rs *rotationSearch) localMax(f float64) int {
+	k := rs.grid.Index(f)
+	if k < 0 || k >= rs.grid.N {
+		return -1
+	}
+	for {
+		switch {
+		case k > 0 && rs.post(k-1) > rs.post(k):
+			k--
+		case k+1 < rs.grid.N && rs.post(k+1) > rs.post(k):
+			k++
+		default:
+			return k
+		}
+	}
+}
+
+// peakError returns the one-sigma error of the period at peak k: the half
+// width at half maximum of the joint gain, as a Gaussian σ in frequency
+// (HWHM/1.1774), turned into period; no less than 5 % of the period, for
+// differential rotation and spot evolution blur any single rotation
+// period at that level (common practice).
+func (rs *rotationSearch) peakError(k int) float64 {
+	half := 0.5 * rs.z[k]
+	lo, hi := k, k
+	for lo > 0 && rs.z[lo] > half {
+		lo--
+	}
+	for hi+1 < rs.grid.N && rs.z[hi] > half {
+		hi++
+	}
+	hwhm := 0.5 * float64(hi-lo) * rs.grid.DF
+	f := rs.grid.Freq(k)
+	return math.Max(hwhm/1.1774/(f*f), 0.05/f)
+}
+
+// hypotheses returns the rotation periods the joint periodogram supports:
+// the highest posterior peak, its double and half when the data or the
+// prior give them weight, and other peaks nearly as high. Each carries a
+// share of the posterior (the exp of its log-posterior gain, tempered by
+// the number of indicators, for activity noise is red and shared between
+// indicators, so the raw gains overstate the contrast).
+func (rs *rotationSearch) hypotheses(T float64) []RotationHypothesis {
+	best := 0
+	for k := range rs.z {
+		if rs.post(k) > rs.post(best) {
+			best = k
+		}
+	}
+	type cand struct {
+		k   int
+		why string
+	}
+	f1 := rs.grid.Freq(best)
+	cands := []cand{{best, "highest peak of the indicators' joint periodogram"}}
+	for _, c := range []struct {
+		mult float64
+		why  string
+	}{{0.5, "twice the highest peak (spots on opposite hemispheres put the strongest indicator signal at P_rot/2)"}, {2, "half the highest peak (the peak may be the first harmonic's subharmonic)"}} {
+		if k := rs.localMax(f1 * c.mult); k >= 0 && k != best && math.Abs(rs.grid.Freq(k)-f1*c.mult) < 2/T {
+			cands = append(cands, cand{k, c.why})
+		}
+	}
+	// Other peaks of nearly the same height (a yearly alias, a second
+	// indicator's period).
+	for k := 1; k+1 < rs.grid.N; k++ {
+		if rs.post(k) >= rs.post(k-1) && rs.post(k) >= rs.post(k+1) && rs.post(best)-rs.post(k) < 3 {
+			dup := false
+			for _, c := range cands {
+				if math.Abs(rs.grid.Freq(k)-rs.grid.Freq(c.k)) < 1.5/T {
+					dup = true
+				}
+			}
+			if !dup && len(cands) < 5 {
+				cands = append(cands, cand{k, "another peak nearly as high"})
+			}
+		}
+	}
+	temp := math.Max(1, float64(rs.m))
+	var out []RotationHypothesis
+	sum := 0.0
+	for _, c := range cands {
+		w := math.Exp((rs.post(c.k) - rs.post(best)) / temp)
+		if w < 0.02 {
+			continue
+		}
+		f := rs.grid.Freq(c.k)
+		out = append(out, RotationHypothesis{Period: 1 / f, Err: rs.peakError(c.k), Share: w, Why: c.why, FAP: Num(rs.fap(c.k, T))})
+		sum += w
+	}
+	for i := range out {
+		out[i].Share /= sum
+	}
+	sort.SliceStable(out, func(a, b int) bool { return out[a].Share > out[b].Share })
 	return out
 }
 
 // estimateRotation gathers every estimate of the rotation period and
-// adopts one: the star file's, else a GP fit to the indicator with the most
-// significant periodogram peak, else that peak, else the
-// activity–rotation relations.
-func (d *data) estimateRotation(rng *rand.Rand) Rotation {
+// adopts one: the star file's, else the highest peak of the joint
+// periodogram of the indicators (seasons' offsets removed, with the
+// activity–rotation relations as prior), refined by a GP fit to the
+// indicator that shows it best, else the relations. The competing
+// hypotheses (the period's double and half, other peaks nearly as high)
+// are carried forward with their shares; the magnetic cycle gets its own
+// estimate.
+func (d *data) estimateRotation(ctx context.Context, rng *rand.Rand) Rotation {
 	var est []RotationEstimate
 	star := d.opts.Star
+	var rel []RotationEstimate
+	if star != nil {
+		bv := star.BV
+		if !(bv > 0) && star.Teff > 0 {
+			bv = starsim.BVFromTeff(star.Teff)
+		}
+		if bv > 0 {
+			if lr, ok := d.meanLogRHK(bv); ok {
+				rel = RelationEstimates(lr, bv)
+			}
+		}
+	}
+	rot := Rotation{Period: Num(math.NaN()), Err: Num(math.NaN())}
 	if star != nil && star.RotationPeriod > 0 {
 		e := star.RotationPeriodErr
 		if !(e > 0) {
 			e = 0.1 * star.RotationPeriod // common practice when no error is given
 		}
 		est = append(est, RotationEstimate{Method: "star file", Period: star.RotationPeriod, Err: e})
+		rot.Period, rot.Err, rot.Source = Num(star.RotationPeriod), Num(e), "star file"
+		rot.Hypotheses = []RotationHypothesis{{Period: star.RotationPeriod, Err: e, Share: 1, Why: "given in the star file", FAP: Num(math.NaN())}}
 	}
-	est = append(est, d.lightCurveEstimates()...)
-	peaks := d.indicatorPeaks()
+	// The light curve's rotation, when there is one, is a measurement
+	// of its own: adopted after the star file's.
+	for _, e := range d.lightCurveEstimates() {
+		est = append(est, e)
+		if rot.Source == "" {
+			rot.Period, rot.Err, rot.Source = Num(e.Period), Num(e.Err), e.Method
+			rot.Hypotheses = []RotationHypothesis{{Period: e.Period, Err: e.Err, Share: 1, Why: "measured in the light curve", FAP: Num(math.NaN())}}
+		}
+	}
+	rs := d.searchRotation(ctx, rel)
 	const peakFAP = 0.01
-	for _, p := range peaks {
-		if p.fap < peakFAP {
-			// Half the Rayleigh resolution as the error of a peak period.
-			est = append(est, RotationEstimate{Method: "periodogram of " + p.name, Period: p.period, Err: 0.5 * p.period * p.period / d.T,
-				Note: fmt.Sprintf("false-alarm probability %.2g", p.fap)})
+	if rs != nil {
+		for _, p := range rs.peaks {
+			if p.fap < peakFAP {
+				est = append(est, RotationEstimate{Method: "periodogram of " + p.name, Period: p.period, Err: 0.5 * p.period * p.period / d.T,
+					Note: fmt.Sprintf("season offsets removed; false-alarm probability %.2g", p.fap)})
+			}
 		}
-	}
-	var rel []RotationEstimate
-	if star != nil && star.BV > 0 {
-		if lr, ok := d.meanLogRHK(star); ok {
-			rel = RelationEstimates(lr, star.BV)
-		}
-	}
-	if !d.opts.SkipModels && len(peaks) > 0 && peaks[0].fap < peakFAP {
-		if e, ok := d.gpRotation(peaks[0], rel); ok {
-			est = append(est, e)
+		hyp := rs.hypotheses(d.T)
+		if len(hyp) > 0 && float64(hyp[0].FAP) < peakFAP {
+			est = append(est, RotationEstimate{Method: "joint periodogram of the indicators", Period: hyp[0].Period, Err: hyp[0].Err,
+				Note: fmt.Sprintf("%d indicators, season offsets removed; false-alarm probability %.2g", rs.m, float64(hyp[0].FAP))})
+			if !d.opts.SkipModels && ctx.Err() == nil {
+				if e, ok := d.gpRotation(rs, hyp, rel); ok {
+					est = append(est, e)
+					// The GP refines the hypothesis it lands on.
+					for i := range hyp {
+						if math.Abs(e.Period-hyp[i].Period) <= 3*math.Hypot(e.Err, hyp[i].Err) {
+							hyp[i].Period, hyp[i].Err = e.Period, math.Max(e.Err, 0.05*e.Period)
+							hyp[i].Why += "; refined by " + e.Method
+							break
+						}
+					}
+				}
+			}
+			if rot.Source == "" {
+				rot.Hypotheses = hyp
+				rot.Period, rot.Err, rot.Source = Num(hyp[0].Period), Num(hyp[0].Err), "joint periodogram of the indicators"
+				if strings.Contains(hyp[0].Why, "refined by") {
+					rot.Source = "gp fit to " + strings.SplitN(strings.SplitN(hyp[0].Why, "refined by gp fit to ", 2)[1], ";", 2)[0]
+				}
+			}
 		}
 	}
 	est = append(est, rel...)
-	rot := Rotation{Period: Num(math.NaN()), Err: Num(math.NaN()), Estimates: est}
-	pick := func(prefix string) bool {
-		for _, e := range est {
-			if strings.HasPrefix(e.Method, prefix) {
-				rot.Period, rot.Err, rot.Source = Num(e.Period), Num(e.Err), e.Method
-				return true
-			}
+	if rot.Source == "" && len(rel) > 0 {
+		// The relations alone: their mean, with their scatter.
+		lm, le := 0.0, 0.0
+		for _, r := range rel {
+			lm += math.Log(r.Period)
+			le = math.Max(le, r.Err/r.Period)
 		}
-		return false
+		p := math.Exp(lm / float64(len(rel)))
+		rot.Period, rot.Err, rot.Source = Num(p), Num(math.Max(le, 0.3)*p), rel[0].Method
+		rot.Hypotheses = []RotationHypothesis{{Period: p, Err: float64(rot.Err), Share: 1, Why: "activity-rotation relations only", FAP: Num(math.NaN())}}
 	}
-	switch {
-	case pick("star file"), pick(lightCurveMethod), pick("gp fit"), pick("periodogram"), pick("Mamajek"), pick("Noyes"):
-	default:
+	rot.Estimates = est
+	rot.Cycle = d.estimateCycle(float64(rot.Period))
+	if rot.Source == "" {
 		rot.Agreement = "no estimate of the rotation period"
 		return rot
 	}
 	rot.Agreement = agreement(est, float64(rot.Period), float64(rot.Err))
+	if len(rot.Hypotheses) > 1 {
+		var hs []string
+		for _, h := range rot.Hypotheses {
+			hs = append(hs, fmt.Sprintf("%.4g d (%.0f%%)", h.Period, 100*h.Share))
+		}
+		rot.Agreement += "; competing hypotheses carried forward: " + strings.Join(hs, ", ")
+	}
 	return rot
 }
 
-// gpRotation fits the rotation kernel to one indicator. When the
-// activity–rotation relations give estimates, their mean sets a log-normal
-// prior on the GP's period, no narrower than 0.25 in ln P: it settles the
-// choice between a period and its double, which the periodogram of an
-// indicator with two spotted hemispheres cannot make (common practice).
-func (d *data) gpRotation(p indicatorPeak, rel []RotationEstimate) (RotationEstimate, bool) {
-	ind := d.s.Indicator(p.name)
+// estimateCycle looks for a magnetic cycle: the strongest peak, at periods
+// above max(300 d, 5 P_rot) and up to twice the baseline, of the S-index,
+// log R'HK or FWHM with one offset per instrument. It returns nil when no
+// peak has a false-alarm probability below 1 %.
+func (d *data) estimateCycle(prot float64) *CycleEstimate {
+	lo := 300.0
+	if prot > 0 {
+		lo = math.Max(lo, 5*prot)
+	}
+	if !(2*d.T > 1.5*lo) {
+		return nil
+	}
+	var best *CycleEstimate
+	for _, name := range []string{"s_index", "log_rhk", "fwhm"} {
+		ind := d.s.Indicator(name)
+		if ind == nil || ind.Count() < MinEpochs {
+			continue
+		}
+		sigma := indicatorErrors(ind)
+		var t, y, e []float64
+		var in []string
+		for i := range ind.Value {
+			if ind.Valid(i) {
+				t, y, e = append(t, d.t[i]), append(y, ind.Value[i]), append(e, sigma[i])
+				in = append(in, d.s.Instrument[i])
+			}
+		}
+		g, err := rvfit.NewGrid(t, &rvfit.GridOptions{Oversampling: d.opts.Oversampling, PMin: lo, PMax: 2 * d.T})
+		if err != nil {
+			continue
+		}
+		pg, err := rvfit.GLS(t, y, e, g, &rvfit.GLSOptions{Instrument: in, Workers: 1})
+		if err != nil {
+			continue
+		}
+		k := argmax(pg.Power)
+		fap := rvfit.BaluevFAP(pg.Power[k], pg.NObs, pg.NOffsets, g.FMax(), pg.TEff)
+		if fap < 0.01 && (best == nil || fap < best.FAP) {
+			p := 1 / refinePeak(pg, k)
+			// Half the Rayleigh resolution, and never less than 10 %: a
+			// cycle is at best quasi-periodic.
+			best = &CycleEstimate{Period: p, Err: math.Max(0.5*p*p/d.T, 0.1*p), Indicator: name, FAP: fap}
+		}
+	}
+	return best
+}
+
+// gpRotation fits the rotation kernel to the indicator with the most
+// power at the leading hypothesis, after removing the mean of every
+// instrument and season (a GP at P_rot cannot absorb a cycle), starting
+// from each hypothesis. When the activity–rotation relations give
+// estimates, their mean sets a log-normal prior on the GP's period, no
+// narrower than 0.25 in ln P: it helps settle the choice between a period
+// and its double (common practice).
+func (d *data) gpRotation(rs *rotationSearch, hyp []RotationHypothesis, rel []RotationEstimate) (RotationEstimate, bool) {
+	k0 := rs.grid.Index(1 / hyp[0].Period)
+	name, bp := "", -1.0
+	for _, n := range sortedKeysOf(rs.per) {
+		if k0 >= 0 && k0 < len(rs.per[n]) && rs.per[n][k0] > bp {
+			name, bp = n, rs.per[n][k0]
+		}
+	}
+	ind := d.s.Indicator(name)
+	if ind == nil {
+		return RotationEstimate{}, false
+	}
 	sigma := indicatorErrors(ind)
 	var t, y, e []float64
 	var in []string
-	for _, i := range p.idx {
-		t, y, e = append(t, d.t[i]), append(y, ind.Value[i]), append(e, sigma[i])
-		in = append(in, d.s.Instrument[i])
+	for i := range ind.Value {
+		if ind.Valid(i) {
+			t, y, e = append(t, d.t[i]), append(y, ind.Value[i]), append(e, sigma[i])
+			in = append(in, d.s.Instrument[i])
+		}
+	}
+	// Season means removed (weighted), instruments kept as groups.
+	lab := seasonLabels(t, in)
+	sg, nsg := groupIndex(lab)
+	sw, swy := make([]float64, nsg), make([]float64, nsg)
+	for i := range y {
+		w := 1 / (e[i] * e[i])
+		sw[sg[i]] += w
+		swy[sg[i]] += w * y[i]
+	}
+	for i := range y {
+		y[i] -= swy[sg[i]] / sw[sg[i]]
 	}
 	g, ng := groupIndex(in)
-	m := &gpModel{t: t, y: y, sigma: e, inst: g, ninst: ng, t0: d.t0, pLo: 1.5, pHi: math.Max(3, d.T/2), scale: math.Max(stddev(y), 1e-12)}
+	m := &gpModel{t: t, y: y, sigma: e, inst: g, ninst: ng, t0: d.t0, pLo: rotPMin, pHi: math.Max(3, math.Min(rotPMax, d.T/2)), scale: math.Max(stddev(y), 1e-12)}
 	if len(rel) > 0 {
 		lm, le := 0.0, 0.0
 		for _, r := range rel {
@@ -140,8 +438,8 @@ func (d *data) gpRotation(p indicatorPeak, rel []RotationEstimate) (RotationEsti
 		m.lnPMu, m.lnPSigma = lm/float64(len(rel)), math.Max(le, 0.25)
 	}
 	var starts [][]float64
-	for _, f := range []float64{1, 2} {
-		if q := f * p.period; q > m.pLo && q < m.pHi {
+	for _, h := range hyp {
+		if q := h.Period; q > m.pLo && q < m.pHi && len(starts) < 3 {
 			starts = append(starts, m.start(q))
 		}
 	}
@@ -154,13 +452,13 @@ func (d *data) gpRotation(p indicatorPeak, rel []RotationEstimate) (RotationEsti
 	}
 	// A floor of 2% on the error: differential rotation and spot evolution
 	// blur any single rotation period at that level (common practice).
-	out := RotationEstimate{Method: "gp fit to " + p.name, Period: r.period, Err: math.Max(r.periodE, 0.02*r.period)}
+	out := RotationEstimate{Method: "gp fit to " + name, Period: r.period, Err: math.Max(r.periodE, 0.02*r.period), Note: "season means removed"}
 	if m.lnPSigma > 0 {
-		out.Note = "period prior from the activity-rotation relations"
+		out.Note += "; period prior from the activity-rotation relations"
 	}
 	if math.IsNaN(r.periodE) {
 		out.Err = 0.1 * r.period
-		out.Note = strings.TrimPrefix(out.Note+"; the posterior's curvature was not usable, a 10% error is assumed", "; ")
+		out.Note += "; the posterior's curvature was not usable, a 10% error is assumed"
 	}
 	return out, true
 }
@@ -169,7 +467,7 @@ func (d *data) gpRotation(p indicatorPeak, rel []RotationEstimate) (RotationEsti
 // median, else the median S-index turned into log R'HK. A table's s_index
 // is on the Mount Wilson scale already (measure applies the star file's
 // calibration), so it is not calibrated again.
-func (d *data) meanLogRHK(star *Star) (float64, bool) {
+func (d *data) meanLogRHK(bv float64) (float64, bool) {
 	med := func(name string) (float64, bool) {
 		ind := d.s.Indicator(name)
 		if ind == nil {
@@ -191,7 +489,7 @@ func (d *data) meanLogRHK(star *Star) (float64, bool) {
 		return v, true
 	}
 	if s, ok := med("s_index"); ok {
-		lr, _, err := indicators.LogRPrimeHK(s, 0, indicators.RHKOptions{BV: star.BV, Extrapolate: true})
+		lr, _, err := indicators.LogRPrimeHK(s, 0, indicators.RHKOptions{BV: bv, Extrapolate: true})
 		if err == nil && isFinite(lr) {
 			return lr, true
 		}
@@ -239,7 +537,7 @@ func (tr *trial) modelComparison() {
 		tr.skipped("model_comparison", "no rotation period to anchor the activity model")
 		return
 	}
-	atRotation := tr.strongRotation
+	atRotation := tr.gpDegenerate
 	// Indicators varying at the period mean the star itself varies there: a
 	// Keplerian that survives the GP then models activity the GP's two
 	// modes (P_rot, P_rot/2) do not reach, not an orbit.
@@ -249,14 +547,33 @@ func (tr *trial) modelComparison() {
 			indicatorsVary = true
 		}
 	}
-	// The GP's period: a Gaussian prior in ln P about the adopted rotation
-	// period, no narrower than 10% (spot evolution and differential
-	// rotation blur it; common practice).
-	lnSig := math.Max(perr/prot, 0.1)
-	m := &gpModel{t: d.t, y: tr.own, sigma: d.err, inst: d.inst, ninst: d.ninst, t0: d.t0,
-		pLo: math.Max(0.5, prot*math.Exp(-4*lnSig)), pHi: prot * math.Exp(4*lnSig), lnPMu: math.Log(prot), lnPSigma: lnSig,
-		scale: math.Max(stddev(tr.own), 1e-12)}
-	r0 := m.fit([][]float64{m.start(prot)})
+	// The GP's period: a Gaussian prior in ln P about a rotation
+	// hypothesis, no narrower than 10% (spot evolution and differential
+	// rotation blur it; common practice). Each hypothesis with a share of
+	// 20 % or more anchors one activity model; the one that fits best is
+	// kept, so the comparison never rests on one disputed period.
+	anchors := []float64{prot}
+	errs := []float64{perr}
+	for _, h := range tr.rot.Hypotheses {
+		if h.Share >= 0.2 && math.Abs(h.Period-prot) > h.Err && len(anchors) < 3 {
+			anchors, errs = append(anchors, h.Period), append(errs, h.Err)
+		}
+	}
+	var m *gpModel
+	var r0 gpResult
+	for i, pa := range anchors {
+		if i > 0 && d.ctx.Err() != nil {
+			break
+		}
+		lnSig := math.Max(errs[i]/pa, 0.1)
+		mi := &gpModel{t: d.t, y: tr.own, sigma: d.err, inst: d.inst, ninst: d.ninst, t0: d.t0,
+			pLo: math.Max(0.5, pa*math.Exp(-4*lnSig)), pHi: pa * math.Exp(4*lnSig), lnPMu: math.Log(pa), lnPSigma: lnSig,
+			scale: math.Max(stddev(tr.own), 1e-12)}
+		ri := mi.fit([][]float64{mi.start(pa)})
+		if m == nil || (ri.ok && (!r0.ok || ri.lnPost > r0.lnPost)) {
+			m, r0, prot = mi, ri, pa
+		}
+	}
 	m1 := *m
 	m1.freq = tr.f
 	starts := [][]float64{m1.start(prot)}
@@ -300,11 +617,11 @@ func (tr *trial) modelComparison() {
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, K = %.2f ± %.2f m/s), but at a rotation harmonic a sinusoid also fits the coherent part of the activity, so this does not tell them apart", dBIC, K, kErr)
 	case dBIC <= -10 && snr >= 3:
-		e.Points, e.Weight = TowardPlanet, -Weights.ModelComparison.Planet
-		e.Reason = fmt.Sprintf("with activity modelled by a GP at P_rot = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", float64(tr.rot.Period), dBIC, dlnL, K, kErr, snr)
+		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet
+		e.Reason = fmt.Sprintf("with activity modelled by a GP at P_rot = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", prot, dBIC, dlnL, K, kErr, snr)
 	case dBIC >= 0 || snr < 2:
-		e.Points, e.Weight = TowardActivity, Weights.ModelComparison.Activity
-		e.Reason = fmt.Sprintf("the GP activity model at P_rot = %.3g d absorbs the signal: ΔBIC = %+.1f for a Keplerian, K = %.2f ± %.2f m/s (%.1fσ)", float64(tr.rot.Period), dBIC, K, kErr, snr)
+		e.Points, e.Weight = TowardActivity, tr.d.w.ModelComparison.Activity
+		e.Reason = fmt.Sprintf("the GP activity model at P_rot = %.3g d absorbs the signal: ΔBIC = %+.1f for a Keplerian, K = %.2f ± %.2f m/s (%.1fσ)", prot, dBIC, K, kErr, snr)
 	default:
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("with activity modelled, a Keplerian improves the fit only moderately: ΔBIC = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", dBIC, K, kErr, snr)

@@ -112,6 +112,16 @@ type Signal struct {
 	Score float64 `json:"score"`
 	// Coverage is the fraction of the total test weight that could run.
 	Coverage float64 `json:"coverage"`
+	// Probability is the calibrated probability that the signal is
+	// planetary, from its score (see Logistic); null when not computed.
+	Probability Num `json:"probability"`
+	// Caveat, when set, says why the signal cannot be planet-like whatever
+	// its score: it sits at P_rot or P_rot/2 of a rotation hypothesis, or
+	// it is an alias or a harmonic of a stronger signal.
+	Caveat string `json:"caveat,omitempty"`
+	// RelatedTo, when set, names the stronger signal this one is an alias
+	// or harmonic of (e.g. "1-day alias of signal 1 (12.92 d)").
+	RelatedTo string `json:"related_to,omitempty"`
 	// Summary is the one-line reason for the verdict.
 	Summary  string     `json:"summary"`
 	Evidence []Evidence `json:"evidence"`
@@ -131,6 +141,36 @@ type Rotation struct {
 	// Agreement says whether the estimates agree (directly or as
 	// harmonics).
 	Agreement string `json:"agreement"`
+	// Hypotheses are the rotation periods the data support, with their
+	// shares of the posterior, the adopted one first; every test that
+	// refers to the rotation considers each of them.
+	Hypotheses []RotationHypothesis `json:"hypotheses,omitempty"`
+	// Cycle is the magnetic cycle seen in an activity indicator, nil when
+	// none is.
+	Cycle *CycleEstimate `json:"cycle,omitempty"`
+}
+
+// RotationHypothesis is one rotation period the data support.
+type RotationHypothesis struct {
+	// Period and Err in days.
+	Period float64 `json:"period"`
+	Err    float64 `json:"err"`
+	// Share is its share of the posterior among the hypotheses (they add
+	// up to 1).
+	Share float64 `json:"share"`
+	// FAP is the false-alarm probability of its peak in the joint
+	// periodogram of the indicators (NaN for a star file's period).
+	FAP Num `json:"fap"`
+	// Why says where the hypothesis comes from.
+	Why string `json:"why"`
+}
+
+// CycleEstimate is a magnetic cycle seen in an activity indicator.
+type CycleEstimate struct {
+	Period    float64 `json:"period"`
+	Err       float64 `json:"err"`
+	Indicator string  `json:"indicator"`
+	FAP       float64 `json:"fap"`
 }
 
 // Provenance records what a diagnosis was computed from.
