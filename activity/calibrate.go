@@ -7,9 +7,11 @@ import (
 	"math"
 	"runtime"
 	"sort"
+	"strings"
 	"sync"
 
 	"spotsift/activity/starsim"
+	"spotsift/rvfit"
 )
 
 // CalibrationCase is one simulated scenario of the calibration with the
@@ -19,14 +21,29 @@ type CalibrationCase struct {
 	Name string
 	// Scenario is simulated once per seed (tables only).
 	Scenario *starsim.Scenario
+	// Generate, when set instead of Scenario, makes the star of a seed:
+	// its series, its star file (nil: none) and the truth of its judged
+	// periods. It lets a second, independent activity model (or anything
+	// else) be calibrated alongside the simulator.
+	Generate func(seed uint64) (*rvfit.Series, *Star, func(period float64) string, error)
 	// Periods, when set, are judged as given periods (e.g. a weak signal
 	// that prewhitening would not find); otherwise the periodogram peaks.
 	Periods []float64
 	// Star is the star file the diagnosis sees (nil: none).
 	Star *Star
 	// Truth classifies a judged period: "planet", "activity" or "noise"
-	// (weak signals whose right answer is inconclusive).
+	// (weak signals whose right answer is inconclusive); any other label
+	// (e.g. "planet alias", "planet at rotation") is counted under its
+	// name. An empty label leaves the signal out.
 	Truth func(period float64) string
+}
+
+// ProbPoint is one judged signal's probability of being planetary and
+// whether it is (truth "planet").
+type ProbPoint struct {
+	Prob   float64
+	Score  float64
+	Planet bool
 }
 
 // Confusion counts verdicts against truth.
@@ -40,6 +57,112 @@ type Confusion struct {
 	Missed map[string]int
 	// Runs is the number of simulated stars.
 	Runs int
+	// Points are every judged signal with truth "planet" or a
+	// non-planetary truth, for the calibration curve.
+	Points []ProbPoint
+}
+
+// NonPlanetary reports whether a truth label is a signal with no planet
+// behind it at its own period: activity, or an alias or harmonic of a
+// planet.
+func NonPlanetary(truth string) bool { return truth == "activity" || truth == "alias" }
+
+// Rate returns, over all cases whose name has the prefix, the share of
+// signals with a truth accepted by want that got the verdict, and their
+// number.
+func (c *Confusion) Rate(prefix string, want func(truth string) bool, verdict string) (float64, int) {
+	n, k := 0, 0
+	for cs, m := range c.PerCase {
+		if len(cs) < len(prefix) || cs[:len(prefix)] != prefix {
+			continue
+		}
+		for truth, vs := range m {
+			if !want(truth) {
+				continue
+			}
+			for v, x := range vs {
+				n += x
+				if v == verdict {
+					k += x
+				}
+			}
+		}
+	}
+	if n == 0 {
+		return math.NaN(), 0
+	}
+	return float64(k) / float64(n), n
+}
+
+// CalibrationBin is one bin of the calibration curve.
+type CalibrationBin struct {
+	Lo, Hi   float64 // the predicted probabilities of the bin
+	N        int
+	Mean     float64 // mean predicted probability
+	Observed float64 // share of planets
+}
+
+// Curve returns the calibration curve of the probabilities in nbins equal
+// bins of predicted probability.
+func (c *Confusion) Curve(nbins int) []CalibrationBin {
+	out := make([]CalibrationBin, nbins)
+	for b := range out {
+		out[b].Lo, out[b].Hi = float64(b)/float64(nbins), float64(b+1)/float64(nbins)
+	}
+	for _, p := range c.Points {
+		b := min(nbins-1, int(p.Prob*float64(nbins)))
+		out[b].N++
+		out[b].Mean += p.Prob
+		if p.Planet {
+			out[b].Observed++
+		}
+	}
+	for b := range out {
+		if out[b].N > 0 {
+			out[b].Mean /= float64(out[b].N)
+			out[b].Observed /= float64(out[b].N)
+		}
+	}
+	return out
+}
+
+// FitLogistic fits the Logistic mapping from score to P(planet) to the
+// points by maximum likelihood (Newton's method on the two parameters;
+// Platt 1999).
+func FitLogistic(pts []ProbPoint) Logistic {
+	a, b := 0.0, 5.0
+	for it := 0; it < 50; it++ {
+		var ga, gb, haa, hab, hbb float64
+		for _, p := range pts {
+			q := 1 / (1 + math.Exp(a+b*p.Score)) // P(planet)
+			y := 0.0
+			if p.Planet {
+				y = 1
+			}
+			// ln L = Σ y ln P + (1−y) ln(1−P); with dP/da = −P(1−P),
+			// ∂lnL/∂a = Σ (P − y) and ∂lnL/∂b = Σ (P − y) s.
+			r := q - y
+			ga += r
+			gb += r * p.Score
+			w := q * (1 - q)
+			haa += w
+			hab += w * p.Score
+			hbb += w * p.Score * p.Score
+		}
+		haa += 1e-6
+		hbb += 1e-6
+		det := haa*hbb - hab*hab
+		if !(det > 0) {
+			break
+		}
+		da := (hbb*ga - hab*gb) / det
+		db := (haa*gb - hab*ga) / det
+		a, b = a+da, b+db
+		if math.Abs(da)+math.Abs(db) < 1e-9 {
+			break
+		}
+	}
+	return Logistic{A: a, B: b}
 }
 
 func (c *Confusion) add(cs, truth, verdict string) {
@@ -109,6 +232,13 @@ func sortedKeysOf[V any](m map[string]V) []string {
 // (0: all cores); the result does not depend on the number of workers.
 // opts are the diagnosis options (Periods and Star come from each case).
 func Calibrate(cases []CalibrationCase, nseeds, workers int, opts *Options) (*Confusion, error) {
+	return CalibrateSeeds(context.Background(), cases, 1, nseeds, workers, opts)
+}
+
+// CalibrateSeeds is Calibrate over seeds first … first+nseeds−1, so that
+// weights set on one set of seeds can be checked on another. It stops
+// with ctx's error when ctx is cancelled.
+func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, nseeds, workers int, opts *Options) (*Confusion, error) {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
@@ -118,13 +248,14 @@ func Calibrate(cases []CalibrationCase, nseeds, workers int, opts *Options) (*Co
 	}
 	type result struct {
 		truths, verdicts []string
+		probs, scores    []float64
 		missed           int
 		err              error
 	}
 	var items []item
 	for c := range cases {
-		for s := 1; s <= nseeds; s++ {
-			items = append(items, item{c, uint64(s)})
+		for s := 0; s < nseeds; s++ {
+			items = append(items, item{c, first + uint64(s)})
 		}
 	}
 	results := make([]result, len(items))
@@ -138,30 +269,52 @@ func Calibrate(cases []CalibrationCase, nseeds, workers int, opts *Options) (*Co
 				it := items[k]
 				cs := cases[it.c]
 				r := &results[k]
-				sim, err := starsim.Simulate(cs.Scenario, it.seed, &starsim.Options{Workers: 1})
-				if err != nil {
-					r.err = fmt.Errorf("%s seed %d: %w", cs.Name, it.seed, err)
+				if err := ctx.Err(); err != nil {
+					r.err = err
 					continue
 				}
+				var series *rvfit.Series
+				star, truth := cs.Star, cs.Truth
+				var planets []float64
+				if cs.Generate != nil {
+					var err error
+					series, star, truth, err = cs.Generate(it.seed)
+					if err != nil {
+						r.err = fmt.Errorf("%s seed %d: %w", cs.Name, it.seed, err)
+						continue
+					}
+				} else {
+					sim, err := starsim.Simulate(cs.Scenario, it.seed, &starsim.Options{Workers: 1})
+					if err != nil {
+						r.err = fmt.Errorf("%s seed %d: %w", cs.Name, it.seed, err)
+						continue
+					}
+					series = sim.Series()
+					for _, p := range cs.Scenario.Planets {
+						planets = append(planets, p.Period)
+					}
+				}
 				o := opts.withDefaults()
-				o.Periods, o.Star, o.Seed = cs.Periods, cs.Star, it.seed
-				dg, err := Diagnose(context.Background(), sim.Series(), &o)
+				o.Periods, o.Star, o.Seed = cs.Periods, star, it.seed
+				dg, err := Diagnose(ctx, series, &o)
 				if err != nil {
 					r.err = fmt.Errorf("%s seed %d: %w", cs.Name, it.seed, err)
 					continue
 				}
 				found := map[string]bool{}
 				for _, sg := range dg.Signals {
-					truth := cs.Truth(float64(sg.Period))
-					if truth == "" {
+					tr := truth(float64(sg.Period))
+					if tr == "" {
 						continue
 					}
-					r.truths = append(r.truths, truth)
+					r.truths = append(r.truths, tr)
 					r.verdicts = append(r.verdicts, sg.Verdict)
-					found[truth] = true
+					r.probs = append(r.probs, float64(sg.Probability))
+					r.scores = append(r.scores, sg.Score)
+					found[tr] = true
 				}
-				for _, p := range cs.Scenario.Planets {
-					if cs.Truth(p.Period) == "planet" && !found["planet"] {
+				for _, p := range planets {
+					if truth(p) == "planet" && !found["planet"] {
 						r.missed++
 					}
 				}
@@ -181,6 +334,9 @@ func Calibrate(cases []CalibrationCase, nseeds, workers int, opts *Options) (*Co
 		cs := cases[items[k].c].Name
 		for i := range r.truths {
 			conf.add(cs, r.truths[i], r.verdicts[i])
+			if strings.HasPrefix(r.truths[i], "planet") && r.truths[i] != "planet at rotation" || NonPlanetary(r.truths[i]) {
+				conf.Points = append(conf.Points, ProbPoint{Prob: r.probs[i], Score: r.scores[i], Planet: strings.HasPrefix(r.truths[i], "planet")})
+			}
 		}
 		conf.Missed[cs] += r.missed
 	}

@@ -195,11 +195,39 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	for k := range sigs {
 		freqs[k] = sigs[k].freq
 	}
+	given := len(o.Periods) > 0
+	if given && len(freqs) > 0 {
+		freqs = d.refineGiven(freqs)
+	}
 	var all *sineFit
+	var rels []*relation
+	var jointPow, jointBeta []float64
 	if len(freqs) > 0 {
 		all, err = fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
 		if err != nil {
 			return nil, fmt.Errorf("activity: joint fit of %d sinusoids: %w", len(freqs), err)
+		}
+		amps := make([]float64, len(freqs))
+		for k := range amps {
+			amps[k], _ = all.amplitude(k)
+		}
+		rels = d.relations(freqs, amps)
+		jointPow, jointBeta = d.jointSignificance(freqs)
+		tEff := d.tEff()
+		for k := range sigs {
+			sigs[k].freq = freqs[k]
+			if !isFinite(jointPow[k]) {
+				continue
+			}
+			fap := func(p float64) float64 {
+				if given {
+					return rvfit.FAPSingle(p, len(d.t), d.ninst)
+				}
+				return rvfit.BaluevFAP(p, len(d.t), d.ninst, d.grid.FMax(), tEff)
+			}
+			sigs[k].power = jointPow[k]
+			sigs[k].fap = fap(jointPow[k])
+			sigs[k].fapCorr = fap(jointPow[k] / math.Max(1, jointBeta[k]*jointBeta[k]))
 		}
 	}
 	for k, sg := range sigs {
@@ -221,9 +249,30 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		}
 		amp, ampErr := all.amplitude(k)
 		sig := Signal{Period: Num(1 / sg.freq), Freq: Num(sg.freq), Source: sg.source, Power: Num(sg.power), FAP: Num(sg.fap),
-			Amplitude: Num(amp), AmplitudeErr: Num(ampErr)}
+			FAPCorrelated: Num(sg.fapCorr), Amplitude: Num(amp), AmplitudeErr: Num(ampErr)}
+		if given {
+			sig.PeriodGiven = Num(o.Periods[k])
+		}
+		if r := rels[k]; r != nil {
+			sig.RelatedTo = r.label
+			sig.Caveat = "it is " + r.label
+		}
 		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
+		// A planet claim needs the signal to stay significant once
+		// correlated noise is allowed for: by the red-noise factor of the
+		// joint fit's residuals, or by surviving the GP activity model.
+		if sig.Caveat == "" && !(float64(sig.FAPCorrelated) <= o.FAPThreshold) {
+			survives := false
+			for _, e := range sig.Evidence {
+				if e.Name == "model_comparison" && e.Points == TowardPlanet {
+					survives = true
+				}
+			}
+			if !survives {
+				sig.Caveat = fmt.Sprintf("the signal is not significant once the residuals' correlated noise is allowed for (false-alarm probability %.2g with errors scaled by β = %.2f) and no GP activity model confirms it", float64(sig.FAPCorrelated), jointBeta[k])
+			}
+		}
 		Score(&sig, &o)
 		diag.Signals = append(diag.Signals, sig)
 		tr.det.freq, tr.det.own, tr.det.comp = sg.freq, own, comp
@@ -235,6 +284,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 // found is one signal to judge.
 type found struct {
 	freq, power, fap float64
+	fapCorr          float64 // with the red-noise factor (NaN until computed)
 	source           string
 }
 
@@ -251,7 +301,7 @@ func (d *data) findSignals() ([]found, error) {
 				return nil, fmt.Errorf("activity: fit at %g d: %w", p, err)
 			}
 			pow := powerOf(fit.ChiSq, d.chi2Offsets(d.rv))
-			out = append(out, found{freq: f, power: pow, fap: rvfit.FAPSingle(pow, len(d.t), d.ninst), source: "given"})
+			out = append(out, found{freq: f, power: pow, fap: rvfit.FAPSingle(pow, len(d.t), d.ninst), fapCorr: math.NaN(), source: "given"})
 		}
 		return out, nil
 	}
@@ -270,7 +320,7 @@ func (d *data) findSignals() ([]found, error) {
 		}
 		f := refinePeak(pg, k)
 		freqs = append(freqs, f)
-		out = append(out, found{freq: f, power: pg.Power[k], fap: fap, source: "periodogram"})
+		out = append(out, found{freq: f, power: pg.Power[k], fap: fap, fapCorr: math.NaN(), source: "periodogram"})
 		fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
 		if err != nil {
 			break
@@ -280,6 +330,19 @@ func (d *data) findSignals() ([]found, error) {
 		}
 	}
 	return out, nil
+}
+
+// tEff is the effective time span sqrt(4π Var_w(t)) of Baluev (2008),
+// weights 1/σ².
+func (d *data) tEff() float64 {
+	sw, st, stt := 0.0, 0.0, 0.0
+	for i, ti := range d.t {
+		w := 1 / (d.err[i] * d.err[i])
+		x := ti - d.t0
+		sw, st, stt = sw+w, st+w*x, stt+w*x*x
+	}
+	v := stt/sw - (st/sw)*(st/sw)
+	return math.Sqrt(4 * math.Pi * math.Max(v, 0))
 }
 
 // chi2Offsets returns the χ² of y about per-instrument weighted means.

@@ -67,17 +67,30 @@ func (h harmonic) strong() bool { return !h.alias && (h.n == 1 || h.n == 2) }
 // fits as well as an orbit: P_rot … P_rot/4.
 func (h harmonic) gpReach() bool { return !h.alias && h.n >= 1 }
 
-// windowWeight scales a weak harmonic or alias match by the share q of the
-// searched frequency axis that the match window covers: a window covering
-// a tenth of the axis or more catches a planet as easily as activity and
-// weighs nothing; one covering a thousandth or less weighs fully; between,
-// the weight grows as ln(0.1/q) (the log of the likelihood ratio of
-// landing in the window by chance).
+// windowWeight scales a harmonic, alias or cycle match by the share q of
+// the searched period axis (in ln P: planets are spread about evenly in
+// log period) that the match window covers: a window covering 30 % of the
+// axis or more catches a planet as easily as activity and weighs nothing;
+// one covering 1 % or less weighs fully; between, the weight grows as
+// ln(0.3/q) (the log of the likelihood ratio of landing in the window by
+// chance).
 func windowWeight(q float64) float64 {
 	if !(q > 0) {
 		return 1
 	}
-	return math.Max(0, math.Min(1, math.Log(0.1/q)/math.Log(100)))
+	return math.Max(0, math.Min(1, math.Log(0.3/q)/math.Log(30)))
+}
+
+// logShare returns the share of the searched ln-frequency axis covered by
+// a window of half-width tol about frequency f.
+func (d *data) logShare(f, tol float64) float64 {
+	span := math.Log(d.grid.FMax() / d.grid.FMin)
+	lo := math.Max(f-tol, d.grid.FMin)
+	hi := math.Min(f+tol, d.grid.FMax())
+	if !(hi > lo) || !(span > 0) {
+		return 0
+	}
+	return math.Log(hi/lo) / span
 }
 
 // significance is test 1: the RV signal's false-alarm probability. It
@@ -114,7 +127,6 @@ func (tr *trial) rotationMatch() {
 	}
 	w := tr.d.w
 	res := 1 / tr.d.T
-	span := tr.d.grid.FMax() - tr.d.grid.FMin
 	estimated := tr.rot.Source != "star file"
 	total, bestD := 0.0, math.Inf(1)
 	var parts []string
@@ -137,25 +149,37 @@ func (tr *trial) rotationMatch() {
 		if len(hyps) > 1 {
 			lbl = fmt.Sprintf("P_rot = %.4g ± %.2g d (share %.0f%%)", prot, perr, 100*hy.Share)
 		}
+		// Only a rotation period measured (from these data or given in the
+		// star file) can bar a planet-like verdict; the relations' wide
+		// prediction cannot.
+		measured := hy.Why != relationsOnly
 		switch {
-		case match != nil && match.strong():
-			total += hy.Share * w.RotationMatch
-			parts = append(parts, fmt.Sprintf("at %s of %s", match.label, lbl))
-			if hy.Share >= 0.1 {
+		case match != nil:
+			q := tr.d.logShare(match.freq, matchTol)
+			ww := windowWeight(q)
+			wt := w.RotationMatchWeak
+			if match.strong() {
+				wt = w.RotationMatch
+			}
+			total += hy.Share * wt * ww
+			parts = append(parts, fmt.Sprintf("at %s of %s, a window covering %.1f%% of the periods searched (weight ×%.2f)", match.label, lbl, 100*q, ww))
+			// P_rot, P_rot/2 and their 1-day and 1-year aliases are one
+			// frequency to sampled data: any of them bars a planet-like
+			// verdict.
+			if (match.n == 1 || match.n == 2) && measured && hy.Share >= 0.1 && ww >= 0.5 {
 				tr.strongRotation = true
 				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
 			}
-		case match != nil:
-			q := 2 * matchTol / span
-			ww := windowWeight(q)
-			total += hy.Share * w.RotationMatchWeak * ww
-			parts = append(parts, fmt.Sprintf("at the %s of %s, a window covering %.1f%% of the frequencies searched (weight ×%.2f)", match.label, lbl, 100*q, ww))
+			if match.gpReach() && hy.Share >= 0.1 && ww >= 0.5 {
+				tr.gpDegenerate = true
+			}
 		default:
-			total -= hy.Share * w.RotationMismatch
-			parts = append(parts, fmt.Sprintf("unrelated to %s", lbl))
-		}
-		if match != nil && match.gpReach() && hy.Share >= 0.1 {
-			tr.gpDegenerate = true
+			// A mismatch with a poorly known period says little: it weighs
+			// by how narrow the rotation's own window is.
+			q := tr.d.logShare(1/prot, math.Hypot(res, perr/(prot*prot)))
+			ww := windowWeight(q)
+			total -= hy.Share * w.RotationMismatch * ww
+			parts = append(parts, fmt.Sprintf("unrelated to %s (weight ×%.2f)", lbl, ww))
 		}
 	}
 	e := Evidence{Name: "rotation_match", Value: Num(bestD), Threshold: 1, Weight: total}
@@ -186,14 +210,18 @@ func (tr *trial) cycleMatch() {
 	}
 	tol := math.Hypot(1/tr.d.T, c.Err/(c.Period*c.Period))
 	dist := math.Abs(tr.f-1/c.Period) / tol
+	q := tr.d.logShare(1/c.Period, tol)
+	ww := windowWeight(q)
 	e := Evidence{Name: "cycle_match", Value: Num(dist), Threshold: 1}
-	if dist <= 1 {
-		e.Points, e.Weight = TowardActivity, tr.d.w.CycleMatch
-		e.Reason = fmt.Sprintf("the period %.4g d matches the magnetic cycle seen in %s (%.4g ± %.2g d, false-alarm probability %.2g)", p, c.Indicator, c.Period, c.Err, c.FAP)
-		tr.caveat = fmt.Sprintf("the period matches the magnetic cycle seen in %s", c.Indicator)
+	if dist <= 1 && ww > 0 {
+		e.Points, e.Weight = TowardActivity, tr.d.w.CycleMatch*ww
+		e.Reason = fmt.Sprintf("the period %.4g d matches the magnetic cycle seen in %s (%.4g ± %.2g d, false-alarm probability %.2g), a window covering %.1f%% of the periods searched (weight ×%.2f)", p, c.Indicator, c.Period, c.Err, c.FAP, 100*q, ww)
+		if ww >= 0.5 {
+			tr.caveat = fmt.Sprintf("the period matches the magnetic cycle seen in %s", c.Indicator)
+		}
 	} else {
 		e.Points = TowardNeither
-		e.Reason = fmt.Sprintf("for information: the period %.4g d differs from the magnetic cycle seen in %s (%.4g ± %.2g d) by %.1f tolerance widths", p, c.Indicator, c.Period, c.Err, dist)
+		e.Reason = fmt.Sprintf("for information: the period %.4g d is %.1f tolerance widths from the magnetic cycle seen in %s (%.4g ± %.2g d), whose window covers %.1f%% of the periods searched", p, dist, c.Indicator, c.Period, c.Err, 100*q)
 	}
 	tr.add(e)
 }

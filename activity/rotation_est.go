@@ -21,6 +21,10 @@ type indicatorPeak struct {
 	idx    []int // the epochs with a value
 }
 
+// relationsOnly is the Why of a rotation hypothesis that only the
+// activity–rotation relations support.
+const relationsOnly = "activity-rotation relations only"
+
 // Bounds of the rotation periods sought, in days: from 1.5 d (shorter ones
 // are rare among the stars RV surveys target; common practice) to 200 d
 // (the slowest M dwarfs rotate in 100–150 d; Newton et al. 2016), and no
@@ -44,11 +48,44 @@ func seasonLabels(t []float64, inst []string) []string {
 	return out
 }
 
+// detrendGroups returns y less a weighted straight line fitted to each
+// group of epochs (instrument and season) that spans more than 60 days:
+// slow drifts within a season (a rising cycle, an instrumental drift) put
+// power at long periods that would otherwise win the search for rotation.
+func detrendGroups(t, y, e []float64, labels []string) []float64 {
+	out := append([]float64(nil), y...)
+	g, ng := groupIndex(labels)
+	for k := 0; k < ng; k++ {
+		var sw, st, sy, stt, sty, lo, hi float64
+		lo, hi = math.Inf(1), math.Inf(-1)
+		for i := range t {
+			if g[i] != k {
+				continue
+			}
+			w := 1 / (e[i] * e[i])
+			sw, st, sy, stt, sty = sw+w, st+w*t[i], sy+w*y[i], stt+w*t[i]*t[i], sty+w*t[i]*y[i]
+			lo, hi = math.Min(lo, t[i]), math.Max(hi, t[i])
+		}
+		den := sw*stt - st*st
+		if hi-lo <= 60 || !(den > 0) {
+			continue
+		}
+		b := (sw*sty - st*sy) / den
+		for i := range t {
+			if g[i] == k {
+				out[i] -= b * (t[i] - st/sw)
+			}
+		}
+	}
+	return out
+}
+
 // rotationSearch is the joint periodogram of the indicators used for the
 // rotation period.
 type rotationSearch struct {
 	grid  rvfit.Grid
 	z     []float64 // Σ over indicators of −(N−m)/2 ln(1 − p): the joint log-likelihood gain
+	prom  []float64 // the same gain above each indicator's local background power
 	lnPri []float64 // log prior of each frequency (0 without one)
 	m     int       // number of indicators combined
 	peaks []indicatorPeak
@@ -59,7 +96,24 @@ type rotationSearch struct {
 // periodogram with one offset per instrument and season, and their joint
 // log-likelihood gain. It returns nil when no indicator can be used.
 func (d *data) searchRotation(ctx context.Context, rel []RotationEstimate) *rotationSearch {
+	// No longer than two thirds of the longest season: a season's own
+	// trend is removed, and periods beyond would be a handful of cycles.
 	pmax := math.Min(rotPMax, 0.5*d.T)
+	lab := seasonLabels(d.t, d.s.Instrument)
+	span := map[string][2]float64{}
+	for i, l := range lab {
+		sp, ok := span[l]
+		if !ok {
+			sp = [2]float64{d.t[i], d.t[i]}
+		}
+		sp[0], sp[1] = math.Min(sp[0], d.t[i]), math.Max(sp[1], d.t[i])
+		span[l] = sp
+	}
+	longest := 0.0
+	for _, sp := range span {
+		longest = math.Max(longest, sp[1]-sp[0])
+	}
+	pmax = math.Min(pmax, math.Max(2*longest/3, 3*rotPMin))
 	if !(pmax > 2*rotPMin) {
 		return nil
 	}
@@ -67,7 +121,7 @@ func (d *data) searchRotation(ctx context.Context, rel []RotationEstimate) *rota
 	if err != nil {
 		return nil
 	}
-	rs := &rotationSearch{grid: g, z: make([]float64, g.N), lnPri: make([]float64, g.N), per: map[string][]float64{}}
+	rs := &rotationSearch{grid: g, z: make([]float64, g.N), prom: make([]float64, g.N), lnPri: make([]float64, g.N), per: map[string][]float64{}}
 	for _, ind := range d.s.Indicators {
 		if ctx.Err() != nil {
 			return nil
@@ -87,13 +141,17 @@ func (d *data) searchRotation(ctx context.Context, rel []RotationEstimate) *rota
 			}
 		}
 		labels := seasonLabels(t, in)
+		y = detrendGroups(t, y, e, labels)
 		pg, err := rvfit.GLS(t, y, e, g, &rvfit.GLSOptions{Instrument: labels, Workers: 1})
 		if err != nil || pg.NObs-pg.NOffsets < MinEpochs {
 			continue
 		}
 		nk := float64(pg.NObs - pg.NOffsets - 2)
+		bg := background(g, pg.Power)
 		for k, p := range pg.Power {
-			rs.z[k] += -0.5 * nk * math.Log1p(-math.Min(p, 1-1e-12))
+			gain := -0.5 * nk * math.Log1p(-math.Min(p, 1-1e-12))
+			rs.z[k] += gain
+			rs.prom[k] += gain + 0.5*nk*math.Log1p(-math.Min(bg[k], 1-1e-12))
 		}
 		rs.per[ind.Name] = pg.Power
 		rs.m++
@@ -124,8 +182,42 @@ func (d *data) searchRotation(ctx context.Context, rel []RotationEstimate) *rota
 	return rs
 }
 
-// post is the log posterior (up to a constant) at grid index k.
-func (rs *rotationSearch) post(k int) float64 { return rs.z[k] + rs.lnPri[k] }
+// post is the log posterior (up to a constant) at grid index k: the gain
+// above the local background, so that the red-noise continuum of spot
+// evolution and cycles (power rising toward long periods) does not win
+// over a narrower rotation peak.
+func (rs *rotationSearch) post(k int) float64 { return rs.prom[k] + rs.lnPri[k] }
+
+// background returns the local background of a periodogram: the median
+// power within ±0.3 in ln f (a factor 1.35 in period) about each
+// frequency, computed at 64 anchors evenly spaced in ln f and
+// interpolated between them.
+func background(g rvfit.Grid, pw []float64) []float64 {
+	const half = 0.3
+	const na = 64
+	lf0, lf1 := math.Log(g.Freq(0)), math.Log(g.Freq(g.N-1))
+	anch := make([]float64, na)
+	vals := make([]float64, na)
+	buf := make([]float64, 0, len(pw))
+	for a := range anch {
+		lf := lf0 + (lf1-lf0)*float64(a)/float64(na-1)
+		anch[a] = lf
+		lo := max(0, g.Index(math.Exp(lf-half)))
+		hi := min(g.N-1, g.Index(math.Exp(lf+half)))
+		buf = append(buf[:0], pw[lo:hi+1]...)
+		sort.Float64s(buf)
+		vals[a] = buf[len(buf)/2]
+	}
+	out := make([]float64, len(pw))
+	for k := range pw {
+		lf := math.Log(g.Freq(k))
+		x := (lf - lf0) / (lf1 - lf0) * float64(na-1)
+		i := min(na-2, max(0, int(x)))
+		fr := math.Max(0, math.Min(1, x-float64(i)))
+		out[k] = vals[i]*(1-fr) + vals[i+1]*fr
+	}
+	return out
+}
 
 // fap is the false-alarm probability of the joint gain at k: 2z follows χ²
 // with 2m degrees of freedom at one frequency (Wilks), times the number of
@@ -321,7 +413,7 @@ func (d *data) estimateRotation(ctx context.Context, rng *rand.Rand) Rotation {
 		}
 		p := math.Exp(lm / float64(len(rel)))
 		rot.Period, rot.Err, rot.Source = Num(p), Num(math.Max(le, 0.3)*p), rel[0].Method
-		rot.Hypotheses = []RotationHypothesis{{Period: p, Err: float64(rot.Err), Share: 1, Why: "activity-rotation relations only", FAP: Num(math.NaN())}}
+		rot.Hypotheses = []RotationHypothesis{{Period: p, Err: float64(rot.Err), Share: 1, Why: relationsOnly, FAP: Num(math.NaN())}}
 	}
 	rot.Estimates = est
 	rot.Cycle = d.estimateCycle(float64(rot.Period))

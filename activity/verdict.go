@@ -94,11 +94,18 @@ type Signal struct {
 	// Source is "given" (named by the user) or "periodogram" (found by
 	// iterative prewhitening).
 	Source string `json:"source"`
-	// Power is the GLS power of the signal in the periodogram it was found
-	// in; FAP its false-alarm probability (Baluev 2008 for a found peak,
-	// the single-frequency value for a given period).
+	// Power is the fraction of χ² the signal removes from a joint fit of
+	// all the other signals; FAP its false-alarm probability (Baluev 2008
+	// for a found peak, the single-frequency value for a given period).
 	Power Num `json:"power"`
 	FAP   Num `json:"fap"`
+	// FAPCorrelated is the false-alarm probability with the χ² gain
+	// divided by β², the red-noise factor of the joint fit's residuals at
+	// the period (Pont, Zucker & Queloz 2006).
+	FAPCorrelated Num `json:"fap_correlated"`
+	// PeriodGiven is the period as given, before its refinement within the
+	// frequency resolution (0 for a signal found in the periodogram).
+	PeriodGiven Num `json:"period_given,omitempty"`
 	// Amplitude is the fitted semi-amplitude in m/s and AmplitudeErr its
 	// one-sigma error.
 	Amplitude    Num `json:"amplitude"`

@@ -1,0 +1,162 @@
+package activity
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"spotsift/rvfit"
+)
+
+// The signals of a star are judged as one system: given periods are
+// refined within the frequency resolution, all signals are fitted
+// together, each one's significance is measured with the others in the
+// fit, and a signal that is an alias or a harmonic of a stronger one is
+// labelled as such instead of being judged as a new planet.
+
+// refineGiven moves each given frequency to the maximum of the joint fit's
+// power within a quarter of the resolution element 1/T of it (a wider
+// search would absorb phase changes, which the coherence tests must see),
+// the other signals held in
+// the fit (a period quoted to a few digits, or from other data, is rarely
+// at the peak of these data).
+func (d *data) refineGiven(freqs []float64) []float64 {
+	out := append([]float64(nil), freqs...)
+	df := 1 / d.T
+	for k := range out {
+		if d.ctx.Err() != nil {
+			return out
+		}
+		best, bestChi := out[k], math.Inf(1)
+		trial := append([]float64(nil), out...)
+		for s := -10; s <= 10; s++ {
+			trial[k] = out[k] + float64(s)*df/40
+			if trial[k] <= 0 {
+				continue
+			}
+			fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0)
+			if err == nil && fit.ChiSq < bestChi {
+				best, bestChi = trial[k], fit.ChiSq
+			}
+		}
+		out[k] = best
+	}
+	return out
+}
+
+// jointSignificance returns, for each signal k, the power it adds to a
+// joint fit of all the others (the fraction of their residual χ² it
+// removes) and the red-noise factor β of the joint fit's residuals at its
+// period (Pont, Zucker & Queloz 2006): dividing the χ² gain by β² gives
+// the significance the signal keeps when the residuals' correlated noise
+// is accounted for.
+func (d *data) jointSignificance(freqs []float64) (power, beta []float64) {
+	power, beta = make([]float64, len(freqs)), make([]float64, len(freqs))
+	all, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
+	if err != nil {
+		for k := range power {
+			power[k], beta[k] = math.NaN(), math.NaN()
+		}
+		return power, beta
+	}
+	resid := make([]float64, len(d.t))
+	for i, ti := range d.t {
+		resid[i] = d.rv[i] - all.model(i, ti)
+	}
+	for k := range freqs {
+		var others []float64
+		for j := range freqs {
+			if j != k {
+				others = append(others, freqs[j])
+			}
+		}
+		chi0 := d.chi2Offsets(d.rv)
+		if len(others) > 0 {
+			if f, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, others, d.t0); err == nil {
+				chi0 = f.ChiSq
+			}
+		}
+		power[k] = powerOf(all.ChiSq, chi0)
+		beta[k] = redNoiseBeta(d.t, resid, d.err, 1/freqs[k])
+	}
+	return power, beta
+}
+
+// relation is how a weaker signal relates to a stronger one.
+type relation struct {
+	to    int // index of the stronger signal
+	label string
+}
+
+// windowPeaks returns the frequencies of the strongest peaks of the
+// sampling's spectral window (above 0.2 of W(0), at most three, away from
+// zero frequency): a true frequency f has aliases at |f ± f_w|.
+func (d *data) windowPeaks() []float64 {
+	g := d.grid
+	w, err := rvfit.Window(d.t, nil, g, nil)
+	if err != nil {
+		return nil
+	}
+	type pk struct{ f, w float64 }
+	var pks []pk
+	for k := 1; k+1 < len(w); k++ {
+		if w[k] > 0.2 && w[k] >= w[k-1] && w[k] >= w[k+1] && g.Freq(k) > 2/d.T {
+			pks = append(pks, pk{g.Freq(k), w[k]})
+		}
+	}
+	sort.SliceStable(pks, func(a, b int) bool { return pks[a].w > pks[b].w })
+	var out []float64
+	for _, p := range pks {
+		if len(out) == 3 {
+			break
+		}
+		out = append(out, p.f)
+	}
+	return out
+}
+
+// relations labels every signal that lies, within one resolution element,
+// at a 1-day, 1-year or spectral-window alias of a stronger signal, or at
+// twice or three times a stronger signal's frequency (an eccentric orbit
+// puts power at its harmonics: to first order in e, a Keplerian of
+// semi-amplitude K has a component of amplitude eK at 2/P; Lucy 2005,
+// from memory). Strength is the fitted amplitude.
+func (d *data) relations(freqs, amps []float64) []*relation {
+	out := make([]*relation, len(freqs))
+	order := make([]int, len(freqs))
+	for k := range order {
+		order[k] = k
+	}
+	sort.SliceStable(order, func(a, b int) bool { return amps[order[a]] > amps[order[b]] })
+	tol := 1 / d.T
+	const sidereal, year = 1.0027379, 1 / 365.25
+	win := d.windowPeaks()
+	for r, k := range order {
+		for _, j := range order[:r] {
+			if out[j] != nil {
+				continue // an alias of an alias says nothing new
+			}
+			fj, fk := freqs[j], freqs[k]
+			name := fmt.Sprintf("signal %d (%.4g d)", j+1, 1/fj)
+			for _, n := range []float64{2, 3} {
+				if out[k] == nil && math.Abs(fk-n*fj) <= tol {
+					out[k] = &relation{j, fmt.Sprintf("at %g× the frequency of %s: a harmonic of an eccentric orbit, or of a signal that is not a sinusoid", n, name)}
+				}
+			}
+			for _, a := range []struct {
+				df   float64
+				what string
+			}{{sidereal, "1-day alias"}, {year, "1-year alias"}} {
+				if out[k] == nil && (math.Abs(fk-math.Abs(fj-a.df)) <= tol || math.Abs(fk-(fj+a.df)) <= tol) {
+					out[k] = &relation{j, fmt.Sprintf("the %s of %s", a.what, name)}
+				}
+			}
+			for _, fw := range win {
+				if out[k] == nil && (math.Abs(fk-math.Abs(fj-fw)) <= tol || math.Abs(fk-(fj+fw)) <= tol) {
+					out[k] = &relation{j, fmt.Sprintf("an alias of %s through the sampling's window peak at %.4g d", name, 1/fw)}
+				}
+			}
+		}
+	}
+	return out
+}
