@@ -44,6 +44,35 @@ type ProbPoint struct {
 	Prob   float64
 	Score  float64
 	Planet bool
+	// Truth is the signal's truth label; Blocked whether a caveat bars
+	// it from planet-like; Significant whether its false-alarm
+	// probability passed the threshold.
+	Truth       string
+	Blocked     bool
+	Significant bool
+}
+
+// RatesAt returns, for a verdict threshold thr, the share of
+// non-planetary signals and of signals with truth "planet" that would be
+// planet-like, from the recorded points (no diagnosis is rerun).
+func RatesAt(pts []ProbPoint, thr float64) (falsePlanet, detected float64) {
+	var nf, kf, nd, kd int
+	for _, p := range pts {
+		pl := p.Significant && !p.Blocked && p.Score <= -thr+scoreTolerance
+		switch {
+		case NonPlanetary(p.Truth):
+			nf++
+			if pl {
+				kf++
+			}
+		case p.Truth == "planet":
+			nd++
+			if pl {
+				kd++
+			}
+		}
+	}
+	return float64(kf) / float64(max(nf, 1)), float64(kd) / float64(max(nd, 1))
 }
 
 // Confusion counts verdicts against truth.
@@ -249,6 +278,7 @@ func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, 
 	type result struct {
 		truths, verdicts []string
 		probs, scores    []float64
+		blocked, signif  []bool
 		missed           int
 		err              error
 	}
@@ -311,6 +341,8 @@ func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, 
 					r.verdicts = append(r.verdicts, sg.Verdict)
 					r.probs = append(r.probs, float64(sg.Probability))
 					r.scores = append(r.scores, sg.Score)
+					r.blocked = append(r.blocked, sg.Caveat != "")
+					r.signif = append(r.signif, float64(sg.FAP) <= o.FAPThreshold)
 					found[tr] = true
 				}
 				for _, p := range planets {
@@ -335,7 +367,8 @@ func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, 
 		for i := range r.truths {
 			conf.add(cs, r.truths[i], r.verdicts[i])
 			if strings.HasPrefix(r.truths[i], "planet") && r.truths[i] != "planet at rotation" || NonPlanetary(r.truths[i]) {
-				conf.Points = append(conf.Points, ProbPoint{Prob: r.probs[i], Score: r.scores[i], Planet: strings.HasPrefix(r.truths[i], "planet")})
+				conf.Points = append(conf.Points, ProbPoint{Prob: r.probs[i], Score: r.scores[i], Planet: strings.HasPrefix(r.truths[i], "planet"),
+					Truth: r.truths[i], Blocked: r.blocked[i], Significant: r.signif[i]})
 			}
 		}
 		conf.Missed[cs] += r.missed

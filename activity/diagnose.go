@@ -55,6 +55,12 @@ type Options struct {
 	// its FF' prediction is tested as evidence.
 	LightCurve *photometry.LightCurve
 
+	// SingleOutput keeps the model comparison to the RVs alone (the GP of
+	// the rotation kernel), instead of the multi-output GP on the RVs and
+	// the indicators; faster, and the only choice without indicator
+	// errors.
+	SingleOutput bool
+
 	// Weights are the tests' weights; nil means DefaultWeights.
 	Weights *Weights
 	// VerdictThreshold is the |score| beyond which a significant signal is
@@ -261,16 +267,18 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		tr.run(&sig)
 		// A planet claim needs the signal to stay significant once
 		// correlated noise is allowed for: by the red-noise factor of the
-		// joint fit's residuals, or by surviving the GP activity model.
+		// joint fit's residuals, by surviving the GP activity model, or by
+		// growing like a periodic signal against simulations made of the
+		// residuals themselves.
 		if sig.Caveat == "" && !(float64(sig.FAPCorrelated) <= o.FAPThreshold) {
 			survives := false
 			for _, e := range sig.Evidence {
-				if e.Name == "model_comparison" && e.Points == TowardPlanet {
+				if (e.Name == "model_comparison" || e.Name == "stacked_growth") && e.Points == TowardPlanet {
 					survives = true
 				}
 			}
 			if !survives {
-				sig.Caveat = fmt.Sprintf("the signal is not significant once the residuals' correlated noise is allowed for (false-alarm probability %.2g with errors scaled by β = %.2f) and no GP activity model confirms it", float64(sig.FAPCorrelated), jointBeta[k])
+				sig.Caveat = fmt.Sprintf("the signal is not significant once the residuals' correlated noise is allowed for (false-alarm probability %.2g with errors scaled by β = %.2f) and neither the GP activity model nor the stacked periodogram (with the residuals' own noise) confirms it", float64(sig.FAPCorrelated), jointBeta[k])
 			}
 		}
 		Score(&sig, &o)

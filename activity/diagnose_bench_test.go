@@ -12,14 +12,13 @@ func BenchmarkDiagnose(b *testing.B) {
 		map[string]func(float64) float64{"fwhm": sine(10, 13.1, 1.3), "bis": sine(-2, 13.1, 1), "s_index": sine(0.01, 26.2, 0.2)},
 		map[string]float64{"fwhm": 3, "bis": 1, "s_index": 0.003})
 	b.Logf("%d epochs", s.Len())
-	for _, skip := range []bool{false, true} {
-		name := "gp"
-		if skip {
-			name = "no-gp"
-		}
-		b.Run(name, func(b *testing.B) {
+	for _, c := range []struct {
+		name         string
+		skip, single bool
+	}{{"multi-output", false, false}, {"rv-only-gp", false, true}, {"no-gp", true, false}} {
+		b.Run(c.name, func(b *testing.B) {
 			for b.Loop() {
-				if _, err := Diagnose(context.Background(), s, &Options{Star: &Star{Name: "b", BV: 0.7}, Seed: 1, SkipModels: skip}); err != nil {
+				if _, err := Diagnose(context.Background(), s, &Options{Star: &Star{Name: "b", BV: 0.7}, Seed: 1, SkipModels: c.skip, SingleOutput: c.single}); err != nil {
 					b.Fatal(err)
 				}
 			}

@@ -163,10 +163,11 @@ func (tr *trial) rotationMatch() {
 			}
 			total += hy.Share * wt * ww
 			parts = append(parts, fmt.Sprintf("at %s of %s, a window covering %.1f%% of the periods searched (weight ×%.2f)", match.label, lbl, 100*q, ww))
-			// P_rot, P_rot/2 and their 1-day and 1-year aliases are one
-			// frequency to sampled data: any of them bars a planet-like
-			// verdict.
-			if (match.n == 1 || match.n == 2) && measured && hy.Share >= 0.1 && ww >= 0.5 {
+			// P_rot, P_rot/2 and their 1-day aliases are one frequency
+			// to nightly data: any of them bars a planet-like verdict.
+			// (A 1-year alias lies within the error of most rotation
+			// periods and weighs by its window only.)
+			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 && ww >= 0.5 {
 				tr.strongRotation = true
 				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
 			}

@@ -625,10 +625,7 @@ func agreement(est []RotationEstimate, p, perr float64) string {
 func (tr *trial) modelComparison() {
 	d := tr.d
 	prot, perr := float64(tr.rot.Period), float64(tr.rot.Err)
-	if !(prot > 0) {
-		tr.skipped("model_comparison", "no rotation period to anchor the activity model")
-		return
-	}
+	free := !(prot > 0)
 	atRotation := tr.gpDegenerate
 	// Indicators varying at the period mean the star itself varies there: a
 	// Keplerian that survives the GP then models activity the GP's two
@@ -644,8 +641,26 @@ func (tr *trial) modelComparison() {
 	// rotation blur it; common practice). Each hypothesis with a share of
 	// 20 % or more anchors one activity model; the one that fits best is
 	// kept, so the comparison never rests on one disputed period.
+	//
+	// Without any rotation period, the GP's period is free over the
+	// rotation periods sought, started away from the signal's period; a
+	// GP that settles at the signal's period, its double or its half is
+	// degenerate with the Keplerian and the test then says nothing.
 	anchors := []float64{prot}
 	errs := []float64{perr}
+	if free {
+		anchors, errs = nil, nil
+		for _, pa := range []float64{3, 10, 30, 90} {
+			if pa < d.T/2 && len(anchors) < 3 && math.Abs(math.Log(pa*tr.f)) > 0.3 && math.Abs(math.Log(pa*tr.f/2)) > 0.3 {
+				anchors, errs = append(anchors, pa), append(errs, math.NaN())
+			}
+		}
+		if len(anchors) == 0 {
+			tr.skipped("model_comparison", "no rotation period to anchor the activity model, and no room for a free one")
+			return
+		}
+		prot = anchors[0]
+	}
 	for _, h := range tr.rot.Hypotheses {
 		if h.Share >= 0.2 && math.Abs(h.Period-prot) > h.Err && len(anchors) < 3 {
 			anchors, errs = append(anchors, h.Period), append(errs, h.Err)
@@ -661,9 +676,26 @@ func (tr *trial) modelComparison() {
 		mi := &gpModel{t: d.t, y: tr.own, sigma: d.err, inst: d.inst, ninst: d.ninst, t0: d.t0,
 			pLo: math.Max(0.5, pa*math.Exp(-4*lnSig)), pHi: pa * math.Exp(4*lnSig), lnPMu: math.Log(pa), lnPSigma: lnSig,
 			scale: math.Max(stddev(tr.own), 1e-12)}
+		if free {
+			mi.pLo, mi.pHi, mi.lnPMu, mi.lnPSigma = rotPMin, math.Max(3, math.Min(rotPMax, d.T/2)), 0, 0
+		}
 		ri := mi.fit([][]float64{mi.start(pa)})
 		if m == nil || (ri.ok && (!r0.ok || ri.lnPost > r0.lnPost)) {
 			m, r0, prot = mi, ri, pa
+		}
+	}
+	if free && r0.ok && (r0.period < 1.05*m.pLo || r0.period > 0.95*m.pHi) {
+		// A free GP whose period runs to a bound found no rotation to
+		// model: the comparison would be against white noise.
+		tr.skipped("model_comparison", fmt.Sprintf("no rotation period is known and a GP with a free period found none (it ran to %.3g d, a bound)", r0.period))
+		return
+	}
+	if free && r0.ok {
+		prot = r0.period
+		for _, mult := range []float64{1, 2, 0.5} {
+			if math.Abs(math.Log(r0.period*tr.f*mult)) < 0.25 {
+				atRotation = true
+			}
 		}
 	}
 	m1 := *m
@@ -679,6 +711,10 @@ func (tr *trial) modelComparison() {
 	if !r0.ok || !r1.ok {
 		tr.skipped("model_comparison", "the Gaussian-process fit did not converge")
 		return
+	}
+	gpWhat := "P_rot"
+	if free {
+		gpWhat = "a free period (no rotation period known)"
 	}
 	n := float64(len(d.t))
 	dlnL := r1.lnL - r0.lnL
@@ -696,6 +732,23 @@ func (tr *trial) modelComparison() {
 		kErr = math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / K
 	}
 	snr := K / kErr
+	// The whole-model comparison: the multi-output GP of Rajpaul et al.
+	// (2015) on the RVs and the indicators (FitGPActivity's GPMulti), with
+	// and without the Keplerian, replaces the RV-only comparison when the
+	// indicators allow it.
+	if !free && !d.opts.SingleOutput && d.ctx.Err() == nil {
+		if w0, w1, ok := tr.multiComparison(prot, perr); ok {
+			dlnL = w1.LogLikelihood - w0.LogLikelihood
+			dBIC = w1.BIC - w0.BIC
+			if d.opts.Periods == nil {
+				dBIC += math.Log(n)
+			}
+			K, kErr = w1.Amplitude, w1.AmplitudeErr
+			snr = K / kErr
+			prot = w0.Rotation
+			gpWhat = "P_rot (multi-output GP on the RVs and the indicators)"
+		}
+	}
 	// ΔBIC below −10 is "very strong" evidence (Kass & Raftery 1995, from
 	// memory); an amplitude under 3σ is not a detection (common practice).
 	e := Evidence{Name: "model_comparison", Value: Num(dBIC), Threshold: -10}
@@ -710,13 +763,32 @@ func (tr *trial) modelComparison() {
 		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, K = %.2f ± %.2f m/s), but at a rotation harmonic a sinusoid also fits the coherent part of the activity, so this does not tell them apart", dBIC, K, kErr)
 	case dBIC <= -10 && snr >= 3:
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet
-		e.Reason = fmt.Sprintf("with activity modelled by a GP at P_rot = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", prot, dBIC, dlnL, K, kErr, snr)
+		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", gpWhat, prot, dBIC, dlnL, K, kErr, snr)
 	case dBIC >= 0 || snr < 2:
 		e.Points, e.Weight = TowardActivity, tr.d.w.ModelComparison.Activity
-		e.Reason = fmt.Sprintf("the GP activity model at P_rot = %.3g d absorbs the signal: ΔBIC = %+.1f for a Keplerian, K = %.2f ± %.2f m/s (%.1fσ)", prot, dBIC, K, kErr, snr)
+		e.Reason = fmt.Sprintf("the GP activity model at %s = %.3g d absorbs the signal: ΔBIC = %+.1f for a Keplerian, K = %.2f ± %.2f m/s (%.1fσ)", gpWhat, prot, dBIC, K, kErr, snr)
 	default:
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("with activity modelled, a Keplerian improves the fit only moderately: ΔBIC = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", dBIC, K, kErr, snr)
 	}
 	tr.add(e)
+}
+
+// multiComparison runs CompareGPActivity's multi-output model on the
+// signal's own RVs (the other signals removed) and the indicators, with
+// the rotation period as prior. ok is false when the series has no
+// indicator the model can use or a fit fails.
+func (tr *trial) multiComparison(prot, perr float64) (without, with *GPActivityFit, ok bool) {
+	d := tr.d
+	s := d.s.Clone()
+	copy(s.RV, tr.own)
+	if _, err := multiIndicators(s, nil); err != nil {
+		return nil, nil, false
+	}
+	o := &GPActivityOptions{Model: GPMulti, Rotation: prot, RotationErr: math.Max(perr, 0.1*prot), Starts: 2, Workers: 1}
+	w0, w1, err := CompareGPActivity(s, 1/tr.f, o)
+	if err != nil || w0 == nil || w1 == nil || !isFinite(w1.BIC) || !isFinite(w0.BIC) || !isFinite(w1.AmplitudeErr) {
+		return nil, nil, false
+	}
+	return w0, w1, true
 }

@@ -138,6 +138,9 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 			}
 			fj, fk := freqs[j], freqs[k]
 			name := fmt.Sprintf("signal %d (%.4g d)", j+1, 1/fj)
+			if math.Abs(fk-fj) <= tol {
+				out[k] = &relation{j, fmt.Sprintf("within the frequency resolution of %s: the same signal, split by an imperfect fit", name)}
+			}
 			for _, n := range []float64{2, 3} {
 				if out[k] == nil && math.Abs(fk-n*fj) <= tol {
 					out[k] = &relation{j, fmt.Sprintf("at %g× the frequency of %s: a harmonic of an eccentric orbit, or of a signal that is not a sinusoid", n, name)}
