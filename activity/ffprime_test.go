@@ -34,9 +34,9 @@ import (
 type ffKind int
 
 const (
-	ffActivity ffKind = iota // activity only
-	ffPlanets                // one to three planets around an active star
-	ffAtRotation             // one planet exactly at P_rot or P_rot/2
+	ffActivity   ffKind = iota // activity only
+	ffPlanets                  // one to three planets around an active star
+	ffAtRotation               // one planet exactly at P_rot or P_rot/2
 )
 
 // ffSpot is one evolving spot.

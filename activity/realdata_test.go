@@ -117,7 +117,9 @@ type realStar struct {
 
 func realStars() []realStar {
 	vels := func(file string) func(*testing.T, string) *rvfit.Series {
-		return func(t *testing.T, dir string) *rvfit.Series { return readVels(t, filepath.Join(dir, "keck-hires", file)) }
+		return func(t *testing.T, dir string) *rvfit.Series {
+			return readVels(t, filepath.Join(dir, "keck-hires", file))
+		}
 	}
 	return []realStar{
 		// Published verdicts from ../shared/realdata/README.md (from memory).
