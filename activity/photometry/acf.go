@@ -161,7 +161,10 @@ func acfPeaks(r []float64) []acfPeak {
 // removed), its autocorrelation is computed up to maxLag days and smoothed
 // with a Gaussian, and the first peak whose local height is above 0.1 is
 // taken; when the peak at about twice its lag is higher, that one is the
-// period (two dips per turn, spots on opposite hemispheres). The period is
+// period (two dips per turn, spots on opposite hemispheres). "Higher" is
+// judged against the mean of the first and third peaks when there is a
+// third, so that the decay of the ACF with spot evolution does not hide
+// the double dip. The period is
 // then the slope of the lags of the peaks at about k·P against k, its
 // error the slope's standard error (or, with fewer than three peaks, the
 // half width at half height of the adopted peak).
@@ -230,13 +233,33 @@ func ACFRotation(t, y, w []float64, dt, maxLag, pMin float64) *ACF {
 		return a
 	}
 	best := peaks[first]
-	// The harmonic check: a higher peak near twice the first's lag.
+	// The harmonic check: is the peak near twice the first's lag higher
+	// than the first? Spot evolution lowers later peaks, so when there is
+	// a peak near three times the lag, the one at twice is compared with
+	// the mean of its two neighbours instead (the first and the third):
+	// for a period at the first lag the peaks decay smoothly and the one at
+	// twice the lag lies below that mean; two dips per turn raise it above.
 	lag1 := float64(best.k)
-	for _, p := range peaks[first+1:] {
-		if math.Abs(float64(p.k)-2*lag1) <= 0.2*lag1 && p.value > best.value && p.height >= acfMinHeight {
-			best = p
+	near := func(m float64) *acfPeak {
+		var pick *acfPeak
+		for i := range peaks[first+1:] {
+			p := &peaks[first+1+i]
+			if math.Abs(float64(p.k)-m*lag1) <= 0.2*lag1 && (pick == nil || p.value > pick.value) {
+				pick = p
+			}
+		}
+		return pick
+	}
+	if p2 := near(2); p2 != nil && p2.height >= acfMinHeight {
+		ref := best.value
+		if p3 := near(3); p3 != nil {
+			ref = 0.5 * (best.value + p3.value)
+		}
+		// By more than half the detection height, so that noise on a
+		// smoothly decaying ACF does not double the period.
+		if p2.value > ref+acfMinHeight/2 {
+			best = *p2
 			a.Harmonic = true
-			break
 		}
 	}
 	a.Height = best.height

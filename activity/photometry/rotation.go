@@ -57,7 +57,8 @@ type Rotation struct {
 }
 
 // RotationOptions controls EstimateRotation. The zero value (or nil)
-// searches 0.5 d to half the baseline.
+// searches from 0.5 d (or four times the median cadence) to half the
+// baseline.
 type RotationOptions struct {
 	// PMin and PMax bound the periods searched, in days. Zero: 0.5 d and
 	// half the baseline.
@@ -89,7 +90,9 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 	n := lc.Len()
 	T := lc.Time[n-1] - lc.Time[0]
 	if o.PMin == 0 {
-		o.PMin = 0.5
+		// Four samples per period at least, else the periodogram's aliases
+		// above the Nyquist frequency of a regular cadence win.
+		o.PMin = math.Max(0.5, 4*medianStep(lc.Time))
 	}
 	if o.PMax == 0 {
 		o.PMax = T / 2
@@ -138,8 +141,10 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 	rot.Estimates = append(rot.Estimates, est)
 
 	// ACF on a uniform grid: a twentieth of the shortest period, no finer
-	// than the median cadence, at most 2¹⁸ cells.
-	dt := math.Max(o.PMin/20, medianStep(lc.Time))
+	// than twice the median cadence (cells as fine as the cadence beat
+	// with it and leave empty cells at a regular spacing, which the ACF
+	// takes for a period), at most 2¹⁸ cells.
+	dt := math.Max(o.PMin/20, 2*medianStep(lc.Time))
 	dt = math.Max(dt, T/(1<<18))
 	acf := ACFRotation(lc.Time, y, w, dt, math.Min(T/2, 2*o.PMax), o.PMin)
 	rot.ACF = acf

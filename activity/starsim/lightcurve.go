@@ -72,7 +72,8 @@ type LightCurve struct {
 	// Time in days; Flux the measured relative flux (the quiet star is 1)
 	// and Err its uncertainty; TrueFlux the noise-free flux.
 	Time, Flux, Err, TrueFlux []float64
-	// Sector labels each point by its sector ("s1", "s2", …).
+	// Sector labels each point by its observing season ("season1", …),
+	// each of which may carry its own offset.
 	Sector []string
 }
 
@@ -114,7 +115,9 @@ func (r *Result) LightCurve(plan *Photometry) (*LightCurve, error) {
 			continue
 		}
 		lc.Time = append(lc.Time, t)
-		lc.Sector = append(lc.Sector, fmt.Sprintf("s%d", int((t-p.Start)/(p.SectorLength+p.SectorGap))+1))
+		// One label (one offset) per observing season: the gaps between
+		// pointings keep the calibration, a new season may not.
+		lc.Sector = append(lc.Sector, fmt.Sprintf("season%d", int((t-s.sc.Observing.Start)/365.25)+1))
 	}
 	if len(lc.Time) == 0 {
 		return nil, fmt.Errorf("starsim: photometry plan leaves no points between %g and %g", p.Start, p.End)
