@@ -117,4 +117,3 @@ func TestRotationRecovery(t *testing.T) {
 		t.Errorf("recovered within 10%% in %.0f%% of the stars, want ≥ %.0f%%", 100*frac, 100*want)
 	}
 }
-
