@@ -1259,6 +1259,11 @@ func reportFigures(r *Report) ([]*figure, []corrPanel, error) {
 	if fc != nil {
 		figs = append(figs, fc)
 	}
+	if r.LightCurve != nil {
+		if f := figPhotometry(r.LightCurve, dg); f != nil {
+			figs = append(figs, f)
+		}
+	}
 	if dg.details != nil {
 		for _, f := range []*figure{figFolded(s, dg, z), figGP(s, dg, z), figCoherence(s, dg)} {
 			if f != nil {

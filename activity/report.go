@@ -15,6 +15,7 @@ import (
 	"codeberg.org/go-fonts/liberation/liberationsansregular"
 	"codeberg.org/go-pdf/fpdf"
 
+	"spotsift/activity/photometry"
 	"spotsift/rvfit"
 )
 
@@ -25,6 +26,8 @@ type Report struct {
 	Series    *rvfit.Series
 	// Star is the star file's content, nil when none was given.
 	Star *Star
+	// LightCurve is the star's photometry, nil when none was given.
+	LightCurve *photometry.LightCurve
 }
 
 // Report file names inside a star's output folder.

@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"spotsift/activity"
+	"spotsift/activity/photometry"
 	"spotsift/rvfit"
 )
 
@@ -340,6 +341,7 @@ type outcome struct {
 	diag   *activity.Diagnosis
 	series *rvfit.Series
 	star   *activity.Star
+	lc     *photometry.LightCurve
 	notes  []string
 	err    error
 }
@@ -497,7 +499,7 @@ func produce(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options
 	if err := ctx.Err(); err != nil {
 		return outcome{err: err}
 	}
-	if err := activity.WriteReport(dir, &activity.Report{Diagnosis: out.diag, Series: out.series, Star: out.star}); err != nil {
+	if err := activity.WriteReport(dir, &activity.Report{Diagnosis: out.diag, Series: out.series, Star: out.star, LightCurve: out.lc}); err != nil {
 		return outcome{err: fmt.Errorf("writing the report: %w", err)}
 	}
 	return out
@@ -535,7 +537,7 @@ func analyse(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options
 	}
 	dg.Star = e.Name
 	dg.Provenance = starProvenance(m, e, o, seed, inputs)
-	return outcome{diag: dg, series: s, star: star, notes: notes}
+	return outcome{diag: dg, series: s, star: star, lc: do.LightCurve, notes: notes}
 }
 
 // starProvenance records how a survey star was analysed: the survey's

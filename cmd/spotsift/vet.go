@@ -80,7 +80,7 @@ replace, the team's scientific judgement.`)
 	}
 	dg.Provenance = provenance(c, append(append([]string{c.data}, nonEmpty(c.star)...), nonEmpty(phot.file)...), append([]string{"vet"}, args...))
 	if *out != "" {
-		if err := activity.WriteReport(*out, &activity.Report{Diagnosis: dg, Series: s, Star: star}); err != nil {
+		if err := activity.WriteReport(*out, &activity.Report{Diagnosis: dg, Series: s, Star: star, LightCurve: lc}); err != nil {
 			return fail(e, exitFailed, err)
 		}
 	}

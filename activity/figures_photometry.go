@@ -1,0 +1,110 @@
+package activity
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+
+	"spotsift/activity/photometry"
+)
+
+// lcFigureBins is the most points of the light curve drawn (binned in
+// time beyond it), to keep the figure light.
+const lcFigureBins = 2000
+
+// figPhotometry draws the light curve, its GLS periodogram and its
+// autocorrelation function, with the rotation period the light curve gives
+// (solid) and the one the diagnosis adopted (dashed) marked. Nil when the
+// light curve cannot be analysed.
+func figPhotometry(lc *photometry.LightCurve, dg *Diagnosis) *figure {
+	rot, err := photometry.EstimateRotation(lc, &photometry.RotationOptions{SkipGP: true})
+	if err != nil {
+		return nil
+	}
+	lcP := math.NaN()
+	for _, e := range dg.Rotation.Estimates {
+		if strings.HasPrefix(e.Method, lightCurveMethod) {
+			lcP = e.Period
+		}
+	}
+	adopted := float64(dg.Rotation.Period)
+
+	// The light curve, binned.
+	t0 := timeOrigin(lc.Time)
+	n := lc.Len()
+	span := lc.Time[n-1] - lc.Time[0]
+	var x, y []float64
+	if n <= lcFigureBins {
+		for i := range lc.Time {
+			x, y = append(x, lc.Time[i]-t0), append(y, lc.Flux[i])
+		}
+	} else {
+		w := span / lcFigureBins
+		var st, sf, cnt float64
+		k := 0
+		flush := func() {
+			if cnt > 0 {
+				x, y = append(x, st/cnt-t0), append(y, sf/cnt)
+			}
+			st, sf, cnt = 0, 0, 0
+		}
+		for i, t := range lc.Time {
+			if kk := int((t - lc.Time[0]) / w); kk != k {
+				flush()
+				k = kk
+			}
+			st += t
+			sf += lc.Flux[i]
+			cnt++
+		}
+		flush()
+	}
+	pl := newPlot("", fmt.Sprintf("BJD_TDB - %.0f (d)", t0), "relative flux")
+	scatterErr(pl, x, y, nil, 0, "")
+
+	// GLS periodogram against period.
+	pp := newPlot("", "period (d)", "GLS power")
+	if pg := rot.Periodogram; pg != nil {
+		pts := make(plotter.XYs, 0, pg.Grid.N)
+		for k := pg.Grid.N - 1; k >= 0; k-- {
+			pts = append(pts, plotter.XY{X: 1 / pg.Grid.Freq(k), Y: pg.Power[k]})
+		}
+		line(pp, pts, inkDark, 0.7, nil, "")
+		periodAxis(pp, 1/pg.Grid.FMax(), 1/pg.Grid.FMin)
+		mark(pp, lcP, adopted, 0, 1, 1/pg.Grid.FMax(), 1/pg.Grid.FMin)
+	}
+
+	// ACF.
+	pa := newPlot("", "lag (d)", "autocorrelation")
+	if a := rot.ACF; a != nil && len(a.Lag) > 1 {
+		line(pa, xys(a.Lag, a.Value), inkDark, 0.7, nil, "")
+		for _, l := range a.Peaks {
+			vline(pa, l, -1, 1, inkGrey, dotted)
+		}
+		mark(pa, lcP, adopted, -1, 1, 0, a.Lag[len(a.Lag)-1])
+	}
+	caption := "The light curve (binned in time when long), its GLS periodogram and its autocorrelation function (McQuillan, Aigrain & Mazeh 2013; dotted: the peaks used)."
+	switch {
+	case isFinite(lcP):
+		caption += fmt.Sprintf(" Solid: the light curve's rotation period, %.3g d; dashed: the period the diagnosis adopted.", lcP)
+	default:
+		caption += " " + rot.Reason + "."
+	}
+	return &figure{name: "photometry", title: "Light curve and its rotation period", caption: caption,
+		plots: [][]*plot.Plot{{pl}, {pp}, {pa}}, w: 17 * vg.Centimeter, h: 15 * vg.Centimeter}
+}
+
+// mark draws the light curve's period and the adopted period as vertical
+// lines, when they fall within [xmin, xmax].
+func mark(p *plot.Plot, lcP, adopted, lo, hi, xmin, xmax float64) {
+	if lcP >= xmin && lcP <= xmax {
+		vline(p, lcP, lo, hi, inkTeal, nil)
+	}
+	if adopted >= xmin && adopted <= xmax {
+		vline(p, adopted, lo, hi, inkOchre, dashed)
+	}
+}
