@@ -2,6 +2,7 @@ package activity
 
 import (
 	"fmt"
+	"image/color"
 	"math"
 	"strings"
 
@@ -63,8 +64,8 @@ func figPhotometry(lc *photometry.LightCurve, dg *Diagnosis) *figure {
 		}
 		flush()
 	}
-	pl := newPlot("", fmt.Sprintf("BJD_TDB - %.0f (d)", t0), "relative flux")
-	scatterErr(pl, x, y, nil, 0, "")
+	pl := newPlot("", timeLabel(t0), "relative flux")
+	scatterErr(pl, x, y, nil, instStyle(0))
 
 	// GLS periodogram against period.
 	pp := newPlot("", "period (d)", "GLS power")
@@ -73,7 +74,7 @@ func figPhotometry(lc *photometry.LightCurve, dg *Diagnosis) *figure {
 		for k := pg.Grid.N - 1; k >= 0; k-- {
 			pts = append(pts, plotter.XY{X: 1 / pg.Grid.Freq(k), Y: pg.Power[k]})
 		}
-		line(pp, pts, inkDark, 0.7, nil, "")
+		line(pp, pts, inkCurve, 0.7, nil)
 		periodAxis(pp, 1/pg.Grid.FMax(), 1/pg.Grid.FMin)
 		mark(pp, lcP, adopted, 0, 1, 1/pg.Grid.FMax(), 1/pg.Grid.FMin)
 	}
@@ -81,30 +82,42 @@ func figPhotometry(lc *photometry.LightCurve, dg *Diagnosis) *figure {
 	// ACF.
 	pa := newPlot("", "lag (d)", "autocorrelation")
 	if a := rot.ACF; a != nil && len(a.Lag) > 1 {
-		line(pa, xys(a.Lag, a.Value), inkDark, 0.7, nil, "")
+		line(pa, xys(a.Lag, a.Value), inkCurve, 0.7, nil)
 		for _, l := range a.Peaks {
-			vline(pa, l, -1, 1, inkGrey, dotted)
+			photVline(pa, l, -1, 1, inkAlias, dotted)
 		}
 		mark(pa, lcP, adopted, -1, 1, 0, a.Lag[len(a.Lag)-1])
 	}
-	caption := "The light curve (binned in time when long), its GLS periodogram and its autocorrelation function (McQuillan, Aigrain & Mazeh 2013; dotted: the peaks used)."
+	caption := "The light curve (binned in time when long), its GLS periodogram and its autocorrelation function (McQuillan, Aigrain & Mazeh 2013; dotted grey: the peaks used)."
 	switch {
 	case isFinite(lcP):
-		caption += fmt.Sprintf(" Solid: the light curve's rotation period, %.3g d; dashed: the period the diagnosis adopted.", lcP)
+		caption += fmt.Sprintf(" Solid teal: the light curve's rotation period, %.3g d; dashed ochre: the period the diagnosis adopted.", lcP)
 	default:
 		caption += " " + rot.Reason + "."
 	}
+	for _, p := range []*plot.Plot{pl, pp, pa} {
+		safeAxes(p)
+	}
+	key := []keyItem{
+		{label: "rotation period from the light curve", thumb: lineThumb(inkModel, 0.8, nil)},
+		{label: "rotation period adopted", thumb: lineThumb(inkRot, 0.8, dashed)},
+	}
 	return &figure{name: "photometry", title: "Light curve and its rotation period", caption: caption,
-		plots: [][]*plot.Plot{{pl}, {pp}, {pa}}, w: 17 * vg.Centimeter, h: 15 * vg.Centimeter}
+		plots: [][]*plot.Plot{{pl}, {pp}, {pa}}, key: key, w: 17 * vg.Centimeter, h: 15 * vg.Centimeter}
+}
+
+// photVline adds a vertical line at x spanning [lo, hi].
+func photVline(p *plot.Plot, x, lo, hi float64, ink color.Color, dashes []vg.Length) {
+	line(p, plotter.XYs{{X: x, Y: lo}, {X: x, Y: hi}}, ink, 0.8, dashes)
 }
 
 // mark draws the light curve's period and the adopted period as vertical
 // lines, when they fall within [xmin, xmax].
 func mark(p *plot.Plot, lcP, adopted, lo, hi, xmin, xmax float64) {
 	if lcP >= xmin && lcP <= xmax {
-		vline(p, lcP, lo, hi, inkTeal, nil)
+		photVline(p, lcP, lo, hi, inkModel, nil)
 	}
 	if adopted >= xmin && adopted <= xmax {
-		vline(p, adopted, lo, hi, inkOchre, dashed)
+		photVline(p, adopted, lo, hi, inkRot, dashed)
 	}
 }
