@@ -1,12 +1,14 @@
 package rvfit
 
 import (
+	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"sync"
+	"strconv"
 
-	"gonum.org/v1/gonum/mat"
+	"spotsift/mapfit"
 )
 
 // FitOptions controls FitModel. The zero value (or nil) gives the
@@ -41,20 +43,34 @@ type FitOptions struct {
 
 // FitResult is the outcome of FitModel: the maximum a posteriori (MAP)
 // parameters with Laplace-approximation uncertainties, residuals and model
-// comparison statistics.
+// comparison statistics. Unknown numbers are NaN (null in JSON).
 type FitResult struct {
 	// ParamNames names the elements of Params, Errors and Covariance.
 	ParamNames []string `json:"param_names"`
 	// Params is the MAP parameter vector θ̂ (see Model for the layout).
 	Params []float64 `json:"params"`
-	// Errors holds the one-sigma uncertainties sqrt(diag Σ), Σ the inverse
-	// of the Hessian H = −∇∇ ln[L π] at θ̂ (central finite differences);
-	// all zero when H is not positive definite (then HessianOK is false),
-	// and zero for a parameter whose MAP sits on a prior bound (such as a
-	// jitter of zero), which is held fixed.
+	// Errors holds the one-sigma uncertainties sqrt(diag Σ) of the Laplace
+	// approximation (mapfit.Laplace: the Hessian in the fit's transformed
+	// coordinates, mapped back); NaN for a parameter the curvature does
+	// not constrain. A parameter whose MAP sits on a prior bound is flagged
+	// in AtBound and keeps the error of its transformed coordinate.
 	Errors     []float64   `json:"errors"`
 	Covariance [][]float64 `json:"covariance,omitempty"`
-	HessianOK  bool        `json:"hessian_ok"`
+	// HessianOK reports whether the Hessian was positive definite (else the
+	// covariance is taken on the subspace of positive curvature and
+	// LogEvidence is NaN).
+	HessianOK bool `json:"hessian_ok"`
+	// AtBound is "lower bound" or "upper bound" for a parameter whose MAP
+	// lies on a bound of its prior (a zero jitter, e at its maximum), ""
+	// otherwise.
+	AtBound []string `json:"at_bound"`
+	// Converged, Status and StartsAgree report the optimiser: whether the
+	// winning start met a convergence criterion, gonum/optimize's status,
+	// and how many starts reached the best optimum (within 0.5 in ln
+	// posterior) out of len(StartLogPosteriors).
+	Converged   bool   `json:"converged"`
+	Status      string `json:"status"`
+	StartsAgree int    `json:"starts_agree"`
 	// Planets holds the orbits in physical parameters.
 	Planets []PlanetFit `json:"planets"`
 	// Instruments, Offsets (m/s), Trend (m/s/d, m/s/d² about
@@ -70,26 +86,66 @@ type FitResult struct {
 	// BIC = k ln N − 2 ln L(θ̂) (Schwarz 1978, Ann. Stat. 6, 461, from
 	// memory), with the MAP standing in for the maximum likelihood.
 	BIC float64 `json:"bic"`
-	// LogEvidence is the Laplace estimate
-	// ln Z ≈ ln L(θ̂) + ln π(θ̂) + (d/2) ln 2π − ½ ln det H (docs/methods.md §9,
-	// common practice); 0 when HessianOK is false.
+	// LogEvidence is the Laplace estimate of ln Z (mapfit.Laplace, common
+	// practice); NaN when HessianOK is false.
 	LogEvidence float64 `json:"log_evidence_laplace"`
-	// Time, Residuals (observed − Keplerians − offsets, m/s; a GP noise
-	// model's prediction is not subtracted) and RVErr per epoch;
-	// ResidualRMS is their unweighted rms.
-	Time        []float64 `json:"time"`
-	Residuals   []float64 `json:"residuals"`
-	RVErr       []float64 `json:"rv_err"`
-	ResidualRMS float64   `json:"residual_rms"`
+	// Time, Residuals and RVErr per epoch. Residuals are observed − the
+	// full model: Keplerians, offsets, trend and, for a noise model that
+	// predicts (NoisePredictor, e.g. a GP), its conditional mean, which is
+	// given in NoisePrediction (nil otherwise). ResidualRMS is their
+	// unweighted rms.
+	Time            []float64 `json:"time"`
+	Residuals       []float64 `json:"residuals"`
+	NoisePrediction []float64 `json:"noise_prediction,omitempty"`
+	RVErr           []float64 `json:"rv_err"`
+	ResidualRMS     float64   `json:"residual_rms"`
 	// NObs is the number of epochs, Evaluations the number of
 	// log-posterior evaluations over all starts, BestStart the start that
-	// won and StartLogPosteriors the optimum reached by each start.
+	// won and StartLogPosteriors the optimum reached by each start (null
+	// for a start that found no finite posterior).
 	NObs               int       `json:"n_obs"`
 	Evaluations        int       `json:"evaluations"`
 	BestStart          int       `json:"best_start"`
 	StartLogPosteriors []float64 `json:"start_log_posteriors"`
 
 	model *Model
+}
+
+// MarshalJSON writes the result with NaN and infinite numbers as null.
+func (r *FitResult) MarshalJSON() ([]byte, error) {
+	type plain FitResult
+	cov := make([][]jsonNum, len(r.Covariance))
+	for i, row := range r.Covariance {
+		cov[i] = jsonNums(row)
+	}
+	return json.Marshal(struct {
+		*plain
+		Errors             []jsonNum   `json:"errors"`
+		Covariance         [][]jsonNum `json:"covariance,omitempty"`
+		LogEvidence        jsonNum     `json:"log_evidence_laplace"`
+		StartLogPosteriors []jsonNum   `json:"start_log_posteriors"`
+	}{(*plain)(r), jsonNums(r.Errors), cov, jsonNum(r.LogEvidence), jsonNums(r.StartLogPosteriors)})
+}
+
+// jsonNum is a float64 written as null when NaN or infinite.
+type jsonNum float64
+
+func (x jsonNum) MarshalJSON() ([]byte, error) {
+	if math.IsNaN(float64(x)) || math.IsInf(float64(x), 0) {
+		return []byte("null"), nil
+	}
+	return json.Marshal(float64(x))
+}
+
+func jsonNums(v []float64) []jsonNum {
+	if v == nil {
+		return nil
+	}
+	out := make([]jsonNum, len(v))
+	for i, x := range v {
+		out[i] = jsonNum(x)
+	}
+	return out
 }
 
 // Model returns the model that was fitted.
@@ -99,7 +155,7 @@ func (r *FitResult) Model() *Model { return r.model }
 type PlanetFit struct {
 	Keplerian
 	// Tc is the time of inferior conjunction (BJD_TDB d).
-	Tc float64 `json:"tc"`
+	Tc float64 `json:"t_conj"`
 	// OmegaDeg is ω in degrees.
 	OmegaDeg float64 `json:"omega_deg"`
 	// MinMass is m sin i in Jupiter masses and SemiMajorAxis a in au; both
@@ -110,11 +166,12 @@ type PlanetFit struct {
 
 // FitModel fits nPlanets Keplerians plus per-instrument offsets and the
 // noise model (nil means WhiteNoise) to s by maximum a posteriori, from
-// several starts seeded by iterative prewhitening of GLS periodograms:
-// each start runs Nelder–Mead and then BFGS with central-difference
-// gradients in coordinates scaled to each parameter's
-// natural step, and the best optimum wins. It is the library side of
-// "spotsift model".
+// several starts seeded by iterative prewhitening of GLS periodograms,
+// through mapfit: each start runs gonum's Nelder–Mead and then BFGS in
+// transformed coordinates (see Model.space), the best optimum wins, the
+// starts' agreement and the optimiser's status are reported, and the
+// Laplace approximation gives the errors and evidence. It is the library
+// side of "spotsift model".
 //
 // Errors: NewModel's errors (ErrTooManyParams when the data cannot support
 // the model), the grid's errors, ErrBadOption for inconsistent options,
@@ -144,50 +201,29 @@ func FitModel(s *Series, nPlanets int, noise NoiseModel, opts *FitOptions) (*Fit
 	if o.MaxEvaluations == 0 {
 		o.MaxEvaluations = 4000 * m.NumParams()
 	}
-	type outcome struct {
-		x     []float64
-		f     float64
-		evals int
+	starts := make([][]float64, o.Starts)
+	for st := range starts {
+		rng := rand.New(rand.NewPCG(o.Seed, uint64(st)))
+		starts[st] = m.startVector(s, cands, st, rng)
 	}
-	res := make([]outcome, o.Starts)
-	var wg sync.WaitGroup
-	jobs := make(chan int)
-	for w := 0; w < min(workers(o.Workers), o.Starts); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for st := range jobs {
-				rng := rand.New(rand.NewPCG(o.Seed, uint64(st)))
-				x0 := m.startVector(s, cands, st, rng)
-				x, f, n := m.optimize(x0, o.MaxEvaluations)
-				res[st] = outcome{x, f, n}
-			}
-		}()
-	}
-	for st := 0; st < o.Starts; st++ {
-		jobs <- st
-	}
-	close(jobs)
-	wg.Wait()
-	best := -1
-	out := &FitResult{ParamNames: m.ParamNames(), model: m, Instruments: m.Instruments(), NObs: len(m.t)}
-	for st, r := range res {
-		out.Evaluations += r.evals
-		out.StartLogPosteriors = append(out.StartLogPosteriors, r.f)
-		if !math.IsInf(r.f, -1) && (best < 0 || r.f > res[best].f) {
-			best = st
+	prob := &mapfit.Problem{Space: m.space(m.scales(starts[0])), LogPost: m.wrappedLogPosterior, Starts: starts}
+	fit, err := mapfit.Fit(prob, &mapfit.Settings{MaxEvaluations: o.MaxEvaluations, NelderMead: true, Workers: workers(o.Workers)})
+	if err != nil {
+		if errors.Is(err, mapfit.ErrNoStart) {
+			return nil, fmt.Errorf("%s: %w: no start reached a finite posterior", s.Name, ErrNoConvergence)
 		}
+		return nil, fmt.Errorf("%s: %w", s.Name, err)
 	}
-	if best < 0 {
-		return nil, fmt.Errorf("%s: %w: no start reached a finite posterior", s.Name, ErrNoConvergence)
+	out := &FitResult{ParamNames: m.ParamNames(), model: m, Instruments: m.Instruments(), NObs: len(m.t),
+		Evaluations: fit.Evaluations, BestStart: fit.Best, Converged: fit.Converged, Status: fit.Status, StartsAgree: fit.Agree}
+	for _, st := range fit.Starts {
+		out.StartLogPosteriors = append(out.StartLogPosteriors, st.LogPost)
 	}
-	for i, v := range out.StartLogPosteriors {
-		if math.IsInf(v, -1) {
-			out.StartLogPosteriors[i] = -math.MaxFloat64
-		}
+	out.AtBound = make([]string, len(fit.AtBound))
+	for i, b := range fit.AtBound {
+		out.AtBound[i] = string(b)
 	}
-	out.BestStart = best
-	m.finish(out, res[best].x, o.StarMass)
+	m.finish(out, m.wrap(fit.X), o.StarMass, fit.Laplace)
 	return out, nil
 }
 
@@ -311,8 +347,22 @@ func (m *Model) startVector(s *Series, cands [][]seedPeak, st int, rng *rand.Ran
 		}
 		exc = math.Sqrt(math.Max(0, (v-vm)/float64(len(r))))
 	}
+	var own []float64
+	if ns, ok := m.noise.(NoiseStarter); ok {
+		own = ns.NoiseStart(st, rng)
+	}
 	for i := nb; i < len(x); i++ {
 		pr := m.priors[i]
+		if len(own) == len(x)-nb {
+			x[i] = own[i-nb]
+			if lo, hi := pr.Support(); !(x[i] > lo && x[i] < hi) {
+				x[i] = 0.5 * (lo + hi)
+				if math.IsInf(lo, 0) || math.IsInf(hi, 0) {
+					x[i] = pr.Rand(rng)
+				}
+			}
+			continue
+		}
 		lo, hi := pr.Support()
 		switch {
 		case white:
@@ -368,57 +418,64 @@ func (m *Model) scales(theta []float64) []float64 {
 	return sc
 }
 
-// objective returns −ln posterior at θ = θ0 + sc∘x, with each free tc
-// wrapped into its one-period window (the posterior is periodic in tc).
-func (m *Model) objective(theta0, sc []float64) (func([]float64) float64, func([]float64) []float64) {
-	toTheta := func(x []float64) []float64 {
-		th := make([]float64, len(x))
-		for i := range x {
-			th[i] = theta0[i] + sc[i]*x[i]
+// wrap returns θ with each free tc wrapped into its one-period window
+// (the posterior is periodic in tc).
+func (m *Model) wrap(theta []float64) []float64 {
+	th := append([]float64(nil), theta...)
+	for p := 0; p < m.nPlanets; p++ {
+		if m.tcFree[p] && th[5*p] > 0 {
+			th[5*p+4] = m.wrapTc(th[5*p+4], th[5*p])
 		}
-		for p := 0; p < m.nPlanets; p++ {
-			if m.tcFree[p] && th[5*p] > 0 {
-				th[5*p+4] = m.wrapTc(th[5*p+4], th[5*p])
+	}
+	return th
+}
+
+// wrappedLogPosterior is LogPosterior with each free tc wrapped first.
+func (m *Model) wrappedLogPosterior(theta []float64) float64 {
+	return m.LogPosterior(m.wrap(theta))
+}
+
+// space returns the fit's transformed coordinates: the eccentricity pair
+// of each planet mapped onto the disk e < MaxEccentricity; a parameter
+// whose prior has finite bounds within 10⁴ natural steps sc of each other
+// logistic (Uniform, TruncatedGaussian, Beta) or logistic in ln x
+// (LogUniform); the rest (periods, times of conjunction, wide offsets)
+// free in units of sc, with the prior's walls.
+func (m *Model) space(sc []float64) mapfit.Space {
+	sp := make(mapfit.Space, len(m.names))
+	for i, name := range m.names {
+		sp[i] = mapfit.Param{Name: name, Kind: mapfit.Free, Scale: sc[i]}
+		if i < 5*m.nPlanets {
+			switch i % 5 {
+			case 2:
+				sp[i] = mapfit.Param{Name: name, Kind: mapfit.DiskPair, Hi: math.Sqrt(m.emax)}
+				continue
+			case 3:
+				sp[i] = mapfit.Param{Name: name}
+				continue
+			case 0, 4:
+				continue
 			}
 		}
-		return th
-	}
-	f := func(x []float64) float64 {
-		lp := m.LogPosterior(toTheta(x))
-		if math.IsInf(lp, -1) || math.IsNaN(lp) {
-			return math.Inf(1)
+		pr := m.priors[i]
+		if pr == nil {
+			continue
 		}
-		return -lp
-	}
-	return f, toTheta
-}
-
-func (m *Model) optimize(theta0 []float64, maxEval int) ([]float64, float64, int) {
-	sc := m.scales(theta0)
-	f, toTheta := m.objective(theta0, sc)
-	evals := 0
-	fc := func(x []float64) float64 { evals++; return f(x) }
-	x := make([]float64, len(theta0))
-	if math.IsInf(fc(x), 1) {
-		return theta0, math.Inf(-1), evals
-	}
-	best, bestF := x, fc(x)
-	// Nelder–Mead twice (a restart around the first optimum escapes
-	// collapsed simplices), then BFGS to polish.
-	for rep := 0; rep < 2; rep++ {
-		xb, fb, _ := nelderMead(fc, best, maxEval/3, 1e-9, 1e-4)
-		if fb < bestF {
-			best, bestF = xb, fb
+		lo, hi := pr.Support()
+		if math.IsInf(lo, 0) || math.IsInf(hi, 0) || hi-lo > 1e4*sc[i] {
+			continue
+		}
+		if _, ok := pr.(LogUniform); ok {
+			sp[i] = mapfit.Param{Name: name, Kind: mapfit.LogBounded, Lo: lo, Hi: hi}
+		} else {
+			sp[i] = mapfit.Param{Name: name, Kind: mapfit.Bounded, Lo: lo, Hi: hi}
 		}
 	}
-	if xb, fb, _ := bfgs(fc, best, maxEval/3, 1e-6); fb < bestF {
-		best, bestF = xb, fb
-	}
-	return toTheta(best), -bestF, evals
+	return sp
 }
 
-// finish fills the result at the MAP θ̂.
-func (m *Model) finish(out *FitResult, theta []float64, mstar float64) {
+// finish fills the result at the MAP θ̂ with the Laplace approximation L.
+func (m *Model) finish(out *FitResult, theta []float64, mstar float64, L *mapfit.Laplace) {
 	out.Params = append([]float64(nil), theta...)
 	out.LogPrior = m.LogPrior(theta)
 	out.LogLikelihood, _ = m.LogLikelihood(theta)
@@ -426,6 +483,15 @@ func (m *Model) finish(out *FitResult, theta []float64, mstar float64) {
 	n := float64(len(m.t))
 	out.BIC = BIC(out.LogLikelihood, len(theta), len(m.t))
 	out.Residuals = m.Residuals(theta)
+	if np, ok := m.noise.(NoisePredictor); ok {
+		pred, err := np.PredictNoise(m.t, out.Residuals, m.v, m.inst, theta[m.noiseStart():])
+		if err == nil && len(pred) == len(out.Residuals) {
+			out.NoisePrediction = pred
+			for i := range pred {
+				out.Residuals[i] -= pred[i]
+			}
+		}
+	}
 	out.Time = append([]float64(nil), m.t...)
 	out.RVErr = make([]float64, len(m.v))
 	ss := 0.0
@@ -447,112 +513,38 @@ func (m *Model) finish(out *FitResult, theta []float64, mstar float64) {
 		}
 		out.Planets = append(out.Planets, pf)
 	}
-	cov, logdetH, ok := m.laplace(theta)
-	out.HessianOK = ok
 	out.Errors = make([]float64, len(theta))
-	if ok {
-		out.Covariance = cov
-		for i := range theta {
-			out.Errors[i] = math.Sqrt(cov[i][i])
-		}
-		out.LogEvidence = out.LogPosterior + 0.5*float64(nFree(theta, m.LogPosterior, m.scales(theta)))*math.Log(2*math.Pi) - 0.5*logdetH
+	out.LogEvidence = math.NaN()
+	for i := range out.Errors {
+		out.Errors[i] = math.NaN()
 	}
-}
-
-// laplace returns Σ = H⁻¹ and ln det H for H = −∇∇ ln[Lπ] at θ, and
-// whether H is positive definite.
-func (m *Model) laplace(theta []float64) ([][]float64, float64, bool) {
-	return laplaceAt(m.LogPosterior, theta, m.scales(theta))
-}
-
-// laplaceAt returns the covariance Σ = H⁻¹ and ln det H of the Hessian
-// H = −∇∇ logp at x, by central finite differences in the coordinates
-// u = (x − x̂)/sc (step 1e-3), and whether H is positive definite.
-// Coordinates whose ±step leaves the support (a MAP on a prior bound, such
-// as a jitter of zero) are held fixed: their rows are dropped from H and
-// their variances are zero.
-func laplaceAt(logp func([]float64) float64, x, sc []float64) ([][]float64, float64, bool) {
-	d := len(x)
-	th := make([]float64, d)
-	f := func(u []float64) float64 {
-		for i := range u {
-			th[i] = x[i] + sc[i]*u[i]
-		}
-		return -logp(th)
+	if L != nil {
+		out.HessianOK = L.PositiveDefinite
+		copy(out.Errors, L.Errors)
+		out.Covariance = L.Cov
+		out.LogEvidence = L.LogEvidence
 	}
-	const h = 1e-3
-	u := make([]float64, d)
-	var free []int
-	for i := 0; i < d; i++ {
-		u[i] = h
-		fp := f(u)
-		u[i] = -h
-		fm := f(u)
-		u[i] = 0
-		if !math.IsInf(fp, 0) && !math.IsInf(fm, 0) && !math.IsNaN(fp) && !math.IsNaN(fm) {
-			free = append(free, i)
-		}
-	}
-	nf := len(free)
-	if nf == 0 {
-		return nil, 0, false
-	}
-	f0 := f(u)
-	H := mat.NewSymDense(nf, nil)
-	for a, i := range free {
-		u[i] = h
-		fp := f(u)
-		u[i] = -h
-		fm := f(u)
-		u[i] = 0
-		H.SetSym(a, a, (fp-2*f0+fm)/(h*h))
-		for b := 0; b < a; b++ {
-			j := free[b]
-			var v [4]float64
-			for k, sg := range [4][2]float64{{1, 1}, {1, -1}, {-1, 1}, {-1, -1}} {
-				u[i], u[j] = sg[0]*h, sg[1]*h
-				v[k] = f(u)
-			}
-			u[i], u[j] = 0, 0
-			H.SetSym(a, b, (v[0]-v[1]-v[2]+v[3])/(4*h*h))
-		}
-	}
-	var ch mat.Cholesky
-	if !ch.Factorize(H) {
-		return nil, 0, false
-	}
-	var inv mat.SymDense
-	if err := ch.InverseTo(&inv); err != nil {
-		return nil, 0, false
-	}
-	logdet := ch.LogDet()
-	cov := make([][]float64, d)
-	for i := range cov {
-		cov[i] = make([]float64, d)
-	}
-	for a, i := range free {
-		for b, j := range free {
-			cov[i][j] = inv.At(a, b) * sc[i] * sc[j]
-		}
-		logdet -= 2 * math.Log(sc[i])
-	}
-	return cov, logdet, true
 }
 
 // LaplaceLogEvidence returns the Laplace estimate of the log evidence
 //
 //	ln Z ≈ ln[L π](x̂) + (d/2) ln 2π − ½ ln det H,  H = −∇∇ ln[L π](x̂)
 //
-// for an unnormalised log posterior logp with its maximum at xhat, using
-// central second differences with steps sc (natural scales of each
-// coordinate). ok is false when H is not positive definite. Reference:
-// docs/methods.md §9 [common practice]; poor for multimodal posteriors.
+// for an unnormalised log posterior logp with its maximum at xhat, every
+// coordinate free in units of sc (its natural scale), through
+// mapfit.LaplaceAt. ok is false (and lnZ NaN) when H is not positive
+// definite. Reference: docs/methods.md (common practice); poor for
+// multimodal posteriors.
 func LaplaceLogEvidence(logp func([]float64) float64, xhat, sc []float64) (lnZ float64, ok bool) {
-	_, logdet, ok := laplaceAt(logp, xhat, sc)
-	if !ok {
-		return 0, false
+	sp := make(mapfit.Space, len(xhat))
+	for i := range sp {
+		sp[i] = mapfit.Param{Name: strconv.Itoa(i), Kind: mapfit.Free, Scale: sc[i]}
 	}
-	return logp(xhat) + 0.5*float64(nFree(xhat, logp, sc))*math.Log(2*math.Pi) - 0.5*logdet, true
+	L, err := mapfit.LaplaceAt(&mapfit.Problem{Space: sp, LogPost: logp}, xhat)
+	if err != nil || !L.PositiveDefinite {
+		return math.NaN(), false
+	}
+	return L.LogEvidence, true
 }
 
 // BIC returns the Bayesian information criterion k ln n − 2 ln L̂ for k
@@ -561,23 +553,6 @@ func LaplaceLogEvidence(logp func([]float64) float64, xhat, sc []float64) (lnZ f
 // (Kass & Raftery 1995, JASA 90, 773, from memory).
 func BIC(logL float64, k, n int) float64 {
 	return float64(k)*math.Log(float64(n)) - 2*logL
-}
-
-// nFree counts the coordinates laplaceAt does not hold fixed.
-func nFree(x []float64, logp func([]float64) float64, sc []float64) int {
-	th := append([]float64(nil), x...)
-	n := 0
-	for i := range x {
-		th[i] = x[i] + 1e-3*sc[i]
-		a := logp(th)
-		th[i] = x[i] - 1e-3*sc[i]
-		b := logp(th)
-		th[i] = x[i]
-		if !math.IsInf(a, 0) && !math.IsInf(b, 0) && !math.IsNaN(a) && !math.IsNaN(b) {
-			n++
-		}
-	}
-	return n
 }
 
 // ResidualSeries returns the fit's residuals as a Series (RV = residual,

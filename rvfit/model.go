@@ -11,15 +11,16 @@ import (
 // per instrument and a pluggable noise model, with a prior on every
 // parameter. The parameter vector θ is, in order,
 //
-//	for each planet n = 1..N: P<n> (d), K<n> (m/s), secosw<n>, sesinw<n>
-//	  (√e cos ω, √e sin ω), tc<n> (BJD_TDB d, time of inferior conjunction);
+//	for each planet n = 1..N: P<n> (d), K<n> (m/s), sqe_cos<n>, sqe_sin<n>
+//	  (√e cos ω, √e sin ω), tconj<n> (BJD_TDB d, time of inferior
+//	  conjunction);
 //	offset_<instrument> (m/s) for each instrument;
 //	with ModelOptions.Trend ≥ 1, trend1 (m/s/d) and with 2 also trend2
 //	(m/s/d²), a polynomial in t − t_ref (t_ref the middle of the data,
 //	Model.RefTime);
 //	the noise model's parameters (for WhiteNoise: jitter_<instrument>).
 //
-// The eccentricity prior applies to e = secosw² + sesinw²; with uniform ω
+// The eccentricity prior applies to e = sqe_cos² + sqe_sin²; with uniform ω
 // the map (e, ω) → (√e cos ω, √e sin ω) has a constant Jacobian, so no
 // correction term is needed. Orbits with e ≥ MaxEccentricity get zero
 // probability. A Model is safe for concurrent use.
@@ -44,7 +45,7 @@ type Model struct {
 type ModelOptions struct {
 	// Priors overrides default priors by parameter name (see Model).
 	// Defaults: P log-uniform on [PMin, PMax]; K uniform on
-	// [0, 3·(max−min of RV)]; secosw, sesinw uniform on [−1, 1]; tc
+	// [0, 3·(max−min of RV)]; sqe_cos, sqe_sin uniform on [−1, 1]; tconj
 	// uniform over one period centred on the middle of the data; offsets
 	// uniform over the RV range widened by its width on each side; noise
 	// parameters from the noise model's DefaultPriors (required
@@ -135,7 +136,7 @@ func NewModel(s *Series, nPlanets int, noise NoiseModel, opts *ModelOptions) (*M
 	}
 	for p := 1; p <= nPlanets; p++ {
 		k := strconv.Itoa(p)
-		m.names = append(m.names, "P"+k, "K"+k, "secosw"+k, "sesinw"+k, "tc"+k)
+		m.names = append(m.names, "P"+k, "K"+k, "sqe_cos"+k, "sqe_sin"+k, "tconj"+k)
 		m.priors = append(m.priors, LogUniform{pmin, pmax}, Uniform{0, 3 * span}, Uniform{-1, 1}, Uniform{-1, 1}, nil)
 		m.tcFree = append(m.tcFree, true)
 	}

@@ -3,6 +3,7 @@ package rvfit
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 )
 
 // NoiseModel is the likelihood of RV residuals under some noise process.
@@ -30,6 +31,23 @@ type NoiseModel interface {
 // baseline in days). Model uses them where the caller gave none.
 type NoisePriorer interface {
 	DefaultPriors(scale, baseline float64) []Prior
+}
+
+// NoisePredictor is implemented by noise models with a correlated part
+// (a Gaussian process): PredictNoise returns its conditional mean at the
+// data epochs given the residuals (same arguments as LogLikelihood).
+// FitModel subtracts it, so the reported residuals are those of the full
+// model.
+type NoisePredictor interface {
+	PredictNoise(t, resid, variance []float64, inst []int, params []float64) ([]float64, error)
+}
+
+// NoiseStarter is implemented by noise models that propose their own
+// starting parameters for start st (for example a GP period from the
+// periodograms of the RVs and indicators); nil means FitModel's default
+// (the prior's centre).
+type NoiseStarter interface {
+	NoiseStart(st int, rng *rand.Rand) []float64
 }
 
 // WhiteNoise is uncorrelated Gaussian noise with one extra jitter term per

@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 )
 
@@ -70,13 +71,20 @@ func (r *ScanResult) WritePeaks(w io.Writer) error {
 }
 
 // WriteParams writes the MAP parameters of r as an aligned text table
-// (name, value, Laplace one-sigma error), followed by each planet's
-// physical parameters and the fit statistics.
+// (name, value rounded to its error, Laplace one-sigma error or "—" when
+// unknown, a note for a parameter at a prior bound), followed by each
+// planet's physical parameters, the fit statistics and the optimiser's
+// status and agreement of starts.
 func (r *FitResult) WriteParams(w io.Writer) error {
 	bw := bufio.NewWriter(w)
-	fmt.Fprintf(bw, "%-20s %22s %14s\n", "parameter", "map", "error")
+	fmt.Fprintf(bw, "%-20s %20s %12s  %s\n", "parameter", "map", "error", "note")
 	for i, n := range r.ParamNames {
-		fmt.Fprintf(bw, "%-20s %22.12g %14.6g\n", n, r.Params[i], r.Errors[i])
+		v, e := RoundToError(r.Params[i], r.Errors[i])
+		note := ""
+		if i < len(r.AtBound) && r.AtBound[i] != "" {
+			note = "at " + r.AtBound[i] + " of its prior"
+		}
+		fmt.Fprintf(bw, "%-20s %20s %12s  %s\n", n, v, e, note)
 	}
 	for i, p := range r.Planets {
 		fmt.Fprintf(bw, "planet %d: P %.8g d, K %.6g m/s, e %.4f, omega %.3f deg, Tp %.6f, Tc %.6f", i+1, p.P, p.K, p.E, p.OmegaDeg, p.Tp, p.Tc)
@@ -85,12 +93,45 @@ func (r *FitResult) WriteParams(w io.Writer) error {
 		}
 		fmt.Fprintln(bw)
 	}
-	fmt.Fprintf(bw, "ln L %.6f, ln prior %.6f, BIC %.4f, ln Z (Laplace) %.4f, residual rms %.4g m/s, %d epochs\n",
-		r.LogLikelihood, r.LogPrior, r.BIC, r.LogEvidence, r.ResidualRMS, r.NObs)
+	lnz := "—"
+	if !math.IsNaN(r.LogEvidence) {
+		lnz = fmt.Sprintf("%.4f", r.LogEvidence)
+	}
+	fmt.Fprintf(bw, "ln L %.6f, ln prior %.6f, BIC %.4f, ln Z (Laplace) %s, residual rms %.4g m/s (after the full model), %d epochs\n",
+		r.LogLikelihood, r.LogPrior, r.BIC, lnz, r.ResidualRMS, r.NObs)
+	conv := "converged"
+	if !r.Converged {
+		conv = "NOT converged"
+	}
+	fmt.Fprintf(bw, "optimiser: %s (%s); %d of %d starts reached the best optimum\n", conv, r.Status, r.StartsAgree, len(r.StartLogPosteriors))
 	if !r.HessianOK {
-		fmt.Fprintln(bw, "warning: Hessian not positive definite; errors and evidence not available")
+		fmt.Fprintln(bw, "warning: the Hessian is not positive definite; errors shown as — are unknown and the evidence is not available")
+	}
+	for i, b := range r.AtBound {
+		if b != "" {
+			fmt.Fprintf(bw, "warning: %s sits at the %s of its prior\n", r.ParamNames[i], b)
+		}
 	}
 	return bw.Flush()
+}
+
+// RoundToError formats v and its one-sigma error e rounded alike: e to
+// two significant figures and v to the same decimal place (common
+// practice); an unknown error (NaN, infinite or not positive) gives v to
+// six significant figures and "—".
+func RoundToError(v, e float64) (string, string) {
+	if math.IsNaN(v) {
+		return "—", "—"
+	}
+	if !(e > 0) || math.IsInf(e, 0) {
+		return strconv.FormatFloat(v, 'g', 6, 64), "—"
+	}
+	dec := 1 - int(math.Floor(math.Log10(e)))
+	if dec < 0 {
+		scale := math.Pow(10, float64(-dec))
+		return strconv.FormatFloat(math.Round(v/scale)*scale, 'f', 0, 64), strconv.FormatFloat(math.Round(e/scale)*scale, 'f', 0, 64)
+	}
+	return strconv.FormatFloat(v, 'f', dec, 64), strconv.FormatFloat(e, 'f', dec, 64)
 }
 
 // WriteResiduals writes the residuals of r as CSV with columns time

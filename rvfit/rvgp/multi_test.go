@@ -53,21 +53,22 @@ func TestMultiNoiseFindsPlanet(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got, want := noise.NumParams(), 8+1+2; got != want {
+	if got, want := noise.NumParams(), 9+1+2; got != want {
 		t.Fatalf("NumParams = %d, want %d", got, want)
 	}
 	pri := map[string]rvfit.Prior{
-		"gp_lambda_e":    rvfit.LogUniform{Min: 5, Max: 500},
-		"gp_period":      rvfit.Uniform{Min: 12, Max: 25},
-		"gp_lambda_p":    rvfit.LogUniform{Min: 0.1, Max: 5},
-		"gp_vc":          rvfit.Uniform{Min: 0, Max: 20},
-		"gp_vr":          rvfit.Uniform{Min: -100, Max: 100},
-		"gp_lc":          rvfit.Uniform{Min: -0.2, Max: 0.2},
-		"gp_bc":          rvfit.Uniform{Min: -20, Max: 20},
-		"gp_br":          rvfit.Uniform{Min: -100, Max: 100},
-		"jitter_default": rvfit.Uniform{Min: 0, Max: 5},
-		"jitter_log_rhk": rvfit.Uniform{Min: 0, Max: 0.05},
-		"jitter_bis":     rvfit.Uniform{Min: 0, Max: 5},
+		"gp_prot":          rvfit.Uniform{Min: 12, Max: 25},
+		"gp_qual":          rvfit.LogUniform{Min: 0.05, Max: 30},
+		"gp_qgap":          rvfit.LogUniform{Min: 0.01, Max: 30},
+		"gp_mix":           rvfit.Uniform{Min: 0, Max: 1},
+		"gp_rv_level":      rvfit.Uniform{Min: 0, Max: 20},
+		"gp_rv_slope":      rvfit.Uniform{Min: -100, Max: 100},
+		"gp_log_rhk_level": rvfit.Uniform{Min: -0.2, Max: 0.2},
+		"gp_bis_level":     rvfit.Uniform{Min: -20, Max: 20},
+		"gp_bis_slope":     rvfit.Uniform{Min: -100, Max: 100},
+		"jitter_default":   rvfit.Uniform{Min: 0, Max: 5},
+		"jitter_log_rhk":   rvfit.Uniform{Min: 0, Max: 0.05},
+		"jitter_bis":       rvfit.Uniform{Min: 0, Max: 5},
 	}
 	fit, err := rvfit.FitModel(s, 1, noise, &rvfit.FitOptions{Starts: 2, Seed: 1, Periods: []float64{5.3}, Model: &rvfit.ModelOptions{Priors: pri, PMin: 2}})
 	if err != nil {

@@ -6,6 +6,7 @@ package rvgp
 
 import (
 	"fmt"
+	"math/rand/v2"
 
 	"spotsift/gp"
 	"spotsift/rvfit"
@@ -23,9 +24,17 @@ type Noise struct {
 	base   *gp.Noise
 	names  []string
 	instrs []string
+	// period index and starting periods (see NoiseStart); none by default
+	periodIdx int
+	starts    []float64
+	start     []float64 // the kernel's starting parameters and jitters
 }
 
-var _ rvfit.NoiseModel = (*Noise)(nil)
+var (
+	_ rvfit.NoiseModel     = (*Noise)(nil)
+	_ rvfit.NoisePredictor = (*Noise)(nil)
+	_ rvfit.NoiseStarter   = (*Noise)(nil)
+)
 
 // New returns the GP noise model with kernel k, whose hyperparameters are
 // named kernelNames (one per parameter, e.g. "gp_B", "gp_C", "gp_L",
@@ -73,4 +82,23 @@ func (n *Noise) LogLikelihood(t, resid, variance []float64, inst []int, params [
 		return 0, err
 	}
 	return m.LogLikelihood(t, resid, variance, inst)
+}
+
+// PredictNoise implements rvfit.NoisePredictor: the GP's conditional mean
+// at the data epochs.
+func (n *Noise) PredictNoise(t, resid, variance []float64, inst []int, params []float64) ([]float64, error) {
+	m, err := n.base.WithParams(params)
+	if err != nil {
+		return nil, err
+	}
+	mean, _, err := m.Predict(t, resid, variance, inst, t, false)
+	return mean, err
+}
+
+// NoiseStart implements rvfit.NoiseStarter: with starting periods set (as
+// NewActivity does), start st takes the st-th (cycling), the other kernel
+// parameters those of the kernel given to New and the jitters those set
+// by NewActivity.
+func (n *Noise) NoiseStart(st int, rng *rand.Rand) []float64 {
+	return periodStart(n.start, n.periodIdx, n.starts, st)
 }
