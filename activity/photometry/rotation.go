@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"spotsift/gp"
+	"spotsift/mapfit"
 	"spotsift/rvfit"
 )
 
@@ -258,65 +259,80 @@ func agreement(est []Estimate, p, perr float64) string {
 
 // gpRotation fits gp.RotationSHO plus a white jitter to the light curve,
 // binned to a twentieth of the shortest starting period and cut to at most
-// 2000 bins (the stretch of that many bins with the most data), from each
-// starting period, and returns the best fit's period with its Laplace
-// error.
+// 1000 bins (the stretch of that many bins with the most data), by MAP
+// through mapfit from each starting period, and returns the best fit's
+// period with its Laplace error. Priors are log-uniform over broad boxes:
+// the period over the search range, the quality factors over [0.05, 100]
+// and [0.001, 100], the half-period mode's variance over [0.001, 1] of the
+// rotation mode's (no stronger, so that P and P/2 stay distinct; as in
+// celerite2's rotation term, from memory), the amplitude and the jitter
+// over 10⁻⁴ to 20 times the binned scatter (common practice).
 func gpRotation(lc *LightCurve, starts []float64, pMin, pMax float64) Estimate {
 	e := Estimate{Method: MethodGP, Period: math.NaN(), Err: math.NaN()}
 	pShort := math.Inf(1)
 	for _, p := range starts {
 		pShort = math.Min(pShort, p)
 	}
-	t, y, v := binLC(lc, math.Max(pShort/20, medianStep(lc.Time)), 2000)
+	t, y, v := binLC(lc, math.Max(pShort/20, medianStep(lc.Time)), 1000)
 	if len(t) < MinPoints {
 		e.Note = "too few points for the fit"
 		return e
 	}
 	sd := math.Sqrt(variance(y))
 	inst := make([]int, len(t))
-	lnp := func(p []float64) float64 {
-		// Bounds as a flat prior: period in the search range, quality
-		// factors and the secondary fraction in broad boxes (common
-		// practice).
-		if p[1] < pMin || p[1] > pMax || p[2] < 0.05 || p[2] > 100 || p[3] > 100 || p[4] > 10 || p[0] > 20*sd {
+	space := mapfit.Space{
+		{Name: "sigma", Kind: mapfit.LogBounded, Lo: 1e-4 * sd, Hi: 20 * sd},
+		{Name: "period", Kind: mapfit.LogBounded, Lo: pMin, Hi: pMax},
+		{Name: "q0", Kind: mapfit.LogBounded, Lo: 0.05, Hi: 100},
+		{Name: "dq", Kind: mapfit.LogBounded, Lo: 1e-3, Hi: 100},
+		{Name: "f", Kind: mapfit.LogBounded, Lo: 1e-3, Hi: 1},
+		{Name: "jitter", Kind: mapfit.LogBounded, Lo: 1e-4 * sd, Hi: 20 * sd},
+	}
+	prob := &mapfit.Problem{Space: space, LogPost: func(x []float64) float64 {
+		m := &gp.Noise{Kernel: gp.RotationSHO{Amp: x[0], Period: x[1], Quality: x[2], QualityGap: x[3], Mix: x[4]}, Jitter: []float64{x[5]}, Solver: gp.SemisepSolver}
+		ll, err := m.LogLikelihood(t, y, v, inst)
+		if err != nil {
 			return math.Inf(-1)
 		}
-		return 0
-	}
-	var best *gp.FitResult
-	var bestN *gp.Noise
+		return ll
+	}}
+	var used []float64
+next:
 	for _, p0 := range starts {
-		if p0 < pMin || p0 > pMax {
+		if !(p0 > pMin && p0 < pMax) {
 			continue
 		}
-		m := &gp.Noise{Kernel: gp.RotationSHO{Amp: sd, Period: p0, Quality: 1, QualityGap: 1, Mix: 0.5}, Jitter: []float64{0.1 * sd}, Solver: gp.SemisepSolver}
-		nm, res, err := gp.FitNoise(m, t, y, v, inst, &gp.FitSettings{LogPrior: lnp, MaxEvaluations: 1500})
-		if err != nil || res == nil || nm == nil {
-			continue
+		for _, q := range used {
+			if math.Abs(p0-q) <= 0.05*q {
+				continue next // the same start twice
+			}
 		}
-		if best == nil || res.LogPost > best.LogPost {
-			best, bestN = res, nm
-		}
+		used = append(used, p0)
+		prob.Starts = append(prob.Starts, []float64{sd, p0, 1, 1, 0.5, 0.1 * sd})
 	}
-	if best == nil {
-		e.Note = "the fit did not converge"
+	if len(prob.Starts) == 0 {
+		e.Note = "no starting period within the search range"
 		return e
 	}
-	k := bestN.Kernel.(gp.RotationSHO)
-	e.Period, e.Err = k.Period, best.Sigma[1]
-	sigErr := best.Sigma[0]
+	res, err := mapfit.Fit(prob, &mapfit.Settings{MaxEvaluations: 2000, Workers: 1})
+	if err != nil || res == nil {
+		e.Note = "the fit failed"
+		return e
+	}
+	e.Period = res.X[1]
+	sigErr := math.NaN()
+	if res.Laplace != nil {
+		e.Err, sigErr = res.Laplace.Errors[1], res.Laplace.Errors[0]
+	}
 	e.Detected = true
-	e.Note = fmt.Sprintf("amplitude %.3g (relative flux), %d bins", k.Amp, len(t))
-	if math.IsNaN(e.Err) || !(e.Err > 0) {
+	e.Note = fmt.Sprintf("amplitude %.3g (relative flux), %d bins; %s", res.X[0], len(t), res.Summary())
+	if !(e.Err > 0) {
 		// The posterior's curvature was not usable: a 10% error (common
 		// practice).
 		e.Err = 0.1 * e.Period
 		e.Note += "; curvature not usable, 10% error assumed"
 	}
-	if !best.Converged {
-		e.Note += "; the optimiser stopped at its evaluation limit"
-	}
-	if sigErr > 0 && k.Amp < 3*sigErr {
+	if sigErr > 0 && res.X[0] < 3*sigErr {
 		e.Detected = false
 		e.Note += "; amplitude below 3σ"
 	}
