@@ -230,6 +230,11 @@ func Write(path string, lc *LightCurve, creator string) error {
 	if creator == "" {
 		creator = "spotsift"
 	}
+	for i, sec := range lc.Sector {
+		if strings.ContainsAny(sec, ",\"\n\r") || strings.TrimSpace(sec) == "" {
+			return fmt.Errorf("%w: %s: sector label %q of point %d cannot be written to a CSV cell (empty, or with a comma, quote or line break)", ErrBadLightCurve, path, sec, i+1)
+		}
+	}
 	return rvfit.WriteFileAtomic(path, func(w io.Writer) error {
 		if _, err := fmt.Fprintf(w, "# light curve written by %s: relative flux\n# units: time=d\ntime,flux,flux_err,sector\n", creator); err != nil {
 			return err
@@ -238,9 +243,6 @@ func Write(path string, lc *LightCurve, creator string) error {
 			sec := DefaultSector
 			if lc.Sector != nil {
 				sec = lc.Sector[i]
-			}
-			if strings.ContainsAny(sec, ",\"\n") {
-				sec = strconv.Quote(sec)
 			}
 			if _, err := fmt.Fprintf(w, "%s,%s,%s,%s\n", strconv.FormatFloat(lc.Time[i], 'f', -1, 64), fmtF(lc.Flux[i]), fmtF(lc.Err[i]), sec); err != nil {
 				return err
