@@ -124,3 +124,26 @@ func pText(p float64, upper bool) string {
 	}
 	return "p = " + fmtP(p, false)
 }
+
+// FormatValueError formats a value with its one-sigma error, both rounded
+// to the error's precision ("27.5 ± 2.8"); an unknown error gives "± —" and
+// an unknown value "—". Other packages' pages use it to print numbers the
+// way the report does.
+func FormatValueError(v, e float64) string { return fmtValErr(v, e) }
+
+// AxisTicks returns the labelled tick values of a linear axis over
+// [lo, hi] with their labels, as the report's figures draw them: 1, 2 or
+// 5 times a power of ten apart, distinct labels without needless
+// decimals, and a bounded number of ticks for any input (NaN, infinities
+// and ranges at the float64 limit included).
+func AxisTicks(lo, hi float64) ([]float64, []string) {
+	lo, hi = safeRange(lo, hi, false)
+	var vals []float64
+	var labs []string
+	for _, t := range (niceTicks{}).Ticks(lo, hi) {
+		if t.Label != "" {
+			vals, labs = append(vals, t.Value), append(labs, t.Label)
+		}
+	}
+	return vals, labs
+}

@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"spotsift/activity"
@@ -48,7 +49,9 @@ func scatterSVG(pts []point, xlabel, ylabel string, logX, logY bool, ratios []fl
 			continue
 		}
 		X, Y := tx(p.x), ty(p.y)
-		if math.IsNaN(X) || math.IsInf(X, 0) || math.IsNaN(Y) || math.IsInf(Y, 0) {
+		// Values beyond ±1e300 cannot share a linear axis with others
+		// without its span overflowing: they are left out like NaN.
+		if math.IsNaN(X) || math.IsInf(X, 0) || math.IsNaN(Y) || math.IsInf(Y, 0) || math.Abs(X) > 1e300 || math.Abs(Y) > 1e300 {
 			continue
 		}
 		keep = append(keep, point{X, Y, p.colour, p.title})
@@ -72,51 +75,57 @@ func scatterSVG(pts []point, xlabel, ylabel string, logX, logY bool, ratios []fl
 	y0, y1 = pad(y0, y1)
 	px := func(X float64) float64 { return ml + (X-x0)/(x1-x0)*(W-ml-mr) }
 	py := func(Y float64) float64 { return H - mb - (Y-y0)/(y1-y0)*(H-mt-mb) }
-	ticks := func(a, c float64, log bool) []float64 {
-		var out []float64
+	// ticks returns tick positions (in axis units: log10 on a log axis)
+	// and their labels, distinct for any range.
+	ticks := func(a, c float64, log bool) ([]float64, []string) {
 		if log {
-			for e := math.Floor(a); e <= math.Ceil(c); e++ {
+			var out []float64
+			var labs []string
+			// Every decade, or every k-th when there are many.
+			k := math.Max(1, math.Ceil((math.Ceil(c)-math.Floor(a))/8))
+			for e := math.Floor(a/k) * k; e <= math.Ceil(c) && len(out) < 40; e += k {
 				if e >= a && e <= c {
-					out = append(out, e)
+					out, labs = append(out, e), append(labs, decade(e))
 				}
 			}
 			if len(out) >= 2 {
-				return out
+				return out, labs
 			}
 			// Less than two decades: ticks at 1, 2 and 5 times powers of 10.
-			out = nil
-			for e := math.Floor(a) - 1; e <= math.Ceil(c); e++ {
+			out, labs = nil, nil
+			for e := math.Floor(a) - 1; e <= math.Ceil(c) && len(out) < 40; e++ {
 				for _, m := range []float64{1, 2, 5} {
 					if v := e + math.Log10(m); v >= a && v <= c {
-						out = append(out, v)
+						out, labs = append(out, v), append(labs, strconv.FormatFloat(m*math.Pow(10, e), 'g', -1, 64))
 					}
 				}
 			}
 			if len(out) >= 2 {
-				return out
+				return out, labs
 			}
 			// A narrow range: round values in data space.
-			lo, hi := math.Pow(10, a), math.Pow(10, c)
-			for _, v := range linearTicks(lo, hi) {
+			vals, labs := activity.AxisTicks(math.Pow(10, a), math.Pow(10, c))
+			out = nil
+			for _, v := range vals {
 				out = append(out, math.Log10(v))
 			}
-			return out
+			return out, labs
 		}
-		return linearTicks(a, c)
+		return activity.AxisTicks(a, c)
 	}
-	label := func(v float64, log bool) string {
-		if log {
-			return fmt.Sprintf("%.3g", math.Pow(10, v))
+	xt, xlab := ticks(x0, x1, logX)
+	yt, ylab := ticks(y0, y1, logY)
+	for i, v := range xt {
+		if v >= x0 && v <= x1 {
+			fmt.Fprintf(&b, `<line x1="%.1f" y1="%g" x2="%.1f" y2="%g" stroke="#333"/><text x="%.1f" y="%g" text-anchor="middle">%s</text>`,
+				px(v), H-mb, px(v), H-mb+5, px(v), H-mb+18, xlab[i])
 		}
-		return fmt.Sprintf("%.3g", v)
 	}
-	for _, v := range ticks(x0, x1, logX) {
-		fmt.Fprintf(&b, `<line x1="%.1f" y1="%g" x2="%.1f" y2="%g" stroke="#333"/><text x="%.1f" y="%g" text-anchor="middle">%s</text>`,
-			px(v), H-mb, px(v), H-mb+5, px(v), H-mb+18, label(v, logX))
-	}
-	for _, v := range ticks(y0, y1, logY) {
-		fmt.Fprintf(&b, `<line x1="%g" y1="%.1f" x2="%g" y2="%.1f" stroke="#333"/><text x="%g" y="%.1f" text-anchor="end">%s</text>`,
-			ml-5, py(v), ml, py(v), ml-8, py(v)+4, label(v, logY))
+	for i, v := range yt {
+		if v >= y0 && v <= y1 {
+			fmt.Fprintf(&b, `<line x1="%g" y1="%.1f" x2="%g" y2="%.1f" stroke="#333"/><text x="%g" y="%.1f" text-anchor="end">%s</text>`,
+				ml-5, py(v), ml, py(v), ml-8, py(v)+4, ylab[i])
+		}
 	}
 	fmt.Fprintf(&b, `<text x="%g" y="%g" text-anchor="middle">%s</text>`, (ml+W-mr)/2, H-10, template.HTMLEscapeString(xlabel))
 	fmt.Fprintf(&b, `<text x="14" y="%g" text-anchor="middle" transform="rotate(-90 14 %g)">%s</text>`, (mt+H-mb)/2, (mt+H-mb)/2, template.HTMLEscapeString(ylabel))
@@ -133,7 +142,7 @@ func scatterSVG(pts []point, xlabel, ylabel string, logX, logY bool, ratios []fl
 	}
 	for _, p := range keep {
 		fmt.Fprintf(&b, `<circle cx="%.1f" cy="%.1f" r="4.5" fill="%s" fill-opacity="0.8" stroke="#222" stroke-width="0.5"><title>%s</title></circle>`,
-			px(p.x), py(p.y), p.colour, template.HTMLEscapeString(p.title))
+			px(p.x), py(p.y), p.colour, template.HTMLEscapeString(activity.VisibleText(p.title)))
 	}
 	b.WriteString(`</svg>`)
 	return b.String()
@@ -159,7 +168,7 @@ table{border-collapse:collapse}td,th{padding:.25em .6em;border-bottom:1px solid 
 .failed{color:#b00}.fig{display:inline-block;margin-right:1.5em}.caution{font-style:italic;color:#555}
 </style></head><body>
 <h1>spotsift survey</h1>
-<p>{{.NStars}} stars: {{.NDone}} analysed, {{.NFailed}} failed, {{.NPending}} not analysed with their current inputs; {{.NSignals}} signals ({{.NPlanet}} planet-like, {{.NActivity}} activity-like, {{.NInconclusive}} inconclusive).
+<p>{{.Counts}}
 Tables: <a href="summary.csv">summary.csv</a>, <a href="summary.fits">summary.fits</a>, catalogue <a href="catalogue.sqlite">catalogue.sqlite</a>.</p>
 <p class="caution">{{.Caution}}</p>
 <div class="fig"><h2>Signals against the rotation period</h2>{{.Fig1}}<p>Each signal's period against its star's adopted rotation period; dashed: P = Prot, Prot/2, Prot/3.</p></div>
@@ -181,7 +190,7 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 	type page struct {
 		NStars, NDone, NFailed, NPending            int
 		NSignals, NPlanet, NActivity, NInconclusive int
-		Caution, Creator, Fig2Caption               string
+		Caution, Creator, Fig2Caption, Counts       string
 		Fig1, Fig2                                  template.HTML
 		Stars, Failures                             []indexStar
 	}
@@ -194,13 +203,13 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 		}
 	}
 	for _, r := range recs {
-		is := indexStar{Name: r.Name, Folder: r.Folder, Status: r.Status, Rotation: "–"}
+		is := indexStar{Name: activity.VisibleText(r.Name), Folder: r.Folder, Status: r.Status, Rotation: "—"}
 		switch r.Status {
 		case StatusDone:
 			p.NDone++
 		case StatusFailed:
 			p.NFailed++
-			is.Error = r.State.Error
+			is.Error = activity.VisibleText(r.State.Error)
 			p.Failures = append(p.Failures, is)
 		default:
 			p.NPending++
@@ -213,9 +222,8 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 			}
 			rot := float64(r.Diag.Rotation.Period)
 			if rot > 0 {
-				is.Rotation = fmt.Sprintf("%.3g ± %.2g d (%s)", rot, float64(r.Diag.Rotation.Err), r.Diag.Rotation.Source)
+				is.Rotation = fmt.Sprintf("%s d (%s)", activity.FormatValueError(rot, float64(r.Diag.Rotation.Err)), activity.VisibleText(r.Diag.Rotation.Source))
 			}
-			worst := ""
 			for k, s := range r.Diag.Signals {
 				p.NSignals++
 				switch s.Verdict {
@@ -223,27 +231,19 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 					p.NPlanet++
 				case activity.ActivityLike:
 					p.NActivity++
-					worst = activity.ActivityLike
 				default:
 					p.NInconclusive++
 				}
 				c := verdictColour[s.Verdict]
-				is.Signals = append(is.Signals, indexSignal{Text: fmt.Sprintf("%.4g d", float64(s.Period)), Verdict: s.Verdict, Colour: c, Summary: s.Summary})
+				is.Signals = append(is.Signals, indexSignal{Text: fmt.Sprintf("%.4g d", float64(s.Period)), Verdict: s.Verdict, Colour: c, Summary: activity.VisibleText(s.Summary)})
 				f1 = append(f1, point{x: rot, y: float64(s.Period), colour: c, title: fmt.Sprintf("%s signal %d: %.4g d, %s", r.Name, k+1, float64(s.Period), s.Verdict)})
 			}
-			if worst == "" && len(r.Diag.Signals) > 0 {
-				worst = activity.PlanetLike
-				for _, s := range r.Diag.Signals {
-					if s.Verdict != activity.PlanetLike {
-						worst = activity.Inconclusive
-					}
-				}
-			}
+			kind := starKind(r.Diag)
 			level := float64(r.State.MeanSIndex)
 			if useRHK {
 				level = float64(r.State.MeanLogRHK)
 			}
-			c := verdictColour[worst]
+			c := verdictColour[kind]
 			if c == "" {
 				c = "#ffffff"
 			}
@@ -257,7 +257,9 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 		xl = "mean log R'HK"
 	}
 	p.Fig2 = template.HTML(scatterSVG(f2, xl, "RV rms (m/s)", false, true, nil))
-	p.Fig2Caption = "Each star's " + xl + " against the scatter of its RVs about each instrument's mean; coloured by its most activity-like verdict (white: no signal)."
+	p.Fig2Caption = "Each star's " + xl + " against the scatter of its RVs about each instrument's mean; a star is coloured planet-like when any of its signals is planet-like (a candidate host, whatever its activity), otherwise activity-like when any signal is, otherwise inconclusive (white: no signal)."
+	p.Counts = fmt.Sprintf("%s: %d analysed, %d failed, %d not analysed with their current inputs; %s (%d planet-like, %d activity-like, %d inconclusive).",
+		plural(p.NStars, "star", "stars"), p.NDone, p.NFailed, p.NPending, plural(p.NSignals, "signal", "signals"), p.NPlanet, p.NActivity, p.NInconclusive)
 	if err := os.MkdirAll(filepath.Join(outDir, FiguresDir), 0o755); err != nil {
 		return err
 	}
@@ -276,6 +278,41 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 	return indexTmpl.Execute(w, p)
 }
 
+// decade labels the tick 10^e: the number for ordinary sizes, "1e-7"
+// otherwise (10^−324 is not a float64).
+func decade(e float64) string {
+	if e >= -4 && e <= 5 {
+		return strconv.FormatFloat(math.Pow(10, e), 'g', -1, 64)
+	}
+	return fmt.Sprintf("1e%d", int(e))
+}
+
+// starKind is the verdict a star is coloured by on the index page: a
+// candidate planet host (any planet-like signal) first, then an active
+// star (any activity-like signal), then inconclusive; "" without signals.
+func starKind(dg *activity.Diagnosis) string {
+	kind := ""
+	for _, s := range dg.Signals {
+		switch {
+		case s.Verdict == activity.PlanetLike:
+			return activity.PlanetLike
+		case s.Verdict == activity.ActivityLike:
+			kind = activity.ActivityLike
+		case kind == "":
+			kind = activity.Inconclusive
+		}
+	}
+	return kind
+}
+
+// plural writes a count with its noun: "1 star", "2 stars".
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return fmt.Sprintf("%d %s", n, many)
+}
+
 // The sample-wide figures, also written as SVG files into FiguresDir.
 const (
 	FiguresDir            = "figures"
@@ -289,24 +326,4 @@ func ratioLabel(c float64) string {
 		return "P = Prot"
 	}
 	return fmt.Sprintf("P = Prot/%.3g", 1/c)
-}
-
-// linearTicks returns round tick values (1, 2 or 5 times a power of 10
-// apart, at most 6 steps) between a and c.
-func linearTicks(a, c float64) []float64 {
-	if !(c > a) {
-		return []float64{a}
-	}
-	step := math.Pow(10, math.Floor(math.Log10((c-a)/4)))
-	for _, m := range []float64{1, 2, 5, 10} {
-		if (c-a)/(m*step) <= 6 {
-			step *= m
-			break
-		}
-	}
-	var out []float64
-	for k := math.Ceil(a / step); k*step <= c; k++ {
-		out = append(out, k*step)
-	}
-	return out
 }
