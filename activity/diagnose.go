@@ -95,7 +95,7 @@ func (o *Options) withDefaults() Options {
 		d.MaxSignals = 4
 	}
 	if d.PMin == 0 {
-		d.PMin = 1.05
+		d.PMin = DefaultPMin
 	}
 	if d.Oversampling == 0 {
 		d.Oversampling = 10
@@ -111,6 +111,11 @@ func (o *Options) withDefaults() Options {
 	}
 	return d
 }
+
+// DefaultPMin is the shortest period searched by default, in days, by
+// Diagnose and by "spotsift scan": just above the 1-day alias region. The
+// longest is the baseline.
+const DefaultPMin = 1.05
 
 // chromaticColumn is the indicator that holds the chromatic RV slope.
 const chromaticColumn = "chromatic_slope"

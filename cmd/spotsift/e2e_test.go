@@ -95,8 +95,10 @@ func TestDemo(t *testing.T) {
 		t.Skip("the demo simulates and measures some 380 spectra; skipped with -short")
 	}
 	var verdicts [2]map[string][]byte
+	var lastOut string
 	for k := range verdicts {
 		out := filepath.Join(t.TempDir(), "demo")
+		lastOut = out
 		code, stdout, stderr := runCmd("demo", "--out", out, "--quiet")
 		if code != exitOK {
 			t.Fatalf("demo: exit %d\n%s\n%s", code, stdout, stderr)
@@ -117,6 +119,19 @@ func TestDemo(t *testing.T) {
 		if !bytes.Equal(b, verdicts[1][star]) {
 			t.Errorf("%s: the two runs gave different verdict JSON", star)
 		}
+	}
+	// A rerun into the same folder reuses everything, --json is honoured,
+	// and the folder stays small (the spectra went to a temporary folder).
+	code, stdout, stderr := runCmd("demo", "--out", lastOut, "--quiet", "--json")
+	var res demoResult
+	if code != exitOK || json.Unmarshal([]byte(stdout), &res) != nil {
+		t.Fatalf("demo --json rerun: exit %d\n%.400s\n%s", code, stdout, stderr)
+	}
+	if !res.Reused || len(res.Stars) != 2 {
+		t.Errorf("the rerun did not reuse the results: %+v", res)
+	}
+	if res.Bytes > 100<<20 || res.Bytes != diskUse(lastOut) {
+		t.Errorf("the demo folder holds %d bytes (reported %d); want at most 100 MB", diskUse(lastOut), res.Bytes)
 	}
 	verdictAt := func(star string, period float64) string {
 		var dg activity.Diagnosis

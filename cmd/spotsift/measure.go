@@ -117,6 +117,9 @@ that fail on an otherwise good spectrum.`)
 	if err := rvfit.WriteTable(*out, s, &rvfit.WriteOptions{Creator: "spotsift " + version}); err != nil {
 		return fail(e, exitFailed, err)
 	}
+	if c.json {
+		return writeJSON(e, measureJSON(*out, s, len(paths), rep, failures))
+	}
 	if !c.quiet {
 		skipped := ""
 		if n := len(rep.Skipped); n > 0 {
@@ -256,4 +259,45 @@ func spectrumPaths(arg string) ([]string, error) {
 	}
 	sort.Strings(paths)
 	return paths, nil
+}
+
+// measureSummary is what "measure --json" prints: the table written and
+// what happened to every file.
+type measureSummary struct {
+	Table    string        `json:"table"`
+	Epochs   int           `json:"epochs"`
+	Files    int           `json:"files"`
+	Skipped  []fileProblem `json:"skipped,omitempty"`
+	Failed   []fileProblem `json:"failed,omitempty"`
+	Partial  []fileProblem `json:"partial,omitempty"`
+	Warnings []fileProblem `json:"warnings,omitempty"`
+	Columns  []string      `json:"columns"`
+}
+
+type fileProblem struct {
+	Path  string `json:"path"`
+	Error string `json:"error"`
+}
+
+func measureJSON(out string, s *rvfit.Series, files int, rep *activity.MeasureReport, failures []activity.MeasureFailure) measureSummary {
+	sum := measureSummary{Table: out, Epochs: s.Len(), Files: files, Columns: []string{"time", "rv", "rv_err", "instrument"}}
+	for _, ind := range s.Indicators {
+		sum.Columns = append(sum.Columns, ind.Name)
+	}
+	conv := func(fs []activity.MeasureFailure) []fileProblem {
+		var out []fileProblem
+		for _, f := range fs {
+			out = append(out, fileProblem{f.Path, f.Err.Error()})
+		}
+		return out
+	}
+	sum.Skipped, sum.Warnings = conv(rep.Skipped), conv(rep.Warnings)
+	for _, f := range failures {
+		if f.Partial {
+			sum.Partial = append(sum.Partial, fileProblem{f.Path, f.Err.Error()})
+		} else {
+			sum.Failed = append(sum.Failed, fileProblem{f.Path, f.Err.Error()})
+		}
+	}
+	return sum
 }

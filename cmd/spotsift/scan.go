@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"errors"
 
+	"spotsift/activity"
 	"spotsift/rvfit"
 )
 
@@ -19,8 +20,8 @@ aliases, and prewhitens the RVs signal by signal. Prints the peak list;
 --json prints everything, --out writes the periodograms as CSV.`)
 	c.addData(fs)
 	c.addRun(fs)
-	pmin := fs.Float64("pmin", 0, "shortest period, `days` (default 1 d)")
-	pmax := fs.Float64("pmax", 0, "longest period, `days` (default: ten baselines)")
+	pmin := fs.Float64("pmin", 0, "shortest period, `days` (default 1.05, as vet)")
+	pmax := fs.Float64("pmax", 0, "longest period, `days` (default: the baseline, as vet)")
 	over := fs.Float64("oversampling", 0, "grid points per 1/baseline (default 10)")
 	fast := fs.Bool("fast", false, "use the fast (non-uniform FFT) engine, accurate to about 1e-9 in power")
 	boot := fs.Int("bootstrap", 0, "number of bootstrap resamplings for empirical false-alarm probabilities")
@@ -47,6 +48,14 @@ aliases, and prewhitens the RVs signal by signal. Prints the peak list;
 	s, err := c.loadData(e, "scan", 4)
 	if err != nil {
 		return fail(e, exitUsage, err)
+	}
+	// One default period range for scan and vet: activity.DefaultPMin to
+	// the baseline.
+	if *pmin == 0 {
+		*pmin = activity.DefaultPMin
+	}
+	if *pmax == 0 {
+		*pmax = s.Baseline()
 	}
 	res, err := rvfit.Scan(s, &rvfit.ScanOptions{Grid: &rvfit.GridOptions{PMin: *pmin, PMax: *pmax, Oversampling: *over},
 		Fast: *fast, Bootstrap: *boot, NPeaks: *peaks, Seed: c.seed, Workers: c.workers})
