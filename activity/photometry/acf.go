@@ -169,7 +169,8 @@ func acfPeaks(r []float64) []acfPeak {
 // error the slope's standard error (or, with fewer than three peaks, the
 // half width at half height of the adopted peak).
 //
-// y is relative flux minus one, w the weights (1/σ²).
+// y is relative flux minus one, w the weights (1/σ²). The choices are
+// written up in docs/methods.md §14.2.
 func ACFRotation(t, y, w []float64, dt, maxLag, pMin float64) *ACF {
 	a := &ACF{Period: math.NaN(), Err: math.NaN(), Height: math.NaN()}
 	if len(t) < MinPoints || !(dt > 0) {

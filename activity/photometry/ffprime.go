@@ -21,7 +21,8 @@ import (
 // hides blueshifted light (a positive RV).
 //
 // The scale factors depend on the star and the spots; they are fitted to
-// the RVs (FitFFPrime), as Haywood et al. (2014) did.
+// the RVs (FitFFPrime), as Haywood et al. (2014) did. See docs/methods.md
+// §14.1.
 type FFPrime struct {
 	// Time are the times asked for; Covered says which the light curve
 	// covers (points on both sides within the smoothing window).
