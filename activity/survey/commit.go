@@ -223,7 +223,7 @@ func regularFile(p, what string) error {
 		return fmt.Errorf("%s: %w", what, err)
 	}
 	if !fi.Mode().IsRegular() {
-		return fmt.Errorf("%w: %s %s is not a regular file (%s)", ErrNotRegular, what, p, kind(fi.Mode()))
+		return fmt.Errorf("%s %s: %w (%s)", what, p, ErrNotRegular, kind(fi.Mode()))
 	}
 	return nil
 }

@@ -180,9 +180,9 @@ var inlineKeys = []string{"b_v", "mass", "teff", "vsini", "rotation_period", "ro
 // Relative paths are taken from the manifest's folder. Names must be
 // unique, and so must the output folders they map onto (see Folder).
 func ReadManifest(path string) (*Manifest, error) {
-	b, err := os.ReadFile(path)
+	b, err := readManifestFile(path)
 	if err != nil {
-		return nil, fmt.Errorf("%w: %v", ErrManifest, err)
+		return nil, err
 	}
 	var m *Manifest
 	if strings.EqualFold(filepath.Ext(path), ".toml") {
@@ -195,6 +195,34 @@ func ReadManifest(path string) (*Manifest, error) {
 	}
 	m.Dir = filepath.Dir(path)
 	return m, nil
+}
+
+// MaxManifestSize is the largest manifest ReadManifest reads, in bytes.
+const MaxManifestSize = 1 << 30
+
+// readManifestFile reads a manifest file: a regular file only (a named
+// pipe or a device is refused without being opened for reading), at most
+// MaxManifestSize bytes.
+func readManifestFile(path string) ([]byte, error) {
+	if err := regularFile(path, "manifest"); err != nil {
+		if errors.Is(err, ErrNotRegular) {
+			return nil, &ManifestError{File: path, Msg: "not a regular file: give the path of a CSV or TOML manifest"}
+		}
+		return nil, fmt.Errorf("%w: %v", ErrManifest, err)
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrManifest, err)
+	}
+	defer f.Close()
+	b, err := io.ReadAll(io.LimitReader(f, MaxManifestSize+1))
+	if err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrManifest, err)
+	}
+	if len(b) > MaxManifestSize {
+		return nil, &ManifestError{File: path, Msg: fmt.Sprintf("more than %d bytes: is this the manifest?", MaxManifestSize)}
+	}
+	return b, nil
 }
 
 // ParseManifestCSV parses a CSV manifest (see ReadManifest); name is used
