@@ -23,4 +23,5 @@
 //	index.html               links to every report, sample-wide figures
 //	figures/                 the figures as SVG files
 //	runs.json                the history of runs into this folder
+//	.spotsift.lock           the folder's advisory lock (LockFile)
 package survey

@@ -166,19 +166,26 @@ const (
 // outDir, then writes the summary table, the catalogue and the index page
 // of those stars (see the package documentation for the layout).
 //
+// Run holds outDir's advisory lock (LockFile) while it works, waiting
+// for another survey or merge that holds it, and first removes what killed
+// runs left.
+//
 // Each star is diagnosed by activity.Diagnose with the seed
-// StarSeed(opts.Seed, name) and written by activity.WriteReport into
-// stars/<Folder(name)>/, with its state file written last. A star whose
-// input hash (InputHash) equals the one in its state file is not analysed
-// again. A star that fails - unreadable data, a bad star file, too few
-// epochs, even a panic in the analysis - is recorded with its reason and
-// the others go on.
+// StarSeed(opts.Seed, name) and written by activity.WriteReport into a
+// fresh hidden folder, its state file last (with the hash of the outputs),
+// which is then renamed to stars/<Folder(name)>/: a kill at any moment
+// leaves a star's folder old and whole, new and whole, or absent. A star
+// whose input hash (InputHash) equals the one in its state file, and whose
+// folder still hashes as its state says, is not analysed again. A star
+// that fails - unreadable data, an input that is not a regular file, a bad
+// star file, too few epochs, the time limit, even a panic in the analysis -
+// is recorded with its reason and the others go on.
 //
 // When ctx is cancelled, no new star is started, stars in progress are
-// abandoned (nothing of theirs is written; their computation, which
-// activity.Diagnose cannot stop midway, ends in the background and is
-// discarded) and the finished ones stay intact; the outputs are written for what is finished and the run is
-// recorded as interrupted.
+// abandoned (nothing of theirs is kept; a computation that ignores ctx ends
+// in the background and is discarded) and the finished ones stay intact;
+// the outputs are written for what is finished and the run is recorded as
+// interrupted.
 //
 // Run returns the summary with an error wrapping ErrPartial when some
 // stars failed or were not run (the outputs are written all the same),
