@@ -279,3 +279,42 @@ func TestSurveyBadStars(t *testing.T) {
 	}
 	checkCatalogue(t, out, 1)
 }
+
+// TestBadOptionsAndOutputs: options out of range are bad usage (exit 2)
+// with a message in the option's own terms; outputs that cannot be written
+// are a failure (exit 1), not bad usage.
+func TestBadOptionsAndOutputs(t *testing.T) {
+	tmp := t.TempDir()
+	good := tinyStar(t, tmp, "good", 40, 5.3, 6, 3)
+	manifest := write(t, tmp, "manifest.csv", "name,data\nGood-1,"+good+"\n")
+	blocker := write(t, tmp, "a-file", "not a folder\n")
+	for _, c := range []struct {
+		args []string
+		code int
+		want string
+	}{
+		{[]string{"vet", "--data", good, "--pmin", "-1"}, exitUsage, "--pmin -1: the shortest period searched must be a positive number of days"},
+		{[]string{"vet", "--data", good, "--pmax", "-5"}, exitUsage, "--pmax -5"},
+		{[]string{"vet", "--data", good, "--pmin", "10", "--pmax", "5"}, exitUsage, "--pmin 10 is not shorter than --pmax 5"},
+		{[]string{"vet", "--data", good, "--max-signals", "-1"}, exitUsage, "--max-signals -1"},
+		{[]string{"scan", "--data", good, "--pmin", "-1"}, exitUsage, "--pmin -1"},
+		{[]string{"survey", "--manifest", manifest, "--out", filepath.Join(tmp, "s"), "--max-signals", "-1"}, exitUsage, "--max-signals -1"},
+		{[]string{"survey", "--manifest", manifest, "--out", filepath.Join(tmp, "s"), "--star-timeout", "-1s"}, exitUsage, "--star-timeout"},
+		{[]string{"vet", "--data", good, "--no-gp", "--out", filepath.Join(blocker, "report")}, exitFailed, "a-file"},
+		{[]string{"survey", "--manifest", manifest, "--out", filepath.Join(blocker, "survey"), "--no-gp"}, exitFailed, "a-file"},
+		{[]string{"survey", "merge", "--out", filepath.Join(blocker, "merged"), filepath.Join(tmp, "nothing")}, exitUsage, "nothing"},
+	} {
+		code, stdout, stderr := runBounded(t, 60*time.Second, c.args...)
+		if code != c.code || !strings.Contains(stderr, c.want) {
+			t.Errorf("spotsift %s: exit %d, want %d with %q\n%s%s", strings.Join(c.args, " "), code, c.code, c.want, stdout, stderr)
+		}
+	}
+	// A merge that fails leaves no empty stars/ behind.
+	out := filepath.Join(tmp, "merged")
+	if code, _, _ := runCmd("survey", "merge", "--out", out, filepath.Join(tmp, "nothing")); code != exitUsage {
+		t.Errorf("merge of a missing folder: exit %d", code)
+	}
+	if _, err := os.Stat(filepath.Join(out, "stars")); !os.IsNotExist(err) {
+		t.Errorf("a failed merge left %s/stars (%v)", out, err)
+	}
+}
