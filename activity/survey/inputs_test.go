@@ -4,6 +4,7 @@ import (
 	"context"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 
 	"spotsift/activity"
@@ -52,6 +53,22 @@ func TestSpectraFolder(t *testing.T) {
 	st, _ = readState(filepath.Join(out, StarsDir, "Corvane-3"))
 	if len(st.Notes) == 0 {
 		t.Error("the unreadable spectrum is not noted")
+	}
+	// A malformed FITS spectrum among them (the header card NAXIS0 that
+	// once crashed the measuring and the whole survey, from the
+	// malformed-input corpus) is left out and named; the star is done.
+	bad, err := os.ReadFile("../../testdata/malformed/spectra/card-naxis0/epoch-1.fits")
+	if err != nil {
+		t.Fatal(err)
+	}
+	os.WriteFile(filepath.Join(dir, starsim.SpectraDir, "epoch-zz.fits"), bad, 0o644)
+	sum, err = Run(context.Background(), m, out, fastOpts())
+	if err != nil || sum.Run.Analysed != 1 {
+		t.Fatalf("with a malformed spectrum: %v %+v", err, sum.Run)
+	}
+	st, _ = readState(filepath.Join(out, StarsDir, "Corvane-3"))
+	if !strings.Contains(strings.Join(st.Notes, "\n"), "epoch-zz.fits") {
+		t.Errorf("the malformed spectrum is not named in the notes: %q", st.Notes)
 	}
 }
 

@@ -687,7 +687,8 @@ func loadSeries(ctx context.Context, m *Manifest, e *Entry, star *activity.Star)
 			return nil, nil, err
 		}
 		var fails []activity.MeasureFailure
-		s, fails, err = activity.Measure(ctx, files, &activity.MeasureOptions{Star: star, Workers: 1})
+		var rep activity.MeasureReport
+		s, fails, err = activity.Measure(ctx, files, &activity.MeasureOptions{Star: star, Workers: 1, Report: &rep})
 		if err != nil {
 			return nil, nil, fmt.Errorf("measuring the spectra of %s: %w", p, err)
 		}
@@ -697,6 +698,12 @@ func loadSeries(ctx context.Context, m *Manifest, e *Entry, star *activity.Star)
 				what = "kept, some indicators missing"
 			}
 			notes = append(notes, fmt.Sprintf("spectrum %s %s: %v", filepath.Base(f.Path), what, f.Err))
+		}
+		for _, f := range rep.Skipped {
+			notes = append(notes, fmt.Sprintf("file %s skipped, not a spectrum: %v", filepath.Base(f.Path), f.Err))
+		}
+		for _, f := range rep.Warnings {
+			notes = append(notes, fmt.Sprintf("spectrum %s kept, to check: %v", filepath.Base(f.Path), f.Err))
 		}
 	} else {
 		s, notes, err = readTables(p, e)
