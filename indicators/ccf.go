@@ -3,6 +3,7 @@ package indicators
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"sort"
 	"sync"
 )
@@ -109,9 +110,10 @@ type ccfPlan struct {
 	// serial reports whether run and propagate stay on the calling
 	// goroutine.
 	serial bool
-	// slab holds the orders' arrays when they came from slabPool.
+	// slab holds the orders' arrays when they came from getSlab.
 	slab    *[]float64
 	allSig2 []float64
+	span    int // see maxSpan
 }
 
 // ComputeCCF cross-correlates s with the mask m on the grid set by opts
@@ -204,11 +206,28 @@ func prepareOrders(s *Spectrum, readNoise float64) []ccfOrder {
 	return orders
 }
 
-// slabPool recycles the pixel-geometry arrays of prepareOrdersPooled.
-var slabPool = sync.Pool{New: func() any { return new([]float64) }}
+// slabs recycles the pixel-geometry arrays of prepareOrdersPooled. Unlike
+// a sync.Pool it survives garbage collections: these arrays are megabytes,
+// and fresh memory costs more to obtain (zeroing, page faults) than the
+// arithmetic that fills it. It keeps at most GOMAXPROCS arrays.
+var slabs struct {
+	sync.Mutex
+	free []*[]float64
+}
+
+func getSlab() *[]float64 {
+	slabs.Lock()
+	defer slabs.Unlock()
+	if n := len(slabs.free); n > 0 {
+		s := slabs.free[n-1]
+		slabs.free = slabs.free[:n-1]
+		return s
+	}
+	return new([]float64)
+}
 
 // prepareOrdersPooled computes pixel edges, inverse widths and variances
-// into one array taken from slabPool; the caller may hand the returned slab
+// into one array taken from getSlab; the caller may hand the returned slab
 // back with releaseSlab once nothing refers to the orders any more.
 //
 // Without flux errors the variance is photon noise plus detector noise,
@@ -220,7 +239,7 @@ func prepareOrdersPooled(s *Spectrum, readNoise float64) ([]ccfOrder, *[]float64
 	for i := range s.Orders {
 		total += len(s.Orders[i].Wavelength)
 	}
-	slab := slabPool.Get().(*[]float64)
+	slab := getSlab()
 	need := 3*total + len(s.Orders)
 	if cap(*slab) < need {
 		*slab = make([]float64, need)
@@ -265,8 +284,13 @@ func prepareOrdersPooled(s *Spectrum, readNoise float64) ([]ccfOrder, *[]float64
 }
 
 func releaseSlab(slab *[]float64) {
-	if slab != nil {
-		slabPool.Put(slab)
+	if slab == nil {
+		return
+	}
+	slabs.Lock()
+	defer slabs.Unlock()
+	if len(slabs.free) < runtime.GOMAXPROCS(0) {
+		slabs.free = append(slabs.free, slab)
 	}
 }
 
@@ -423,98 +447,126 @@ func (p *ccfPlan) runPlaces(c *CCF, wsum []float64, places []placement) {
 //	Var Q = Σ_x σ_x² (Σ_k g_k ∂CCF_k/∂F_x)²
 //
 // exactly, including the correlation between neighbouring CCF bins. It
-// needs exactly propQ quantities. Two goroutines share the work: one takes
-// the first three quantities and the segments, the other the rest.
+// needs exactly propQ quantities. Unless the plan is serial, two
+// goroutines share the work: one takes the first three quantities and the
+// segments, the other the rest. The result does not depend on the split.
 func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 	if len(g) != propQ {
 		panic("indicators: propagate needs propQ gradients")
 	}
-	vq = make([]float64, propQ)
 	vs = make([]float64, len(sg))
 	if p.serial {
-		a := p.propagate7([7][]float64{g[0], g[1], g[2], g[3], g[4], g[5], nil}, sg, vs)
-		copy(vq, a[:propQ])
-		return vq, vs
+		// Six quantities and the segments: two groups of four slots.
+		a := p.propagateSlots([][]float64{g[0], g[1], g[2], g[3], g[4], g[5], nil}, 6, sg, vs)
+		return a[:propQ], vs
 	}
+	vq = make([]float64, propQ)
 	var wg sync.WaitGroup
 	wg.Add(1)
 	go func() {
 		defer wg.Done()
-		b := p.propagate3([3][]float64{g[3], g[4], g[5]}, nil, nil)
-		copy(vq[3:6], b[:])
+		b := p.propagateSlots([][]float64{g[3], g[4], g[5]}, -1, nil, nil)
+		copy(vq[3:6], b)
 	}()
-	a := p.propagate4([4][]float64{g[0], g[1], g[2], nil}, sg, vs)
+	a := p.propagateSlots([][]float64{g[0], g[1], g[2], nil}, 3, sg, vs)
 	copy(vq[0:3], a[:3])
 	wg.Wait()
 	return vq, vs
 }
 
-// propagate3 propagates three quantities; when sg is not nil the third slot
-// is each segment's RV instead, its variances going to vs.
+// propagateSlots propagates the gradients g (nil: an unused slot) through
+// the CCF in one walk over the (line, velocity, pixel) overlaps, in groups
+// of four slots per pixel. When sg is not nil, slot seg holds instead the
+// gradient of the current segment's own CCF (sg[s]), whose variances go to
+// vs. It returns the variance of each slot (0 for seg and unused slots).
 //
 // Lines are visited in increasing pixel order, so a pixel below the first
 // pixel a line can touch is final: it is squared, summed and cleared as the
 // walk moves on, and the scratch array is clean again at the end.
-func (p *ccfPlan) propagate3(g [3][]float64, sg [][]float64, vs []float64) [3]float64 {
-	const nq = 3
-	buf := scratchPool.Get().(*[]float64)
-	if len(*buf) < p.npix*nq {
-		*buf = make([]float64, p.npix*nq)
+func (p *ccfPlan) propagateSlots(g [][]float64, seg int, sg [][]float64, vs []float64) []float64 {
+	ns := (max(len(g), seg+1) + 3) &^ 3
+	ngr := ns / 4
+	if ngr > 2 {
+		panic("indicators: propagateSlots takes at most eight slots")
 	}
-	h := (*buf)[:p.npix*nq]
+	// Only the pixels between the current line's first pixel and the last
+	// pixel touched so far are live: a ring buffer of them (a power of two
+	// above the widest line's span) keeps the scratch in the fastest cache.
+	span := p.maxSpan()
+	ring := 1
+	for ring < 2*span+2 {
+		ring <<= 1
+	}
+	mask := ring - 1
+	h := make([]float64, ring*ns)
 	sig2 := p.sig2()
-	var acc [3]float64
+	acc := make([]float64, ns)
 	lo, hi := 1-p.h, 1+p.h
 	nk := len(p.dk)
-	gk := make([]float64, nk*nq)
-	nqTot := nq
-	if sg != nil {
-		nqTot = 2 // the third slot is flushed per segment
+	gk := make([]float64, nk*ns)
+	if sg == nil {
+		seg = -1
 	}
-	low := 0 // pixels below low are flushed
+	low := 0     // pixels below low are flushed
+	touched := 0 // pixels at and above touched are untouched (zero)
 	curSeg := -1
+	// acc8 sums the slots' squares; the segment slot's sum is moved out
+	// at each segment change (flushSeg) and at the end.
+	var acc8 [8]float64
 	flushTo := func(x1 int) {
-		for x := low; x < x1; x++ {
-			hx := (*[nq]float64)(h[x*nq : x*nq+nq])
+		for x := low; x < min(x1, touched); x++ {
+			i := (x & mask) * ns
 			s2 := sig2[x]
-			for q := 0; q < nqTot; q++ {
-				acc[q] += s2 * hx[q] * hx[q]
+			h0 := (*[4]float64)(h[i : i+4])
+			a0 := (*[4]float64)(acc8[0:4])
+			a0[0] += s2 * h0[0] * h0[0]
+			a0[1] += s2 * h0[1] * h0[1]
+			a0[2] += s2 * h0[2] * h0[2]
+			a0[3] += s2 * h0[3] * h0[3]
+			*h0 = [4]float64{}
+			if ngr > 1 {
+				h1 := (*[4]float64)(h[i+4 : i+8])
+				a1 := (*[4]float64)(acc8[4:8])
+				a1[0] += s2 * h1[0] * h1[0]
+				a1[1] += s2 * h1[1] * h1[1]
+				a1[2] += s2 * h1[2] * h1[2]
+				a1[3] += s2 * h1[3] * h1[3]
+				*h1 = [4]float64{}
 			}
-			if sg != nil && curSeg >= 0 {
-				vs[curSeg] += s2 * hx[2] * hx[2]
-			}
-			*hx = [nq]float64{}
 		}
 		if x1 > low {
 			low = x1
 		}
 	}
-	// flushSeg squares and clears the segment slot over [low, to).
-	flushSeg := func(to int) {
-		for x := low; x < to; x++ {
-			v := h[x*nq+2]
-			vs[curSeg] += sig2[x] * v * v
-			h[x*nq+2] = 0
+	// flushSeg squares and clears the segment slot over [low, touched)
+	// and moves the segment's finished sum to vs.
+	flushSeg := func() {
+		for x := low; x < touched; x++ {
+			i := (x&mask)*ns + seg
+			v := h[i]
+			acc8[seg] += sig2[x] * v * v
+			h[i] = 0
 		}
+		vs[curSeg] += acc8[seg]
+		acc8[seg] = 0
 	}
-	segHi := 0
 	for _, pl := range p.places {
 		o := &p.orders[pl.order]
 		e, iw := o.edges, o.invw
 		off := o.offset
-		if int(pl.seg) != curSeg || curSeg < 0 {
-			if sg != nil && curSeg >= 0 {
-				flushSeg(segHi)
+		if int(pl.seg) != curSeg {
+			if seg >= 0 && curSeg >= 0 {
+				flushSeg()
 			}
 			curSeg = int(pl.seg)
 			for k := 0; k < nk; k++ {
-				for q := 0; q < nq; q++ {
-					if g[q] != nil {
-						gk[k*nq+q] = g[q][k]
+				for q, gq := range g {
+					if gq != nil {
+						gk[k*ns+q] = gq[k]
 					}
 				}
-				if sg != nil {
-					gk[k*nq+2] = sg[curSeg][k]
+				if seg >= 0 {
+					gk[k*ns+seg] = sg[curSeg][k]
 				}
 			}
 		}
@@ -527,7 +579,7 @@ func (p *ccfPlan) propagate3(g [3][]float64, sg [][]float64, vs []float64) [3]fl
 			for e[x0+1] <= a {
 				x0++
 			}
-			gq := (*[nq]float64)(gk[k*nq : k*nq+nq])
+			g0 := (*[4]float64)(gk[k*ns : k*ns+4])
 			x := x0
 			for ; e[x] < b; x++ {
 				l, r := e[x], e[x+1]
@@ -538,241 +590,54 @@ func (p *ccfPlan) propagate3(g [3][]float64, sg [][]float64, vs []float64) [3]fl
 					r = b
 				}
 				t := w * (r - l) * iw[x]
-				hx := (*[nq]float64)(h[(off+x)*nq : (off+x)*nq+nq])
-				hx[0] += t * gq[0]
-				hx[1] += t * gq[1]
-				hx[2] += t * gq[2]
+				i := ((off + x) & mask) * ns
+				h0 := (*[4]float64)(h[i : i+4])
+				h0[0] += t * g0[0]
+				h0[1] += t * g0[1]
+				h0[2] += t * g0[2]
+				h0[3] += t * g0[3]
+				if ngr > 1 {
+					g1 := (*[4]float64)(gk[k*ns+4 : k*ns+8])
+					h1 := (*[4]float64)(h[i+4 : i+8])
+					h1[0] += t * g1[0]
+					h1[1] += t * g1[1]
+					h1[2] += t * g1[2]
+					h1[3] += t * g1[3]
+				}
 			}
-			if off+x > segHi {
-				segHi = off + x
+			if off+x > touched {
+				touched = off + x
 			}
 		}
 	}
-	if sg != nil && curSeg >= 0 {
-		flushSeg(segHi)
-		curSeg = -1
+	if seg >= 0 && curSeg >= 0 {
+		flushSeg()
 	}
 	flushTo(p.npix)
-	scratchPool.Put(buf)
+	if seg >= 0 {
+		acc8[seg] = 0
+	}
+	copy(acc, acc8[:ns])
 	return acc
 }
 
-// propagate4 is propagate3 with four slots, the last one the segments'.
-func (p *ccfPlan) propagate4(g [4][]float64, sg [][]float64, vs []float64) [4]float64 {
-	const nq = 4
-	buf := scratchPool.Get().(*[]float64)
-	if len(*buf) < p.npix*nq {
-		*buf = make([]float64, p.npix*nq)
+// maxSpan returns the largest number of pixels one placed line touches
+// over the velocity grid (computed once).
+func (p *ccfPlan) maxSpan() int {
+	if p.span > 0 {
+		return p.span
 	}
-	h := (*buf)[:p.npix*nq]
-	sig2 := p.sig2()
-	var acc [4]float64
-	lo, hi := 1-p.h, 1+p.h
-	nk := len(p.dk)
-	gk := make([]float64, nk*nq)
-	nqTot := nq
-	if sg != nil {
-		nqTot = 3 // the last slot is flushed per segment
-	}
-	low := 0 // pixels below low are flushed
-	curSeg := -1
-	flushTo := func(x1 int) {
-		for x := low; x < x1; x++ {
-			hx := (*[nq]float64)(h[x*nq : x*nq+nq])
-			s2 := sig2[x]
-			for q := 0; q < nqTot; q++ {
-				acc[q] += s2 * hx[q] * hx[q]
-			}
-			if sg != nil && curSeg >= 0 {
-				vs[curSeg] += s2 * hx[3] * hx[3]
-			}
-			*hx = [nq]float64{}
-		}
-		if x1 > low {
-			low = x1
-		}
-	}
-	// flushSeg squares and clears the segment slot over [low, to).
-	flushSeg := func(to int) {
-		for x := low; x < to; x++ {
-			v := h[x*nq+3]
-			vs[curSeg] += sig2[x] * v * v
-			h[x*nq+3] = 0
-		}
-	}
-	segHi := 0
+	dhi := p.dk[len(p.dk)-1] * (1 + p.h)
 	for _, pl := range p.places {
-		o := &p.orders[pl.order]
-		e, iw := o.edges, o.invw
-		off := o.offset
-		if int(pl.seg) != curSeg || curSeg < 0 {
-			if sg != nil && curSeg >= 0 {
-				flushSeg(segHi)
-			}
-			curSeg = int(pl.seg)
-			for k := 0; k < nk; k++ {
-				for q := 0; q < nq; q++ {
-					if g[q] != nil {
-						gk[k*nq+q] = g[q][k]
-					}
-				}
-				if sg != nil {
-					gk[k*nq+3] = sg[curSeg][k]
-				}
-			}
-		}
-		flushTo(off + int(pl.start))
-		w := pl.weight
-		x0 := int(pl.start)
-		for k, d := range p.dk {
-			a := pl.lambda * d * lo
-			b := pl.lambda * d * hi
-			for e[x0+1] <= a {
-				x0++
-			}
-			gq := (*[nq]float64)(gk[k*nq : k*nq+nq])
-			x := x0
-			for ; e[x] < b; x++ {
-				l, r := e[x], e[x+1]
-				if a > l {
-					l = a
-				}
-				if b < r {
-					r = b
-				}
-				t := w * (r - l) * iw[x]
-				hx := (*[nq]float64)(h[(off+x)*nq : (off+x)*nq+nq])
-				hx[0] += t * gq[0]
-				hx[1] += t * gq[1]
-				hx[2] += t * gq[2]
-				hx[3] += t * gq[3]
-			}
-			if off+x > segHi {
-				segHi = off + x
-			}
-		}
+		e := p.orders[pl.order].edges
+		end := searchEdges(e, pl.lambda*dhi) + 1
+		p.span = max(p.span, end-int(pl.start)+1)
 	}
-	if sg != nil && curSeg >= 0 {
-		flushSeg(segHi)
-		curSeg = -1
-	}
-	flushTo(p.npix)
-	scratchPool.Put(buf)
-	return acc
-}
-
-// propagate7 is propagate3 with seven slots (six quantities and the
-// segments) in one pass, for serial use.
-func (p *ccfPlan) propagate7(g [7][]float64, sg [][]float64, vs []float64) [7]float64 {
-	const nq = 7
-	buf := scratchPool.Get().(*[]float64)
-	if len(*buf) < p.npix*nq {
-		*buf = make([]float64, p.npix*nq)
-	}
-	h := (*buf)[:p.npix*nq]
-	sig2 := p.sig2()
-	var acc [7]float64
-	lo, hi := 1-p.h, 1+p.h
-	nk := len(p.dk)
-	gk := make([]float64, nk*nq)
-	nqTot := nq
-	if sg != nil {
-		nqTot = 6 // the last slot is flushed per segment
-	}
-	low := 0 // pixels below low are flushed
-	curSeg := -1
-	flushTo := func(x1 int) {
-		for x := low; x < x1; x++ {
-			hx := (*[nq]float64)(h[x*nq : x*nq+nq])
-			s2 := sig2[x]
-			for q := 0; q < nqTot; q++ {
-				acc[q] += s2 * hx[q] * hx[q]
-			}
-			if sg != nil && curSeg >= 0 {
-				vs[curSeg] += s2 * hx[6] * hx[6]
-			}
-			*hx = [nq]float64{}
-		}
-		if x1 > low {
-			low = x1
-		}
-	}
-	// flushSeg squares and clears the segment slot over [low, to).
-	flushSeg := func(to int) {
-		for x := low; x < to; x++ {
-			v := h[x*nq+6]
-			vs[curSeg] += sig2[x] * v * v
-			h[x*nq+6] = 0
-		}
-	}
-	segHi := 0
-	for _, pl := range p.places {
-		o := &p.orders[pl.order]
-		e, iw := o.edges, o.invw
-		off := o.offset
-		if int(pl.seg) != curSeg || curSeg < 0 {
-			if sg != nil && curSeg >= 0 {
-				flushSeg(segHi)
-			}
-			curSeg = int(pl.seg)
-			for k := 0; k < nk; k++ {
-				for q := 0; q < nq; q++ {
-					if g[q] != nil {
-						gk[k*nq+q] = g[q][k]
-					}
-				}
-				if sg != nil {
-					gk[k*nq+6] = sg[curSeg][k]
-				}
-			}
-		}
-		flushTo(off + int(pl.start))
-		w := pl.weight
-		x0 := int(pl.start)
-		for k, d := range p.dk {
-			a := pl.lambda * d * lo
-			b := pl.lambda * d * hi
-			for e[x0+1] <= a {
-				x0++
-			}
-			gq := (*[nq]float64)(gk[k*nq : k*nq+nq])
-			x := x0
-			for ; e[x] < b; x++ {
-				l, r := e[x], e[x+1]
-				if a > l {
-					l = a
-				}
-				if b < r {
-					r = b
-				}
-				t := w * (r - l) * iw[x]
-				hx := (*[nq]float64)(h[(off+x)*nq : (off+x)*nq+nq])
-				hx[0] += t * gq[0]
-				hx[1] += t * gq[1]
-				hx[2] += t * gq[2]
-				hx[3] += t * gq[3]
-				hx[4] += t * gq[4]
-				hx[5] += t * gq[5]
-				hx[6] += t * gq[6]
-			}
-			if off+x > segHi {
-				segHi = off + x
-			}
-		}
-	}
-	if sg != nil && curSeg >= 0 {
-		flushSeg(segHi)
-		curSeg = -1
-	}
-	flushTo(p.npix)
-	scratchPool.Put(buf)
-	return acc
+	return p.span
 }
 
 // propQ is the number of CCF quantities whose errors propagate computes.
 const propQ = 6
-
-var scratchPool = sync.Pool{New: func() any { return new([]float64) }}
 
 // sig2 returns the pixel variances in the global pixel numbering.
 func (p *ccfPlan) sig2() []float64 {

@@ -176,9 +176,13 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	if opts.CCF != nil && opts.CCF.ReadNoise > 0 {
 		rn = opts.CCF.ReadNoise
 	}
-	orders := prepareOrders(s, rn)
+	var orders []ccfOrder
 	if ccf != nil {
 		orders = ccf.plan.orders
+	} else {
+		var slab *[]float64
+		orders, slab = prepareOrdersPooled(s, rn)
+		defer releaseSlab(slab)
 	}
 	est := func(v, sg float64, e error) Estimate {
 		if e != nil {
