@@ -215,7 +215,7 @@ func BuildMask(spectra []*Spectrum, opts *MaskOptions) (*Mask, error) {
 		if id.problem != "" {
 			// Few laboratory lines, but the strongest broad ones may be
 			// there (spectra of invented lines plus the strong lines).
-			if id2 := identifyStrong(found, ref.Vacuum, medFWHM); id2.problem == "" {
+			if id2 := identifyStrong(ref, coadd, found); id2.problem == "" {
 				id = id2
 				build.StrongOnly = true
 			} else {
@@ -715,84 +715,190 @@ func envelope(wl, f []float64, w, q float64) []float64 {
 	return out
 }
 
-// identifyStrong matches the broad minima (FWHM at least twice the
-// median, depth at least 0.2) against StrongLabLines within ±600 km/s and
-// a tolerance of 5 km/s: at least 3 distinct lines must agree, and at
-// least 2 more than at any velocity further than 15 km/s away.
-func identifyStrong(found []maskLine, vacuum bool, fwhm float64) identification {
-	const vmax, tol = 600e3, 5e3
-	type pair struct {
-		lab int
-		u   float64
+// identifyStrong finds the velocity of the broad troughs of Ca II H and K
+// and the Balmer lines (of StrongLabLines) in the co-add by a
+// cross-correlation of its depth below a wide envelope (the 0.95 quantile
+// in 20 Å windows), 1 − f/envelope, with windows of ±100 km/s about each
+// line, over ±600 km/s in steps of 2 km/s. Troughs Ångströms wide dominate
+// it whatever narrow lines surround them, and an emission core, being
+// symmetric, does not move it. The peak must stand 5 robust standard
+// deviations (1.4826 × the median absolute deviation) above the median;
+// the velocity is the centroid of the peak above its half height, its
+// error the scatter of the same centroid line by line over the square root
+// of their number. The narrow strong lines (Na I D, Mg I b, Ca I 4227)
+// then refine it: when at least two minima within 20 km/s agree within
+// 3 km/s, their mean (and scatter) replace it.
+func identifyStrong(ref *Spectrum, coadd [][]float64, found []maskLine) identification {
+	const vmax, half, step = 600e3, 100e3, 2e3
+	type ordDepth struct {
+		lnw, cum []float64 // ln λ and the running sum of the depth
 	}
-	var pairs []pair
-	broad := 0
-	for _, l := range found {
-		if l.fwhm < 2*fwhm || l.depth < 0.2 {
-			continue
-		}
-		broad++
-		for li, sl := range StrongLabLines {
-			u := Velocity(l.lambda / onScale(sl.Air, false, vacuum))
-			if math.Abs(u) <= vmax {
-				pairs = append(pairs, pair{li, u})
+	var ods []ordDepth
+	for oi, ord := range ref.Orders {
+		f := coadd[oi]
+		// A wide envelope (20 Å windows), so that the broad troughs of
+		// Ca II H and K and the Balmer lines keep their depth.
+		cont := envelope(ord.Wavelength, f, 20.0, 0.95)
+		od := ordDepth{lnw: make([]float64, len(f)), cum: make([]float64, len(f)+1)}
+		for i, w := range ord.Wavelength {
+			od.lnw[i] = math.Log(w)
+			d := 0.0
+			if f[i] == f[i] && cont[i] > 0 {
+				d = math.Max(0, 1-f[i]/cont[i])
 			}
+			od.cum[i+1] = od.cum[i] + d
 		}
+		ods = append(ods, od)
 	}
-	count := func(v float64) (int, []float64) {
-		best := make([]float64, len(StrongLabLines))
-		for i := range best {
-			best[i] = math.NaN()
-		}
-		for _, p := range pairs {
-			if d := math.Abs(p.u - v); d <= tol && (math.IsNaN(best[p.lab]) || d < math.Abs(best[p.lab]-v)) {
-				best[p.lab] = p.u
+	// meanDepth is the mean depth over ln λ in [a, b], NaN when no order
+	// covers it.
+	meanDepth := func(a, b float64) float64 {
+		for _, od := range ods {
+			n := len(od.lnw)
+			if a < od.lnw[0] || b > od.lnw[n-1] {
+				continue
 			}
-		}
-		var us []float64
-		for _, u := range best {
-			if !math.IsNaN(u) {
-				us = append(us, u)
+			i0 := sort.SearchFloat64s(od.lnw, a)
+			i1 := sort.SearchFloat64s(od.lnw, b)
+			if i1 <= i0 {
+				return math.NaN()
 			}
+			return (od.cum[i1] - od.cum[i0]) / float64(i1-i0)
 		}
-		return len(us), us
+		return math.NaN()
 	}
-	bestN, bestV := 0, 0.0
-	for _, p := range pairs {
-		if n, _ := count(p.u); n > bestN {
-			bestN, bestV = n, p.u
+	nv := int(2*vmax/step) + 1
+	vel := make([]float64, nv)
+	for k := range vel {
+		vel[k] = -vmax + float64(k)*step
+	}
+	// Lines covered over the whole search range.
+	var lab []float64
+	for _, sl := range StrongLabLines {
+		if sl.Species != "Ca II" && sl.Species != "H I" {
+			continue // the broad troughs only
+		}
+		ln := math.Log(onScale(sl.Air, false, ref.Vacuum))
+		if !math.IsNaN(meanDepth(ln+LogDopplerFactor(-vmax-half), ln+LogDopplerFactor(-vmax+half))) &&
+			!math.IsNaN(meanDepth(ln+LogDopplerFactor(vmax-half), ln+LogDopplerFactor(vmax+half))) {
+			lab = append(lab, ln)
 		}
 	}
-	second := 0
-	for _, p := range pairs {
-		if math.Abs(p.u-bestV) > 3*tol {
-			if n, _ := count(p.u); n > second {
-				second = n
-			}
-		}
-	}
-	id := identification{candidates: len(StrongLabLines)}
-	if bestN < 3 || bestN < second+2 {
-		id.problem = fmt.Sprintf("nor do the %d broad minima match the strong lines (Ca II H and K, Balmer, Mg I b, Na I D) at one velocity (best %d lines, next best %d)", broad, bestN, second)
+	id := identification{candidates: len(lab)}
+	if len(lab) < 2 {
+		id.problem = fmt.Sprintf("nor do the spectra cover enough of the broad troughs (Ca II H and K, Balmer): %d", len(lab))
 		return id
 	}
-	_, us := count(bestV)
-	// Recentre once on the mean of the matches.
-	var m float64
-	for _, u := range us {
-		m += u
+	perLine := make([][]float64, len(lab))
+	total := make([]float64, nv)
+	for li, ln := range lab {
+		perLine[li] = make([]float64, nv)
+		for k, v := range vel {
+			c := ln + LogDopplerFactor(v)
+			d := meanDepth(c-half/C, c+half/C)
+			perLine[li][k] = d
+			total[k] += d
+		}
 	}
-	_, us = count(m / float64(len(us)))
-	m = 0
-	for _, u := range us {
-		m += u
+	centroid := func(y []float64, near int) (float64, bool) {
+		med := quickMedian(y)
+		peak := near
+		for k := max(0, near-5); k < min(nv, near+6); k++ {
+			if y[k] > y[peak] {
+				peak = k
+			}
+		}
+		lim := 0.5 * (y[peak] + med)
+		var sw, sv float64
+		for k := peak; k >= 0 && y[k] > lim; k-- {
+			sw += y[k] - lim
+			sv += (y[k] - lim) * vel[k]
+		}
+		for k := peak + 1; k < nv && y[k] > lim; k++ {
+			sw += y[k] - lim
+			sv += (y[k] - lim) * vel[k]
+		}
+		if !(sw > 0) {
+			return 0, false
+		}
+		return sv / sw, true
 	}
-	m /= float64(len(us))
-	var s2 float64
-	for _, u := range us {
-		s2 += (u - m) * (u - m)
+	best := 0
+	for k := range total {
+		if total[k] > total[best] {
+			best = k
+		}
 	}
-	id.v, id.n = m, len(us)
-	id.sigma = math.Sqrt(s2 / float64(len(us)-1) / float64(len(us)))
+	med := quickMedian(total)
+	dev := make([]float64, nv)
+	for k, t := range total {
+		dev[k] = math.Abs(t - med)
+	}
+	rsd := 1.4826 * quickMedian(dev)
+	if !(total[best]-med > 5*rsd) {
+		id.problem = fmt.Sprintf("nor does the depth of the %d broad troughs (Ca II H and K, Balmer) peak clearly at one velocity (best %+.0f km/s, %.1f robust standard deviations)", len(lab), vel[best]/1e3, (total[best]-med)/rsd)
+		return id
+	}
+	v, ok := centroid(total, best)
+	if !ok {
+		id.problem = "the strong lines' depth has no clear peak"
+		return id
+	}
+	var us []float64
+	for _, y := range perLine {
+		if u, ok := centroid(y, best); ok && math.Abs(u-v) < half {
+			us = append(us, u)
+		}
+	}
+	// Refine with the narrow strong lines (Na I D, Mg I b, Ca I 4227): the
+	// minima within 20 km/s of the troughs' velocity; when at least two
+	// agree within 3 km/s of their median, their mean is the velocity.
+	var narrow []float64
+	for _, sl := range StrongLabLines {
+		if sl.Species == "Ca II" || sl.Species == "H I" {
+			continue
+		}
+		lab := onScale(sl.Air, false, ref.Vacuum)
+		bestU := math.NaN()
+		for _, l := range found {
+			u := Velocity(l.lambda / lab)
+			if math.Abs(u-v) < 20e3 && (math.IsNaN(bestU) || math.Abs(u-v) < math.Abs(bestU-v)) {
+				bestU = u
+			}
+		}
+		if !math.IsNaN(bestU) {
+			narrow = append(narrow, bestU)
+		}
+	}
+	if len(narrow) >= 2 {
+		m := quickMedian(narrow)
+		var agree []float64
+		for _, u := range narrow {
+			if math.Abs(u-m) <= 3e3 {
+				agree = append(agree, u)
+			}
+		}
+		if len(agree) >= 2 {
+			us = agree
+			v = 0
+			for _, u := range us {
+				v += u
+			}
+			v /= float64(len(us))
+		}
+	}
+	id.v, id.n = v, len(us)
+	id.sigma = math.NaN()
+	if len(us) >= 2 {
+		var m, s2 float64
+		for _, u := range us {
+			m += u
+		}
+		m /= float64(len(us))
+		for _, u := range us {
+			s2 += (u - m) * (u - m)
+		}
+		id.sigma = math.Sqrt(s2 / float64(len(us)-1) / float64(len(us)))
+	}
 	return id
 }

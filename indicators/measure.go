@@ -123,11 +123,12 @@ type OrderRV struct {
 // bands are moved by the star's velocity in the spectrum's frame, the CCF
 // velocity against m's rest wavelengths, whatever the systemic velocity and
 // the barycentric correction. Each index checks that its bands sit on the
-// lines: the deepest point of the flux, averaged over a box as wide as the
-// tolerance below, within ±3 Å of each line centre — Ca II K and H, Na I D2 and D1, H-alpha — must fall
-// inside the line's band (±0.6, ±0.25 and ±0.8 Å); a line that does not is
-// named in Result.Warnings with its offset (a wrong systemic velocity or
-// wavelength scale, or, for H-alpha, a line in emission). With a mask that
+// lines: the centre of each line (see checkBands: by symmetry for the
+// broad lines, the deepest point for Na D) — Ca II K and H, Na I D2 and
+// D1, H-alpha — must fall within ±0.6, ±0.25
+// and ±0.8 Å of its band's centre; a line that does not is named in
+// Result.Warnings with its offset (a wrong systemic velocity or wavelength
+// scale). With a mask that
 // has no rest frame (Mask.Relative) the indices are not measured: their
 // errors wrap ErrNoZeroPoint.
 //
@@ -445,28 +446,37 @@ func (g GaussianFit) PhotonLimit(v, variance []float64, oversampling float64) fl
 }
 
 // bandLines are the line cores checkBands looks for: the laboratory air
-// wavelength (as the bands use), the tolerance in Å and the index.
+// wavelength (as the bands use), the tolerance and, for the broad lines
+// whose centre is found by symmetry, the half-width of the profile compared
+// with its mirror image, in Å (0: the deepest point instead).
 var bandLines = []struct {
-	name, index string
-	air, tol    float64
+	name, index   string
+	air, tol, win float64
 }{
-	{"Ca II K", "S-index", BandCaK.Center, 0.6},
-	{"Ca II H", "S-index", BandCaH.Center, 0.6},
-	{"Na I D2", "Na D", BandNaD2.Center, 0.25},
-	{"Na I D1", "Na D", BandNaD1.Center, 0.25},
-	{"H-alpha", "H-alpha", BandHAlpha.Center, 0.8},
+	{"Ca II K", "S-index", BandCaK.Center, 0.6, 1.5},
+	{"Ca II H", "S-index", BandCaH.Center, 0.6, 1.5},
+	{"Na I D2", "Na D", BandNaD2.Center, 0.25, 0},
+	{"Na I D1", "Na D", BandNaD1.Center, 0.25, 0},
+	{"H-alpha", "H-alpha", BandHAlpha.Center, 0.8, 1.2},
 }
 
-// checkBands returns a warning for each index line whose core (the deepest
-// point of the running mean of the flux over a box as wide as the
-// tolerance, within ±3 Å of the expected centre) lies outside the
-// tolerance; lines the spectrum does not cover are not checked.
+// checkBands returns a warning for each index line whose centre lies
+// farther from the band centre than the line's tolerance; lines the
+// spectrum does not cover are not checked. The flux is resampled (linearly
+// between pixel centres) on a grid of half the mean pixel width within
+// ±(2 Å + half-width) of the expected centre c. For the broad lines (Ca II
+// H and K, H-alpha) the centre is where the profile best matches its
+// mirror image, the c' within ±2 Å of c that minimises
+// Σ_u (F(c' + u) − F(c' − u))² over 0 < u ≤ the half-width, which an
+// emission core, being symmetric, does not move; for Na D it is the
+// deepest point of the flux averaged over 0.25 Å.
 func checkBands(s *Spectrum, orders []ccfOrder, rv float64) []string {
 	var out []string
 	d := DopplerFactor(rv)
 	for _, bl := range bandLines {
 		c := onScale(bl.air, false, s.Vacuum) * d
-		lo, hi := c-3, c+3
+		reach := 2 + math.Max(bl.win, 0.125)
+		lo, hi := c-reach, c+reach
 		best := -1
 		for i, o := range orders {
 			e := o.edges
@@ -478,31 +488,63 @@ func checkBands(s *Spectrum, orders []ccfOrder, rv float64) []string {
 			continue
 		}
 		o := orders[best]
-		x0 := searchEdges(o.edges, lo)
-		x1 := searchEdges(o.edges, hi)
+		e, f := o.edges, o.flux
+		x0 := searchEdges(e, lo)
+		x1 := searchEdges(e, hi)
 		if x1-x0 < 8 {
 			continue
 		}
-		// Running mean over a box as wide as the tolerance: narrow
-		// blends and an emission core narrower than the band do not move
-		// the minimum of the line's trough.
-		cum := make([]float64, x1-x0+2)
-		for x := x0; x <= x1; x++ {
-			cum[x-x0+1] = cum[x-x0] + o.flux[x]
+		g := (hi - lo) / float64(x1-x0+1) / 2 // grid step, Å
+		if g > bl.tol/4 {
+			continue // too coarse to tell
 		}
-		h := max(1, int(0.5*bl.tol*float64(x1-x0)/(hi-lo)))
-		imin, fmin := -1, math.Inf(1)
-		for x := x0 + h; x <= x1-h; x++ {
-			if f := cum[x-x0+h+1] - cum[x-x0-h]; f < fmin {
-				imin, fmin = x, f
+		n := int((hi-lo)/g) + 1
+		grid := make([]float64, n)
+		x := max(x0, 1)
+		for i := range grid {
+			w := lo + float64(i)*g
+			for x+1 < len(f)-1 && 0.5*(e[x+1]+e[x+2]) < w {
+				x++
+			}
+			for x > 0 && 0.5*(e[x]+e[x+1]) > w {
+				x--
+			}
+			m0, m1 := 0.5*(e[x]+e[x+1]), 0.5*(e[x+1]+e[x+2])
+			t := (w - m0) / (m1 - m0)
+			grid[i] = f[x] + t*(f[x+1]-f[x])
+		}
+		i0 := int((c - 2 - lo) / g)
+		i1 := int((c + 2 - lo) / g)
+		bestI, bestV := -1, math.Inf(1)
+		if bl.win > 0 {
+			nu := int(bl.win / g)
+			for i := max(i0, nu); i <= min(i1, n-1-nu); i++ {
+				var a float64
+				for k := 1; k <= nu; k++ {
+					diff := grid[i+k] - grid[i-k]
+					a += diff * diff
+				}
+				if a < bestV {
+					bestI, bestV = i, a
+				}
+			}
+		} else {
+			h := max(1, int(0.125/g))
+			for i := max(i0, h); i <= min(i1, n-1-h); i++ {
+				var a float64
+				for k := -h; k <= h; k++ {
+					a += grid[i+k]
+				}
+				if a < bestV {
+					bestI, bestV = i, a
+				}
 			}
 		}
-		if imin < 0 {
+		if bestI < 0 {
 			continue
 		}
-		at := 0.5 * (o.edges[imin] + o.edges[imin+1])
-		if off := at - c; math.Abs(off) > bl.tol {
-			out = append(out, fmt.Sprintf("%s: %s band off the line: the line core lies %+.2f Å (%+.0f km/s) from the band centre at %.3f Å; the star's velocity, the mask's rest frame or the wavelength scale may be wrong", bl.index, bl.name, off, C*off/c/1e3, c))
+		if off := lo + float64(bestI)*g - c; math.Abs(off) > bl.tol {
+			out = append(out, fmt.Sprintf("%s: %s band off the line: the line centre lies %+.2f Å (%+.0f km/s) from the band centre at %.3f Å; the star's velocity, the mask's rest frame or the wavelength scale may be wrong", bl.index, bl.name, off, C*off/c/1e3, c))
 		}
 	}
 	return out

@@ -156,7 +156,7 @@ func reportMeasure(e *env, rep *activity.MeasureReport, quiet bool) {
 		case indicators.ZeroLabLines:
 			what := fmt.Sprintf("%d of %d laboratory lines", b.Identified, b.Candidates)
 			if b.StrongOnly {
-				what = fmt.Sprintf("%d strong lines (Ca II, Balmer, Mg I b, Na I D) only", b.Identified)
+				what = fmt.Sprintf("the strong lines only (broad Ca II and Balmer troughs, then Na I D, Mg I b, Ca I; %d lines in the final estimate)", b.Identified)
 			}
 			fmt.Fprintf(e.stderr, "spotsift: mask of %d lines from %d spectra (%s); systemic velocity %+.3f ± %.3f km/s from %s (about 0.5 km/s systematic)\n",
 				m.Len(), len(b.Spectra), scale, b.Systemic/1e3, b.SystemicSigma/1e3, what)
