@@ -82,7 +82,11 @@ CREATE TABLE signals (
   verdict       TEXT NOT NULL,          -- planet-like, activity-like, inconclusive
   score         REAL,                   -- in [-1, 1], positive toward activity
   coverage      REAL,                   -- fraction of the test weight that ran
-  summary       TEXT
+  summary       TEXT,
+  probability   REAL,                   -- calibrated P(planetary), from the score
+  fap_correlated REAL,                  -- false-alarm probability with the red-noise factor
+  caveat        TEXT,                   -- why it cannot be planet-like, if it cannot
+  related_to    TEXT                    -- the stronger signal it is an alias or harmonic of
 );
 CREATE TABLE evidence (
   evidence_id INTEGER PRIMARY KEY,
@@ -176,7 +180,7 @@ func writeCatalogue(path string, recs []record, runs []RunRecord) (err error) {
 	if err != nil {
 		return err
 	}
-	insSig, err := tx.Prepare(`INSERT INTO signals VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`)
+	insSig, err := tx.Prepare(`INSERT INTO signals VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`)
 	if err != nil {
 		return err
 	}
@@ -224,7 +228,8 @@ func writeCatalogue(path string, recs []record, runs []RunRecord) (err error) {
 			sigID++
 			_, err = insSig.Exec(sigID, starID, k+1, num(float64(s.Period)), num(float64(s.Freq)), s.Source, num(float64(s.Power)),
 				num(float64(s.FAP)), num(float64(s.Amplitude)), num(float64(s.AmplitudeErr)), num(float64(s.Period)/rotP),
-				s.Verdict, num(s.Score), num(s.Coverage), nullText(s.Summary))
+				s.Verdict, num(s.Score), num(s.Coverage), nullText(s.Summary),
+				num(float64(s.Probability)), num(float64(s.FAPCorrelated)), nullText(s.Caveat), nullText(s.RelatedTo))
 			if err != nil {
 				return fmt.Errorf("survey: catalogue star %q signal %d: %w", r.Name, k+1, err)
 			}
