@@ -145,6 +145,16 @@ func (tr *trial) rotationMatch() {
 				match, matchD, matchTol = &hh, dist, tol
 			}
 		}
+		if hy.Why == relationsOnly {
+			// The rotation is not measured: the relations' prediction is
+			// all there is, and a signal within twice its scatter of it,
+			// or of its half, may be the rotation.
+			for _, n := range []float64{1, 2} {
+				if math.Abs(math.Log(n/(prot*tr.f))) <= 2*perr/prot {
+					tr.caveat = fmt.Sprintf("the rotation period is not measured, and the signal lies within twice the scatter of the activity-rotation relations' prediction (%.3g d ± %.0f%%) or its half", prot, 100*perr/prot)
+				}
+			}
+		}
 		lbl := fmt.Sprintf("P_rot = %.4g ± %.2g d", prot, perr)
 		if len(hyps) > 1 {
 			lbl = fmt.Sprintf("P_rot = %.4g ± %.2g d (share %.0f%%)", prot, perr, 100*hy.Share)
@@ -167,7 +177,7 @@ func (tr *trial) rotationMatch() {
 			// to nightly data: any of them bars a planet-like verdict.
 			// (A 1-year alias lies within the error of most rotation
 			// periods and weighs by its window only.)
-			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 && ww >= 0.5 {
+			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 {
 				tr.strongRotation = true
 				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
 			}

@@ -180,7 +180,13 @@ func Score(sig *Signal, opts *Options) {
 	total := w.totalWeight()
 	sig.Score = sum / total
 	sig.Coverage = cov / total
-	sig.Probability = Num(o.Probability.of(sig.Score))
+	// A signal with a caveat cannot be planet-like: its planet-side
+	// evidence is set aside in its probability too.
+	if sig.Caveat != "" {
+		sig.Probability = Num(o.Probability.of(math.Max(sig.Score, 0)))
+	} else {
+		sig.Probability = Num(o.Probability.of(sig.Score))
+	}
 	thr := o.VerdictThreshold
 	blocked := sig.Caveat != ""
 	switch {
@@ -256,8 +262,9 @@ type Logistic struct {
 	A, B float64
 }
 
-// The calibrated mapping (see TestCalibration).
-const defaultLogisticA, defaultLogisticB = 0.35, 9.5
+// The calibrated mapping: fitted by FitLogistic to the signals of the
+// training seeds (TestCalibration prints the fit beside these values).
+const defaultLogisticA, defaultLogisticB = 0.21, 7.9
 
 // of returns the probability of score s.
 func (l Logistic) of(s float64) float64 {
