@@ -184,3 +184,14 @@ func TestFitGPActivityMulti(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkFitGPActivityMulti times a whole MAP fit (6 starts, Laplace) of
+// the multi-output model to RV + 2 indicators on 150 epochs.
+func BenchmarkFitGPActivityMulti(b *testing.B) {
+	s := multiStar(17, 150, 200, 17)
+	for b.Loop() {
+		if _, err := FitGPActivity(s, &GPActivityOptions{Model: GPMulti, Workers: 1}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

@@ -121,7 +121,7 @@ func MAP(lnPost func(p []float64) float64, p0 []float64, positive []bool, s *Fit
 		return res, nil
 	}
 	fit, err := mapfit.Fit(&mapfit.Problem{Space: sp, LogPost: post, Starts: [][]float64{x0}},
-		&mapfit.Settings{MaxEvaluations: set.MaxEvaluations, Workers: 1, NoLaplace: set.NoUncertainty})
+		&mapfit.Settings{MaxEvaluations: set.MaxEvaluations, Workers: 1, NoLaplace: set.NoUncertainty, NaturalMAP: true})
 	if err != nil {
 		return nil, fmt.Errorf("%w: %v", ErrFit, err)
 	}

@@ -34,22 +34,9 @@ func TestMAPGaussian(t *testing.T) {
 	// Precision matrix of (z0, z1) is [[1, 0.3], [0.3, 1]]: the marginal
 	// sd of z0 and z1 is 1/sqrt(1 − 0.09) [analytic].
 	wantSD := []float64{sd[0] / math.Sqrt(0.91), sd[1] / math.Sqrt(0.91), sd[2]}
-	// The positive parameters are fitted in ln p, and the optimum is that
-	// of the density of ln p: lnp + ln p0 + ln p2 is stationary there
-	// (about σ²/μ from μ, 1.3% and 1% here).
-	obj := func(q []float64) float64 { return lnp(q) + math.Log(q[0]) + math.Log(q[2]) }
 	for i := range mu {
-		q := append([]float64(nil), res.Params...)
-		h := 1e-6
-		q[i] += h
-		fp := obj(q)
-		q[i] -= 2 * h
-		fm := obj(q)
-		if g := (fp - fm) / (2 * h); math.Abs(g*sd[i]) > 1e-4 {
-			t.Errorf("p[%d] = %.8g: gradient of the ln-p posterior %.3g", i, res.Params[i], g)
-		}
-		if math.Abs(res.Params[i]-mu[i]) > 0.2*sd[i] {
-			t.Errorf("p[%d] = %.8g, want %g within 0.2σ", i, res.Params[i], mu[i])
+		if math.Abs(res.Params[i]-mu[i]) > 1e-4*sd[i]*10 {
+			t.Errorf("p[%d] = %.8g, want %g", i, res.Params[i], mu[i])
 		}
 		// The Laplace approximation is taken in the fitted coordinates (ln p
 		// for the positive parameters 0 and 2): exact for parameter 1, and

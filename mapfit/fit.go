@@ -28,6 +28,8 @@ type Problem struct {
 	Grad func(grad, x []float64) float64
 	// Starts are the starting points in natural parameters (at least one).
 	Starts [][]float64
+
+	natural bool // Settings.NaturalMAP of the current fit
 }
 
 // Settings controls Fit. A nil *Settings means the defaults.
@@ -47,6 +49,10 @@ type Settings struct {
 	AgreeTol float64
 	// NoLaplace skips the Laplace step.
 	NoLaplace bool
+	// NaturalMAP maximises the posterior of the natural parameters
+	// themselves, scales included (by default a scale's optimum is that of
+	// ln x; see Fit). For callers whose priors are flat in x.
+	NaturalMAP bool
 }
 
 // StartResult is the outcome of one start.
@@ -133,6 +139,9 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	if err := p.Space.Validate(); err != nil {
 		return nil, err
 	}
+	pc := *p
+	pc.natural = s.NaturalMAP
+	p = &pc
 	d := len(p.Space)
 	if len(p.Starts) == 0 {
 		return nil, fmt.Errorf("%w: no starting point", ErrSpace)
@@ -218,7 +227,7 @@ func (p *Problem) objective(u []float64, withJac bool) float64 {
 	if withJac {
 		_, lj := p.Space.jacobian(u)
 		v += lj
-	} else {
+	} else if !p.natural {
 		v += p.Space.logScale(x)
 	}
 	return -v
@@ -248,7 +257,7 @@ func (p *Problem) gradU(g, u []float64, withJac bool) float64 {
 		return math.Inf(1)
 	}
 	J, lj := p.Space.jacobian(u)
-	if !withJac {
+	if !withJac && !p.natural {
 		for i, q := range p.Space {
 			if q.Kind == Positive || q.Kind == LogBounded {
 				gx[i] += 1 / x[i]
@@ -306,37 +315,16 @@ func (p *Problem) run(u0 []float64, s *Settings) StartResult {
 	u := append([]float64(nil), u0...)
 	fu := f(u)
 	if s.NelderMead {
+		// Quasi-Newton first, so that the simplex starts in the start's own
+		// basin and can only improve on its optimum.
+		u, fu, _, _ = p.bfgs(u, fu, f, &evals, s.MaxEvaluations/4)
 		pr := optimize.Problem{Func: f}
-		st := &optimize.Settings{FuncEvaluations: s.MaxEvaluations / 2, Converger: &optimize.FunctionConverge{Absolute: 1e-8, Relative: 1e-10, Iterations: 50 * len(u)}}
+		st := &optimize.Settings{FuncEvaluations: s.MaxEvaluations / 4, Converger: &optimize.FunctionConverge{Absolute: 1e-8, Relative: 1e-10, Iterations: 50 * len(u)}}
 		if r, err := optimize.Minimize(pr, u, st, &optimize.NelderMead{}); r != nil && r.X != nil && r.F < fu && (err == nil || !math.IsInf(r.F, 1)) {
 			u, fu = append([]float64(nil), r.X...), r.F
 		}
 	}
-	pr := optimize.Problem{
-		Func: f,
-		Grad: func(g, x []float64) {
-			if p.Grad == nil {
-				evals += 2 * len(x)
-			} else {
-				evals++
-			}
-			p.gradU(g, x, false)
-		},
-	}
-	left := s.MaxEvaluations - evals
-	st := &optimize.Settings{
-		FuncEvaluations:   max(left, 50),
-		GradientThreshold: 1e-6,
-		Converger:         &optimize.FunctionConverge{Absolute: 1e-9, Relative: 1e-12, Iterations: 20},
-	}
-	r, err := optimize.Minimize(pr, u, st, &optimize.BFGS{})
-	status := optimize.Failure
-	if r != nil {
-		status = r.Status
-		if r.X != nil && r.F <= fu && !math.IsNaN(r.F) {
-			u, fu = r.X, r.F
-		}
-	}
+	u, fu, status, err := p.bfgs(u, fu, f, &evals, s.MaxEvaluations-evals)
 	// A line-search failure right at a stationary point (fd noise) is a
 	// convergence: check the gradient directly.
 	conv := converged(status)
@@ -359,4 +347,53 @@ func (p *Problem) run(u0 []float64, s *Settings) StartResult {
 	out.Converged = conv
 	out.Evaluations = evals
 	return out
+}
+
+// bfgs runs gonum's BFGS from u (objective fu) within maxEval evaluations
+// and returns the better of u and its result. BFGS sees v = u/bfgsStep:
+// gonum takes a first step of unit length along the steepest descent, and
+// in v that is a change of bfgsStep in u, which keeps the first step
+// inside the start's basin (a factor e in a scale would jump to a
+// harmonic of a period); later steps are quasi-Newton and scale-free.
+func (p *Problem) bfgs(u []float64, fu float64, f func([]float64) float64, evals *int, maxEval int) ([]float64, float64, optimize.Status, error) {
+	const bfgsStep = 0.1
+	toU := func(v []float64) []float64 {
+		w := make([]float64, len(v))
+		for i := range v {
+			w[i] = bfgsStep * v[i]
+		}
+		return w
+	}
+	pr := optimize.Problem{
+		Func: func(v []float64) float64 { return f(toU(v)) },
+		Grad: func(g, v []float64) {
+			if p.Grad == nil {
+				*evals += 2 * len(v)
+			} else {
+				*evals++
+			}
+			p.gradU(g, toU(v), false)
+			for i := range g {
+				g[i] *= bfgsStep
+			}
+		},
+	}
+	st := &optimize.Settings{
+		FuncEvaluations:   max(maxEval, 50),
+		GradientThreshold: 1e-6 * bfgsStep,
+		Converger:         &optimize.FunctionConverge{Absolute: 1e-9, Relative: 1e-12, Iterations: 20},
+	}
+	v0 := make([]float64, len(u))
+	for i := range u {
+		v0[i] = u[i] / bfgsStep
+	}
+	r, err := optimize.Minimize(pr, v0, st, &optimize.BFGS{})
+	status := optimize.Failure
+	if r != nil {
+		status = r.Status
+		if r.X != nil && r.F <= fu && !math.IsNaN(r.F) {
+			u, fu = toU(r.X), r.F
+		}
+	}
+	return u, fu, status, err
 }
