@@ -24,8 +24,10 @@ type Estimate struct {
 	Period float64 `json:"period"`
 	Err    float64 `json:"err"`
 	// Detected is whether the method sees a rotation signal by its own
-	// criterion (GLS: false-alarm probability below 10⁻³; ACF: local peak
-	// height above 0.1; GP: a converged fit whose amplitude is significant).
+	// criterion (GLS: false-alarm probability below 10⁻³ and the peak 20
+	// times the median power around it; ACF: local peak height above 0.1
+	// and, where the ACF is long enough, a second peak at twice the lag;
+	// GP: a fit whose amplitude is significant).
 	Detected bool `json:"detected"`
 	// Note says what the criterion gave (the FAP, the peak height...).
 	Note string `json:"note,omitempty"`
@@ -69,8 +71,18 @@ type RotationOptions struct {
 }
 
 // glsFAP is the false-alarm probability below which a GLS peak is a
-// detection (common practice).
-const glsFAP = 1e-3
+// detection (common practice), and glsPeakOverBackground how far it must
+// stand above the median power around it.
+const (
+	glsFAP                = 1e-3
+	glsPeakOverBackground = 20
+)
+
+// background returns the median GLS power between frequencies f/2 and 2f.
+func background(pow []float64, g rvfit.Grid, f float64) float64 {
+	lo, hi := g.Index(f/2), g.Index(2*f)
+	return median(pow[lo : hi+1])
+}
 
 // EstimateRotation measures the rotation period of a light curve by three
 // methods — the GLS periodogram (Zechmeister & Kürster 2009, one offset
@@ -134,8 +146,15 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 		}
 		sf := math.Max(0.5*float64(hi-lo)*g.DF, g.DF)
 		est.Period, est.Err = 1/f, sf/(f*f)
-		est.Detected = fap < glsFAP
-		est.Note = fmt.Sprintf("false-alarm probability %.2g", fap)
+		// The false-alarm probability assumes white noise; granulation and
+		// other red noise raise the whole low-frequency periodogram, so the
+		// peak must also stand above its surroundings: at least 20 times
+		// the median power between half and twice its period (a χ²₂ power
+		// exceeds 20 times its median with probability 2⁻²⁰; common
+		// practice for peaks over a background).
+		bg := background(pg.Power, g, f)
+		est.Detected = fap < glsFAP && pg.Power[k] >= glsPeakOverBackground*bg
+		est.Note = fmt.Sprintf("false-alarm probability %.2g, peak %.0f times the median power around it", fap, pg.Power[k]/bg)
 	} else {
 		est.Note = err.Error()
 	}
@@ -151,7 +170,9 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 	rot.ACF = acf
 	ae := Estimate{Method: MethodACF, Period: acf.Period, Err: acf.Err}
 	if !math.IsNaN(acf.Period) {
-		ae.Detected = acf.Period <= o.PMax*1.1
+		// A rotation repeats: where the ACF reaches 2.5 periods, a second
+		// peak at about twice the period is required too.
+		ae.Detected = acf.Period <= o.PMax*1.1 && (len(acf.Peaks) >= 2 || acf.Lag[len(acf.Lag)-1] < 2.5*acf.Period)
 		ae.Note = fmt.Sprintf("local peak height %.2f, %d peaks, %.0f%% of the grid filled", acf.Height, len(acf.Peaks), 100*acf.Fill)
 		if acf.Harmonic {
 			ae.Note += "; the second peak is higher: two dips per turn"
