@@ -258,7 +258,7 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 		if !orb.HessianOK || orb.Draws == 0 {
 			how = "errors not available: the fit's Hessian is not positive definite"
 		}
-		ov.Stats = fmt.Sprintf("Maximum a posteriori fit of %s with one offset and one jitter per instrument (white noise), %d epochs; residual rms %s m/s, ln L = %s, BIC = %s; %s.",
+		ov.Stats = fmt.Sprintf("Maximum a posteriori fit of %s with one offset and one jitter per instrument (white noise) and the eccentricity prior of Kipping (2013), %d epochs; residual rms %s m/s, ln L = %s, BIC = %s; %s.",
 			plural(len(orb.Planets), "Keplerian", "Keplerians"), orb.NObs, fmtSig(orb.ResidualRMS, 3), fmtSig(orb.LogLikelihood, 6), fmtSig(orb.BIC, 6), how)
 		if len(orb.Removed) > 0 {
 			var names []string

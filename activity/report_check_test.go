@@ -183,3 +183,45 @@ func TestPDFFirstPage(t *testing.T) {
 		}
 	}
 }
+
+// TestReportLabelsVisible gives the star, an instrument and an indicator
+// names with bidirectional and invisible characters and invalid UTF-8:
+// report.html and every SVG figure must show them escaped visibly, never
+// raw (display spoofing).
+func TestReportLabelsVisible(t *testing.T) {
+	s := synth(41, 1.0, sine(5, 7.3, 0.4), map[string]func(float64) float64{"fw\u200Bhm": noise}, map[string]float64{"fw\u200Bhm": 2})
+	for i := range s.Instrument {
+		if i%2 == 0 {
+			s.Instrument[i] = "A\u2067B\xff"
+		}
+	}
+	star := &Star{Name: "gnp\u202Eexe.png", RotationPeriod: 25, RotationPeriodErr: 2}
+	dg, err := Diagnose(context.Background(), s, &Options{Star: star, Seed: 41, SkipModels: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	if err := WriteReport(dir, &Report{Diagnosis: dg, Series: s, Star: star}); err != nil {
+		t.Fatal(err)
+	}
+	files, _ := filepath.Glob(filepath.Join(dir, FiguresDir, "*.svg"))
+	files = append(files, filepath.Join(dir, HTMLFile))
+	for _, f := range files {
+		b, err := os.ReadFile(f)
+		if err != nil {
+			t.Fatal(err)
+		}
+		txt := string(b)
+		for _, raw := range []string{"\u202E", "\u2067", "\u200B", "\xff"} {
+			if strings.Contains(txt, raw) {
+				t.Errorf("%s holds the raw character %+q", filepath.Base(f), raw)
+			}
+		}
+	}
+	html, _ := os.ReadFile(filepath.Join(dir, HTMLFile))
+	for _, want := range []string{`gnp\u{202E}exe.png`, `A\u{2067}B\xFF`, `fw\u{200B}hm`} {
+		if !strings.Contains(string(html), want) {
+			t.Errorf("report.html does not show %s", want)
+		}
+	}
+}
