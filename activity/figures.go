@@ -595,7 +595,7 @@ func (z *zeroPoints) offsetText() string {
 	var parts []string
 	for k, in := range z.insts {
 		if k < len(z.rv) {
-			parts = append(parts, fmt.Sprintf("%s %s m/s", VisibleText(in), fmtSig(z.rv[k], 4)))
+			parts = append(parts, fmt.Sprintf("%s %s m/s", VisibleText(in), roundTo(z.rv[k], 1)))
 		}
 	}
 	return strings.Join(parts, ", ")
@@ -821,6 +821,11 @@ func powerPanel(name string, periods, pow []float64, pg *rvfit.Periodogram, g rv
 func fullResiduals(s *rvfit.Series, dg *Diagnosis) ([]float64, string) {
 	if dg.details == nil || len(dg.Signals) == 0 {
 		return nil, ""
+	}
+	for k := range dg.details.signals {
+		if w := dg.details.signals[k].multi; w != nil && len(w.Residuals) == s.Len() {
+			return w.Residuals, fmt.Sprintf("the offsets, every signal's sinusoid and the multi-output GP activity model fitted with S%d", k+1)
+		}
 	}
 	for k := range dg.details.signals {
 		det := &dg.details.signals[k]

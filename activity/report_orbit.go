@@ -257,6 +257,33 @@ func activityModel(dg *Diagnosis, insts []string) []activityRow {
 	if dg.details == nil {
 		return rows
 	}
+	// The multi-output GP of the whole-model comparison, when it ran: the
+	// model the evidence used, with Laplace errors.
+	for k := range dg.details.signals {
+		w := dg.details.signals[k].multi
+		if w == nil {
+			continue
+		}
+		rows = append(rows, activityRow{"GP model", "multi-output", fmt.Sprintf("RVs and indicators share one latent activity process; fitted with S%d's sinusoid; ln L = %s", k+1, fmtSig(w.LogLikelihood, 6))},
+			activityRow{"GP rotation period (d)", fmtValErr(w.Rotation, w.RotationErr), "Laplace error"})
+		for i, name := range w.Names {
+			if i >= len(w.Params) {
+				break
+			}
+			e := math.NaN()
+			if i < len(w.Errors) {
+				e = w.Errors[i]
+			}
+			note := "Laplace error"
+			if i < len(w.AtBound) && w.AtBound[i] != "" {
+				note = "at its " + w.AtBound[i] + " of the prior: error not estimated"
+			} else if !(e > 0) {
+				note = "error not estimated"
+			}
+			rows = append(rows, activityRow{VisibleText(name), fmtValErr(w.Params[i], e), note})
+		}
+		return rows
+	}
 	for k := range dg.details.signals {
 		det := &dg.details.signals[k]
 		r := det.gpFit

@@ -738,6 +738,7 @@ func (tr *trial) modelComparison() {
 	// indicators allow it.
 	if !free && !d.opts.SingleOutput && d.ctx.Err() == nil {
 		if w0, w1, ok := tr.multiComparison(prot, perr); ok {
+			tr.det.multi = w1
 			dlnL = w1.LogLikelihood - w0.LogLikelihood
 			dBIC = w1.BIC - w0.BIC
 			if d.opts.Periods == nil {

@@ -232,6 +232,9 @@ type signalDetails struct {
 	stacked *stackedCurve
 	gp      *gpModel  // GP + sinusoid model of the model comparison, nil if not run
 	gpFit   *gpResult // its MAP
+	// multi is the multi-output GP with the sinusoid of the whole-model
+	// comparison (RVs and indicators), nil when it did not run.
+	multi *GPActivityFit
 }
 
 // seasonPoint is the signal fitted in one season (or half).
