@@ -31,11 +31,7 @@ func checkFITSLayout(b []byte) error {
 					break
 				}
 				if string(b[c+8:c+10]) == "= " {
-					v := string(b[c+10 : c+card])
-					if i := strings.Index(v, "/"); i >= 0 && !strings.HasPrefix(strings.TrimSpace(v), "'") {
-						v = v[:i]
-					}
-					kw[key] = strings.TrimSpace(v)
+					kw[key] = cardValue(string(b[c+10 : c+card]))
 				}
 			}
 			off += block
@@ -97,7 +93,7 @@ func checkFITSLayout(b []byte) error {
 		if size > maxFITSBytes {
 			return fmt.Errorf("HDU %d: data of more than %d bytes", hdu, maxFITSBytes)
 		}
-		if strings.Trim(kw["XTENSION"], "' ") == "BINTABLE" {
+		if kw["XTENSION"] == "BINTABLE" {
 			if err := checkBinTableColumns(hdu, kw, integer); err != nil {
 				return err
 			}
@@ -109,6 +105,32 @@ func checkFITSLayout(b []byte) error {
 		off += int(min(padded, int64(len(b)-off)))
 	}
 	return nil
+}
+
+// cardValue returns the value of a header card (the text after "= "): a
+// quoted string without its quotes ('' read as one quote) and without the
+// comment after it, or any other value without its comment.
+func cardValue(v string) string {
+	t := strings.TrimLeft(v, " ")
+	if strings.HasPrefix(t, "'") {
+		var sb strings.Builder
+		for i := 1; i < len(t); i++ {
+			if t[i] == '\'' {
+				if i+1 < len(t) && t[i+1] == '\'' {
+					sb.WriteByte('\'')
+					i++
+					continue
+				}
+				break
+			}
+			sb.WriteByte(t[i])
+		}
+		return strings.TrimRight(sb.String(), " ")
+	}
+	if i := strings.Index(t, "/"); i >= 0 {
+		t = t[:i]
+	}
+	return strings.TrimSpace(t)
 }
 
 // checkBinTableColumns checks that the TFORMn of a binary table are known
@@ -126,7 +148,11 @@ func checkBinTableColumns(hdu int, kw map[string]string, integer func(string, in
 	total := int64(0)
 	for i := int64(1); i <= nf; i++ {
 		key := fmt.Sprintf("TFORM%d", i)
-		f := strings.Trim(kw[key], "' ")
+		f, ok := kw[key]
+		if !ok {
+			return fmt.Errorf("HDU %d: keyword %s is missing (TFIELDS = %d)", hdu, key, nf)
+		}
+		f = strings.TrimSpace(f)
 		j := 0
 		for j < len(f) && f[j] >= '0' && f[j] <= '9' {
 			j++

@@ -444,6 +444,14 @@ func (rt *rawTable) build(p *rolePlan, opts *ReadOptions) (*Series, []string, er
 		label = DefaultInstrument
 	}
 	if c := p.inst; c != nil {
+		distinct := map[string]bool{}
+		for _, i := range rows {
+			if c.str != nil {
+				distinct[c.str[i]] = true
+			} else {
+				distinct[formatFloat(c.num[i])] = true
+			}
+		}
 		for k, i := range rows {
 			in := ""
 			if c.str != nil {
@@ -454,7 +462,10 @@ func (rt *rawTable) build(p *rolePlan, opts *ReadOptions) (*Series, []string, er
 			if in == "" {
 				return nil, nil, terr(lines[k], c.name, fmt.Errorf("%w: empty instrument label", ErrNotNumber))
 			}
-			if opts.Instrument != "" {
+			switch {
+			case opts.Instrument != "" && len(distinct) == 1:
+				in = opts.Instrument // the table's one instrument, by the name the user gave
+			case opts.Instrument != "":
 				in = opts.Instrument + "/" + in
 			}
 			s.Instrument[k] = in

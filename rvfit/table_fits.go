@@ -56,7 +56,7 @@ func scanFITSTable(r io.Reader, name string) (rt *rawTable, err error) {
 	// malformed files into errors.
 	defer func() {
 		if p := recover(); p != nil {
-			rt, err = nil, terr(0, "", fmt.Errorf("%w: malformed FITS file: %v", ErrBadFormat, p))
+			rt, err = nil, terr(0, "", fmt.Errorf("%w: malformed FITS file: its header does not describe its table (check it with fitsverify)", ErrBadFormat))
 		}
 	}()
 	b, err := io.ReadAll(io.LimitReader(r, maxFITSBytes+1))

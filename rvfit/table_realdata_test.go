@@ -91,3 +91,38 @@ func indicatorNamesOf(s *Series) string {
 	}
 	return strings.Join(n, ",")
 }
+
+// eps Eri's eight public tables (five layouts) combine into one data set
+// with nine zero points: one per instrument, HARPS split at its 2015 fibre
+// change. Epoch counts per group are those of the merged table of the same
+// release (22049_rv_main_unbinned.txt: Tull 33, Levy (APF) 553, Hamilton
+// 357, HIRES-post 163, HARPS-pre 530, HARPS-post 231, EXPRES 164, CES-LC
+// 66, CES-VLC 69) less what the data-set file asks: the 15 HARPS rows with
+// f_RV != 0 (11 before the split, 4 after, counted with awk) and one APF
+// epoch whose two exposures share a time stamp, averaged.
+func TestEpsEriDataSet(t *testing.T) {
+	realDataDir(t)
+	tables, err := ReadDataSetFile("../testdata/realdata/eps-eri.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	s, warns, err := ReadTables(tables)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("notes %q\nwarnings %q", s.Notes, warns)
+	count := map[string]int{}
+	for _, in := range s.Instrument {
+		count[in]++
+	}
+	want := map[string]int{"Tull": 33, "APF": 552, "Hamilton": 357, "HIRES": 163, "HARPS": 530 - 11, "HARPS@2457161.5": 231 - 4,
+		"EXPRES": 164, "CES-LC": 66, "CES-VLC": 69}
+	if len(count) != 9 {
+		t.Errorf("%d zero points %v, want 9", len(count), count)
+	}
+	for k, n := range want {
+		if count[k] != n {
+			t.Errorf("group %s: %d epochs, want %d (all: %v)", k, count[k], n, count)
+		}
+	}
+}

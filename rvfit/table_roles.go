@@ -380,24 +380,31 @@ type rejectRule struct {
 
 // parseReject parses "COLUMN OP VALUE" with OP one of != == = < <= > >=.
 func parseReject(spec string) (rejectRule, error) {
-	for _, op := range []string{"!=", "==", "<=", ">=", "=", "<", ">"} {
-		if i := strings.Index(spec, op); i > 0 {
-			rr := rejectRule{spec: spec, col: strings.TrimSpace(spec[:i]), op: op, val: strings.TrimSpace(spec[i+len(op):])}
-			if rr.op == "=" {
-				rr.op = "=="
-			}
-			if x, err := strconv.ParseFloat(rr.val, 64); err == nil {
-				rr.num, rr.isNum = x, true
-			} else if rr.op != "==" && rr.op != "!=" {
-				return rr, fmt.Errorf("%w: --reject-if %q compares with %q, which is not a number", ErrBadMapping, spec, rr.val)
-			}
-			if rr.col == "" {
-				break
-			}
-			return rr, nil
-		}
+	bad := fmt.Errorf("%w: --reject-if %q is not of the form COLUMN!=VALUE (or ==, <, <=, >, >=)", ErrBadMapping, clip(spec))
+	i := strings.IndexAny(spec, "!=<>")
+	if i <= 0 {
+		return rejectRule{}, bad
 	}
-	return rejectRule{}, fmt.Errorf("%w: --reject-if %q is not of the form COLUMN!=VALUE (or ==, <, <=, >, >=)", ErrBadMapping, spec)
+	rest := spec[i:]
+	for _, op := range []string{"!=", "==", "<=", ">=", "=", "<", ">"} {
+		if !strings.HasPrefix(rest, op) {
+			continue
+		}
+		rr := rejectRule{spec: spec, col: strings.TrimSpace(spec[:i]), op: op, val: strings.TrimSpace(rest[len(op):])}
+		if rr.op == "=" {
+			rr.op = "=="
+		}
+		if rr.col == "" || rr.val == "" {
+			return rejectRule{}, bad
+		}
+		if x, err := strconv.ParseFloat(rr.val, 64); err == nil {
+			rr.num, rr.isNum = x, true
+		} else if rr.op != "==" && rr.op != "!=" {
+			return rr, fmt.Errorf("%w: --reject-if %q compares with %q, which is not a number", ErrBadMapping, clip(spec), clip(rr.val))
+		}
+		return rr, nil
+	}
+	return rejectRule{}, bad
 }
 
 // rejects reports whether row i is rejected by the rule.
