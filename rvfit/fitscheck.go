@@ -108,7 +108,7 @@ func checkFITSLayout(b []byte) error {
 }
 
 // cardValue returns the value of a header card (the text after "= "): a
-// quoted string without its quotes (” read as one quote) and without the
+// quoted string without its quotes (a doubled quote read as one) and without the
 // comment after it, or any other value without its comment.
 func cardValue(v string) string {
 	t := strings.TrimLeft(v, " ")

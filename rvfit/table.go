@@ -346,6 +346,9 @@ func (rt *rawTable) build(p *rolePlan, opts *ReadOptions) (*Series, []string, er
 		return nil, nil, terr(0, "", fmt.Errorf("%w: every row was left out", ErrNoObservations))
 	}
 	pick := func(v []float64) []float64 {
+		if len(rows) == len(v) {
+			return v // every row kept: the column itself (it is not used again)
+		}
 		out := make([]float64, len(rows))
 		for k, i := range rows {
 			out[k] = v[i]
@@ -489,31 +492,39 @@ func (rt *rawTable) build(p *rolePlan, opts *ReadOptions) (*Series, []string, er
 			s.Indicators = append(s.Indicators, *ind)
 		}
 	}
-	// Duplicate epochs: the same time for the same instrument.
-	type key struct {
-		t  float64
-		in string
+	// Duplicate epochs: the same time for the same instrument (found by
+	// sorting, not a map, so a large table stays small in memory).
+	order := make([]int, len(s.Time))
+	for k := range order {
+		order[k] = k
 	}
-	seen := make(map[key]int, len(rows))
+	sort.SliceStable(order, func(a, b int) bool {
+		ka, kb := order[a], order[b]
+		if s.Time[ka] != s.Time[kb] {
+			return s.Time[ka] < s.Time[kb]
+		}
+		return s.Instrument[ka] < s.Instrument[kb]
+	})
 	var groups [][]int
-	groupOf := map[int]int{}
-	for k, t := range s.Time {
-		kk := key{t, s.Instrument[k]}
-		j, dup := seen[kk]
-		if !dup {
-			seen[kk] = k
+	for x := 1; x < len(order); x++ {
+		j, k := order[x-1], order[x]
+		if s.Time[j] != s.Time[k] || s.Instrument[j] != s.Instrument[k] {
 			continue
 		}
+		if j > k {
+			j, k = k, j
+		}
 		if opts.Duplicates != "mean" {
-			return nil, nil, terr(lines[k], p.time.name, fmt.Errorf("%w: time %s for instrument %q already on line %d (give --duplicate-epochs mean to average such rows)", ErrDuplicateEpoch, formatFloat(t-off), s.Instrument[k], lines[j]))
+			return nil, nil, terr(lines[k], p.time.name, fmt.Errorf("%w: time %s for instrument %q already on line %d (give --duplicate-epochs mean to average such rows)", ErrDuplicateEpoch, formatFloat(s.Time[k]-off), s.Instrument[k], lines[j]))
 		}
-		g, ok := groupOf[j]
-		if !ok {
-			g = len(groups)
-			groups = append(groups, []int{j})
-			groupOf[j] = g
+		if g := len(groups) - 1; g >= 0 && groups[g][len(groups[g])-1] == order[x-1] {
+			groups[g] = append(groups[g], order[x])
+		} else {
+			groups = append(groups, []int{order[x-1], order[x]})
 		}
-		groups[g] = append(groups[g], k)
+	}
+	for _, g := range groups {
+		sort.Ints(g)
 	}
 	if len(groups) > 0 {
 		s.meanDuplicates(groups)
@@ -635,18 +646,23 @@ func (rt *rawTable) buildIndicator(ip indPlan, rows, lines []int, opts *ReadOpti
 		}
 	}
 	nk := len(rows)
-	val := make([]float64, nk)
-	vst := make([]cellState, nk)
-	for k, i := range rows {
-		val[k], vst[k] = c.num[i], c.state[i]
+	// The kept rows of a column (the column itself when every row is kept:
+	// a column plays one part only, so it is not used again).
+	sub := func(c *rawColumn) ([]float64, []cellState) {
+		if nk == len(c.num) {
+			return c.num, c.state
+		}
+		v, st := make([]float64, nk), make([]cellState, nk)
+		for k, i := range rows {
+			v[k], st[k] = c.num[i], c.state[i]
+		}
+		return v, st
 	}
+	val, vst := sub(c)
 	var errs []float64
 	var est []cellState
 	if ec != nil {
-		errs, est = make([]float64, nk), make([]cellState, nk)
-		for k, i := range rows {
-			errs[k], est[k] = ec.num[i], ec.state[i]
-		}
+		errs, est = sub(ec)
 	}
 	// Sentinels: a repeated value far outside the column's spread, or a
 	// negative value of a quantity that cannot be negative.

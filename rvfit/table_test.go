@@ -388,6 +388,11 @@ func checkReadResult(t *testing.T, s *Series, err error) {
 		if !errors.As(err, &te) {
 			t.Fatalf("error %v is not a *TableError", err)
 		}
+		for _, p := range []string{"runtime error", "goroutine", "panic", "token too long"} {
+			if strings.Contains(err.Error(), p) {
+				t.Fatalf("error shows %q: %v", p, err)
+			}
+		}
 		return
 	}
 	if s.checkWritable() != nil {
@@ -416,6 +421,72 @@ func FuzzReadCSV(f *testing.F) {
 	f.Fuzz(func(t *testing.T, b []byte) {
 		s, _, err := ReadCSV(bytes.NewReader(b), "fuzz.csv", nil)
 		checkReadResult(t, s, err)
+	})
+}
+
+// FuzzReadText reads fuzzed text with each set of options a user may give:
+// none, columns by position, named indicators, declared missing values,
+// rejected rows, a time zero, averaged duplicates, and each forced layout.
+func FuzzReadText(f *testing.F) {
+	for _, s := range fuzzSeeds(f) {
+		if !bytes.HasPrefix(s, []byte("SIMPLE")) {
+			f.Add(s, uint8(0))
+		}
+	}
+	for _, s := range []string{
+		"rjd\tvrad\tsvrad\n---\t----\t-----\n55000\t1\t1\n55001\t2\t1\n",
+		"BJD\tRV\te_RV\nd\tkm/s\tkm/s\n---\t---\t---\n2455000\t1\t1\n2455001\t2\t1\n",
+		"2455000.1 1.0 1.0 0.17 -1 100 3\n2455001.1 2.0 1.0 0.18 0.03 100 3\n",
+		",target,BJD,RV_mlc,e_RV_mlc,f_RV,FWHM_DRS,RHKp,dRHKp\n0,HD,2455000,1,1,0,7.1,1e-5,1e-7\n1,HD,2455001,2,1,1,-9999999,-9999999,-9999999\n",
+		"    BJD (d) (F10.2) date\n    RV (m/s) (F6.2) rv\n    e_RV (m/s) (F4.1) err\n---------- ------ ----\nBJD        RV     e_RV\n---------- ------ ----\n2455000.50  -3.50  1.1\n",
+	} {
+		for o := range uint8(8) {
+			f.Add([]byte(s), o)
+		}
+	}
+	options := []*ReadOptions{
+		nil,
+		{Columns: map[string]string{"time": "1", "rv": "2", "rv_err": "3", "s_index": "4"}},
+		{Indicators: []string{"4", "FWHM_DRS"}},
+		{Missing: []string{"-1", "-9999999", ""}},
+		{RejectIf: []string{"f_RV!=0"}, Duplicates: "mean"},
+		{TimeZero: "rjd", Units: map[string]string{"rv": "km/s", "fwhm": "%"}},
+		{Format: "text"},
+		{Format: "tsv", Instrument: "X"},
+	}
+	f.Fuzz(func(t *testing.T, b []byte, o uint8) {
+		opts := options[int(o)%len(options)]
+		s, _, err := ReadTableFrom(bytes.NewReader(b), "fuzz.txt", opts)
+		var te *TableError
+		if err != nil && errors.Is(err, ErrMissingColumn) && errors.As(err, &te) {
+			return // a mapped column the fuzzed table lacks
+		}
+		checkReadResult(t, s, err)
+	})
+}
+
+// FuzzParseDataSet parses fuzzed data-set files: an error naming the file,
+// or tables with checked options.
+func FuzzParseDataSet(f *testing.F) {
+	if b, err := os.ReadFile("../testdata/realdata/eps-eri.toml"); err == nil {
+		f.Add(b)
+	}
+	f.Add([]byte("[[table]]\npath = \"a.csv\"\nlabel = \"A\"\nsplit_at = [2455000.5]\nreject_if = [\"f!=0\"]\n"))
+	f.Add([]byte("[[table]]\npath = \"a.csv\"\n[[table]]\npath = \"a.csv\"\n"))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		tables, err := ParseDataSet(b, "fuzz.toml", "")
+		if err != nil {
+			var te *TableError
+			if !errors.As(err, &te) || te.File != "fuzz.toml" {
+				t.Fatalf("error %v does not name the file", err)
+			}
+			return
+		}
+		for _, dt := range tables {
+			if dt.Path == "" || dt.Options.Check() != nil {
+				t.Fatalf("table %+v passed with bad options", dt)
+			}
+		}
 	})
 }
 

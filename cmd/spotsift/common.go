@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"spotsift/activity"
+	"spotsift/activity/survey"
 	"spotsift/rvfit"
 )
 
@@ -44,6 +45,12 @@ func (l *listFlag) Set(v string) error { *l = append(*l, v); return nil }
 // addData registers --data and the options of reading tables.
 func (c *common) addData(fs *flag.FlagSet) {
 	fs.Var(&c.datas, "data", "per-epoch `table` (text in any common layout, or a FITS table), LABEL=table to name its instrument, or a data-set .toml file; repeat for one table per instrument")
+	c.addTableFlags(fs)
+}
+
+// addTableFlags registers the options of reading tables (for survey, the
+// defaults of the manifest's stars).
+func (c *common) addTableFlags(fs *flag.FlagSet) {
 	fs.StringVar(&c.columns, "columns", "", "say which column is what, by name or position, e.g. `time=1,rv=2,rv_err=3` or rv=RVel,s_index=SVal (default: recognised names)")
 	fs.StringVar(&c.rvUnit, "rv-unit", "", "unit of the table's velocities, m/s or km/s (default: from the table, else m/s)")
 	fs.StringVar(&c.indicators, "indicators", "", "the only columns read as activity indicators, `list` of names or positions (ours=theirs renames); none for no indicators (default: recognised names)")
@@ -82,6 +89,50 @@ func (c *common) readOptions() (*rvfit.ReadOptions, error) {
 	return o, nil
 }
 
+// manifestDefaults gives every star of a manifest the table-reading flags
+// for the options it does not set itself, and checks the result.
+func (c *common) manifestDefaults(m *survey.Manifest) error {
+	o, err := c.readOptions()
+	if err != nil {
+		return err
+	}
+	for i := range m.Stars {
+		e := &m.Stars[i]
+		if len(e.Columns) == 0 {
+			e.Columns = o.Columns
+		}
+		if e.RVUnit == "" {
+			e.RVUnit = o.RVUnit
+		}
+		r := &e.Read
+		if r.Indicators == nil {
+			r.Indicators = o.Indicators
+		}
+		if len(r.Units) == 0 {
+			r.Units = o.Units
+		}
+		if r.TimeZero == "" {
+			r.TimeZero = o.TimeZero
+		}
+		if r.Missing == nil {
+			r.Missing = o.Missing
+		}
+		if r.RejectIf == nil {
+			r.RejectIf = o.RejectIf
+		}
+		if r.Duplicates == "" {
+			r.Duplicates = o.Duplicates
+		}
+		if r.Split == nil {
+			r.Split = c.splits
+		}
+	}
+	return m.Check()
+}
+
+// progressMinBytes is the size from which reading a table shows progress.
+const progressMinBytes = 16 << 20
+
 // loadData reads and validates the --data tables, printing how they were
 // read and the reader's warnings (unless --quiet). minEpochs is the fewest
 // epochs the command can work with.
@@ -98,7 +149,23 @@ func (c *common) loadData(e *env, cmd string, minEpochs int) (*rvfit.Series, err
 	if err != nil {
 		return nil, err
 	}
+	// Big tables show how far reading has come (on a terminal only).
+	var bar *progress
+	var barTotal int64
+	for i := range tables {
+		tables[i].Options.Progress = func(done, total int64) {
+			if total < progressMinBytes {
+				return
+			}
+			if bar == nil || total != barTotal {
+				bar.Done()
+				bar, barTotal = newProgress(e.stderr, int(total>>10), "reading (KiB)", c.quiet), total
+			}
+			bar.Set(int(done>>10), int(total>>10))
+		}
+	}
 	s, warns, err := rvfit.ReadTables(tables)
+	bar.Done()
 	if err != nil {
 		return nil, err
 	}

@@ -45,7 +45,7 @@ func isTerminal(w io.Writer) bool {
 // Set records that done items of the total are finished; it has the shape
 // of the progress callbacks the packages take.
 func (p *progress) Set(done, total int) {
-	if p.bar == nil {
+	if p == nil || p.bar == nil {
 		return
 	}
 	p.mu.Lock()
@@ -55,7 +55,7 @@ func (p *progress) Set(done, total int) {
 
 // Done removes the bar.
 func (p *progress) Done() {
-	if p.bar == nil {
+	if p == nil || p.bar == nil {
 		return
 	}
 	p.mu.Lock()

@@ -39,6 +39,7 @@ a job array; "spotsift survey merge" then joins the shard folders.
 Exit status: 0 every star done, 1 some stars failed or were not run (a
 partial survey), 2 bad usage or a bad manifest.`)
 	c.addRun(fs)
+	c.addTableFlags(fs)
 	manifest := fs.String("manifest", "", "the sample, a CSV or TOML `file`")
 	out := fs.String("out", "", "output `directory`")
 	shard := fs.String("shard", "", "process only share `K/N` of the manifest (1 <= K <= N)")
@@ -69,6 +70,9 @@ partial survey), 2 bad usage or a bad manifest.`)
 	}
 	m, err := survey.ReadManifest(*manifest)
 	if err != nil {
+		return fail(e, exitUsage, err)
+	}
+	if err := c.manifestDefaults(m); err != nil {
 		return fail(e, exitUsage, err)
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
