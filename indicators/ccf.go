@@ -447,48 +447,88 @@ func (p *ccfPlan) runPlaces(c *CCF, wsum []float64, places []placement) {
 //	Var Q = Σ_x σ_x² (Σ_k g_k ∂CCF_k/∂F_x)²
 //
 // exactly, including the correlation between neighbouring CCF bins. It
-// needs exactly propQ quantities. Unless the plan is serial, two
-// goroutines share the work: one takes the first three quantities and the
-// segments, the other the rest. The result does not depend on the split.
+// needs exactly propQ quantities. The lines are cut into two halves at a
+// segment boundary, walked on two goroutines (one after the other when
+// the plan is serial, with the same result to the bit), and the pixels
+// both halves touch are summed before they are squared.
 func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 	if len(g) != propQ {
 		panic("indicators: propagate needs propQ gradients")
 	}
 	vs = make([]float64, len(sg))
-	if p.serial {
-		// Six quantities and the segments: two groups of four slots.
-		a := p.propagateSlots([][]float64{g[0], g[1], g[2], g[3], g[4], g[5], nil}, 6, sg, vs)
+	// Fill the lazily computed fields before the goroutines read them.
+	p.maxSpan()
+	p.sig2()
+	slots := [][]float64{g[0], g[1], g[2], g[3], g[4], g[5], nil}
+	const seg = 6
+	n := len(p.places)
+	split := n / 2
+	for split > 0 && split < n && p.places[split].seg == p.places[split-1].seg {
+		split++
+	}
+	if split <= 0 || split >= n {
+		a, _ := p.propagateSlots(slots, seg, sg, vs, p.places, 0, 0)
 		return a[:propQ], vs
 	}
-	vq = make([]float64, propQ)
+	// The zone of pixels both halves may touch: from the first pixel of
+	// the second half to the last the first half can reach.
+	first := p.places[split]
+	zlo := p.orders[first.order].offset + int(first.start)
+	zhi := zlo
+	dhi := p.dk[len(p.dk)-1] * (1 + p.h)
+	for _, pl := range p.places[:split] {
+		o := &p.orders[pl.order]
+		zhi = max(zhi, o.offset+searchEdges(o.edges, pl.lambda*dhi)+2)
+	}
+	var accB, zoneB []float64
 	var wg sync.WaitGroup
-	wg.Add(1)
-	go func() {
-		defer wg.Done()
-		b := p.propagateSlots([][]float64{g[3], g[4], g[5]}, -1, nil, nil)
-		copy(vq[3:6], b)
-	}()
-	a := p.propagateSlots([][]float64{g[0], g[1], g[2], nil}, 3, sg, vs)
-	copy(vq[0:3], a[:3])
+	second := func() { accB, zoneB = p.propagateSlots(slots, seg, sg, vs, p.places[split:], zlo, zhi) }
+	if p.serial {
+		second()
+	} else {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			second()
+		}()
+	}
+	accA, zoneA := p.propagateSlots(slots, seg, sg, vs, p.places[:split], zlo, zhi)
 	wg.Wait()
+	const ns = 8
+	sig2 := p.sig2()
+	vq = make([]float64, propQ)
+	for q := range vq {
+		vq[q] = accA[q] + accB[q]
+	}
+	for x := zlo; x < zhi; x++ {
+		i := (x - zlo) * ns
+		for q := range vq {
+			v := zoneA[i+q] + zoneB[i+q]
+			vq[q] += sig2[x] * v * v
+		}
+	}
 	return vq, vs
 }
 
 // propagateSlots propagates the gradients g (nil: an unused slot) through
-// the CCF in one walk over the (line, velocity, pixel) overlaps, in groups
-// of four slots per pixel. When sg is not nil, slot seg holds instead the
-// gradient of the current segment's own CCF (sg[s]), whose variances go to
-// vs. It returns the variance of each slot (0 for seg and unused slots).
+// the CCF of the given placements in one walk over the (line, velocity,
+// pixel) overlaps, in groups of four slots per pixel. When sg is not nil,
+// slot seg holds instead the gradient of the current segment's own CCF
+// (sg[s]), whose variances are added to vs. It returns the variance of each
+// slot (0 for seg and unused slots) over the pixels outside [zlo, zhi), and
+// the unsquared values of the pixels inside (slot seg excepted, which is
+// squared as usual), zhi − zlo rows of slots.
 //
 // Lines are visited in increasing pixel order, so a pixel below the first
 // pixel a line can touch is final: it is squared, summed and cleared as the
-// walk moves on, and the scratch array is clean again at the end.
-func (p *ccfPlan) propagateSlots(g [][]float64, seg int, sg [][]float64, vs []float64) []float64 {
+// walk moves on.
+func (p *ccfPlan) propagateSlots(g [][]float64, seg int, sg [][]float64, vs []float64, places []placement, zlo, zhi int) ([]float64, []float64) {
 	ns := (max(len(g), seg+1) + 3) &^ 3
 	ngr := ns / 4
 	if ngr > 2 {
 		panic("indicators: propagateSlots takes at most eight slots")
 	}
+	zone := make([]float64, (zhi-zlo)*ns)
 	// Only the pixels between the current line's first pixel and the last
 	// pixel touched so far are live: a ring buffer of them (a power of two
 	// above the widest line's span) keeps the scratch in the fastest cache.
@@ -514,9 +554,18 @@ func (p *ccfPlan) propagateSlots(g [][]float64, seg int, sg [][]float64, vs []fl
 	// at each segment change (flushSeg) and at the end.
 	var acc8 [8]float64
 	flushTo := func(x1 int) {
-		for x := low; x < min(x1, touched); x++ {
+		for x := max(low, 0); x < min(x1, touched); x++ {
 			i := (x & mask) * ns
 			s2 := sig2[x]
+			if x >= zlo && x < zhi {
+				if seg >= 0 {
+					acc8[seg] += s2 * h[i+seg] * h[i+seg]
+					h[i+seg] = 0
+				}
+				copy(zone[(x-zlo)*ns:(x-zlo+1)*ns], h[i:i+ns])
+				clear(h[i : i+ns])
+				continue
+			}
 			h0 := (*[4]float64)(h[i : i+4])
 			a0 := (*[4]float64)(acc8[0:4])
 			a0[0] += s2 * h0[0] * h0[0]
@@ -550,7 +599,7 @@ func (p *ccfPlan) propagateSlots(g [][]float64, seg int, sg [][]float64, vs []fl
 		vs[curSeg] += acc8[seg]
 		acc8[seg] = 0
 	}
-	for _, pl := range p.places {
+	for _, pl := range places {
 		o := &p.orders[pl.order]
 		e, iw := o.edges, o.invw
 		off := o.offset
@@ -569,6 +618,9 @@ func (p *ccfPlan) propagateSlots(g [][]float64, seg int, sg [][]float64, vs []fl
 					gk[k*ns+seg] = sg[curSeg][k]
 				}
 			}
+		}
+		if low == 0 && touched == 0 {
+			low = off + int(pl.start)
 		}
 		flushTo(off + int(pl.start))
 		w := pl.weight
@@ -618,7 +670,7 @@ func (p *ccfPlan) propagateSlots(g [][]float64, seg int, sg [][]float64, vs []fl
 		acc8[seg] = 0
 	}
 	copy(acc, acc8[:ns])
-	return acc
+	return acc, zone
 }
 
 // maxSpan returns the largest number of pixels one placed line touches
