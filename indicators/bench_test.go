@@ -11,7 +11,8 @@ import (
 // Na D) on one spectrum of 300 000 pixels (3800–6900 Å) with a 3000-line
 // mask over 161 velocity steps (±20 km/s at 250 m/s). "search" includes
 // the default coarse line search; "fixed" centres the grid on a given
-// velocity.
+// velocity; "serial" keeps to one goroutine (as when many spectra are
+// measured at once).
 func BenchmarkMeasure(b *testing.B) {
 	for _, size := range []struct{ pix, lines int }{{30000, 300}, {300000, 3000}} {
 		rng := rand.New(rand.NewPCG(1, 1))
@@ -23,12 +24,13 @@ func BenchmarkMeasure(b *testing.B) {
 		st := newSynthStar(rng, 3800, 6900, step, size.lines, 1e4)
 		s := addNoise(st.spectrum(1234), rng)
 		m := st.mask()
-		for _, mode := range []string{"search", "fixed"} {
+		for _, mode := range []string{"search", "fixed", "fixed,serial"} {
 			opts := &Options{CCF: &CCFOptions{HalfWidth: 20e3, Step: 250}}
-			if mode == "fixed" {
+			if mode != "search" {
 				opts.CCF.Search = -1
 				opts.CCF.Center = 1000
 			}
+			opts.CCF.Serial = mode == "fixed,serial"
 			b.Run(fmt.Sprintf("pixels=%d,lines=%d,steps=161,%s", size.pix, size.lines, mode), func(b *testing.B) {
 				for b.Loop() {
 					r, err := Measure(s, m, opts)
