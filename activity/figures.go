@@ -33,7 +33,8 @@ import (
 //   - grey (inkAlias) ticks: the one-day aliases of the signals;
 //   - teal (inkModel): models (fitted sinusoid, GP mean and band, the band
 //     of a strictly periodic signal);
-//   - dark grey dashed lines (inkLevel): false-alarm levels.
+//   - dark grey dashed lines (inkLevel): false-alarm levels;
+//   - small dark grey dots (photStyle): photometry.
 var (
 	inkCurve  = color.RGBA{0x22, 0x22, 0x22, 0xff}
 	inkSignal = color.RGBA{0x1f, 0x5a, 0xa6, 0xff}
@@ -356,6 +357,10 @@ func xys(x, y []float64) plotter.XYs {
 func instStyle(k int) draw.GlyphStyle {
 	return draw.GlyphStyle{Color: instInk[k%len(instInk)], Shape: instGlyph[k%len(instGlyph)], Radius: vg.Points(1.8)}
 }
+
+// photStyle draws photometry: small dark-grey dots, a glyph no instrument
+// uses.
+var photStyle = draw.GlyphStyle{Color: color.RGBA{0x55, 0x55, 0x55, 0xff}, Shape: draw.CircleGlyph{}, Radius: vg.Points(0.9)}
 
 // fitStyle draws values fitted to a signal (season by season): blue, the
 // signals' colour, as rings.

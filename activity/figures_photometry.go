@@ -65,7 +65,7 @@ func figPhotometry(lc *photometry.LightCurve, dg *Diagnosis) *figure {
 		flush()
 	}
 	pl := newPlot("", timeLabel(t0), "relative flux")
-	scatterErr(pl, x, y, nil, instStyle(0))
+	scatterErr(pl, x, y, nil, photStyle)
 
 	// GLS periodogram against period.
 	pp := newPlot("", "period (d)", "GLS power")
