@@ -264,8 +264,7 @@ func activityModel(dg *Diagnosis, insts []string) []activityRow {
 		if w == nil {
 			continue
 		}
-		rows = append(rows, activityRow{"GP model", "multi-output", fmt.Sprintf("RVs and indicators share one latent activity process; fitted with S%d's sinusoid; ln L = %s", k+1, fmtSig(w.LogLikelihood, 6))},
-			activityRow{"GP rotation period (d)", fmtValErr(w.Rotation, w.RotationErr), "Laplace error"})
+		rows = append(rows, activityRow{"GP model", "multi-output", fmt.Sprintf("RVs and indicators share one latent activity process; fitted with S%d's sinusoid; ln L = %s; parameters in natural units", k+1, fmtSig(w.LogLikelihood, 6))})
 		for i, name := range w.Names {
 			if i >= len(w.Params) {
 				break
@@ -274,13 +273,17 @@ func activityModel(dg *Diagnosis, insts []string) []activityRow {
 			if i < len(w.Errors) {
 				e = w.Errors[i]
 			}
-			note := "Laplace error"
-			if i < len(w.AtBound) && w.AtBound[i] != "" {
-				note = "at its " + w.AtBound[i] + " of the prior: error not estimated"
-			} else if !(e > 0) {
-				note = "error not estimated"
+			val, note := fmtValErr(w.Params[i], e), "Laplace error"
+			switch {
+			case i < len(w.AtBound) && w.AtBound[i] != "":
+				val, note = fmtSig(w.Params[i], 3), "at the "+w.AtBound[i]+" of its prior: no error"
+				if math.Abs(w.Params[i]) < 1e-6 {
+					val = "0"
+				}
+			case !(e > 0):
+				val, note = fmtSig(w.Params[i], 3), "error not estimated"
 			}
-			rows = append(rows, activityRow{VisibleText(name), fmtValErr(w.Params[i], e), note})
+			rows = append(rows, activityRow{VisibleText(name), val, note})
 		}
 		return rows
 	}
