@@ -246,7 +246,7 @@ func (niceTicks) Ticks(lo, hi float64) []plot.Tick {
 		return nil
 	}
 	half := hi/2 - lo/2 // half the span cannot overflow
-	raw := half * 0.4   // about five major ticks
+	raw := half * 0.6   // three to five major ticks: labels fit narrow panels
 	mag := math.Pow(10, math.Floor(math.Log10(raw)))
 	nice := []float64{mag, 2 * mag, 5 * mag, 10 * mag}
 	k := 0
@@ -790,13 +790,13 @@ func powerPanel(name string, periods, pow []float64, pg *rvfit.Periodogram, g rv
 		ymax = scale * 1.75
 	}
 	p.Y.Min, p.Y.Max = 0, ymax
-	// FAP levels, labelled at the right edge; levels closer than 9% of the
+	// FAP levels, labelled at the right edge; levels closer than 15% of the
 	// panel height share one label, written at the highest of them.
 	var group []string
 	for i, l := range shown {
 		line(p, plotter.XYs{{X: pmin, Y: l.y}, {X: pmax, Y: l.y}}, inkLevel, 0.6, dashed)
 		group = append(group, l.label)
-		if i+1 < len(shown) && shown[i+1].y-l.y < 0.09*ymax {
+		if i+1 < len(shown) && shown[i+1].y-l.y < 0.15*ymax {
 			continue
 		}
 		text := strings.Join(group, ", ")
