@@ -99,7 +99,7 @@ func ReadStar(path string) (*Star, error) {
 		return nil, err
 	}
 	if !fi.Mode().IsRegular() {
-		return nil, &StarError{File: path, Msg: fmt.Sprintf("not a regular file (%s): give the path of a TOML star file", fileKind(fi.Mode()))}
+		return nil, &StarError{File: path, Msg: fmt.Sprintf("not a regular file (%s): give the path of a TOML star file", FileKind(fi.Mode()))}
 	}
 	if fi.Size() > MaxStarFileSize {
 		return nil, &StarError{File: path, Msg: fmt.Sprintf("%d bytes: a star file is a few lines of TOML (at most %d bytes); is this the right file?", fi.Size(), MaxStarFileSize)}
@@ -124,8 +124,9 @@ func ReadStar(path string) (*Star, error) {
 	return ParseStar(b, path)
 }
 
-// fileKind names the type of a file that is not regular.
-func fileKind(m os.FileMode) string {
+// FileKind names the type of a file that is not regular ("a named pipe",
+// "a character device", ...), for messages.
+func FileKind(m os.FileMode) string {
 	switch {
 	case m&os.ModeNamedPipe != 0:
 		return "a named pipe"

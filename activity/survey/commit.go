@@ -14,6 +14,8 @@ import (
 	"strings"
 	"syscall"
 	"time"
+
+	"spotsift/activity"
 )
 
 // LockFile is the advisory lock of an output folder: a survey or a merge
@@ -223,24 +225,7 @@ func regularFile(p, what string) error {
 		return fmt.Errorf("%s: %w", what, err)
 	}
 	if !fi.Mode().IsRegular() {
-		return fmt.Errorf("%s %s: %w (%s)", what, p, ErrNotRegular, kind(fi.Mode()))
+		return fmt.Errorf("%s %s: %w (%s)", what, p, ErrNotRegular, activity.FileKind(fi.Mode()))
 	}
 	return nil
-}
-
-// kind names the type of a file that is not regular.
-func kind(m fs.FileMode) string {
-	switch {
-	case m&fs.ModeNamedPipe != 0:
-		return "a named pipe"
-	case m&fs.ModeCharDevice != 0:
-		return "a character device"
-	case m&fs.ModeDevice != 0:
-		return "a device"
-	case m&fs.ModeSocket != 0:
-		return "a socket"
-	case m.IsDir():
-		return "a folder"
-	}
-	return "not a plain file"
 }
