@@ -126,3 +126,18 @@ func TestFigureGolden(t *testing.T) {
 		}
 	}
 }
+
+// BenchmarkFigures draws the golden case's six figures as SVG and PNG.
+func BenchmarkFigures(b *testing.B) {
+	t := &testing.T{}
+	for i := 0; i < b.N; i++ {
+		for _, f := range goldenFigures(t) {
+			if _, err := f.svg(); err != nil {
+				b.Fatal(err)
+			}
+			if _, err := f.png(); err != nil {
+				b.Fatal(err)
+			}
+		}
+	}
+}
