@@ -266,18 +266,19 @@ func TestStuckStar(t *testing.T) {
 	out := t.TempDir()
 	ctx, cancel := context.WithCancel(context.Background())
 	o := fastOpts()
+	var cancelled time.Time
 	o.Progress = func(done, total int) {
 		if done == len(stars)-1 {
+			cancelled = time.Now()
 			cancel()
 		}
 	}
-	t0 := time.Now()
 	sum, err := Run(ctx, m, out, o)
 	if !errors.Is(err, context.Canceled) {
 		t.Fatalf("error %v", err)
 	}
-	if d := time.Since(t0); d > 2*time.Minute {
-		t.Errorf("interrupted run took %v", d)
+	if d := time.Since(cancelled); d > 30*time.Second {
+		t.Errorf("the interrupted run returned %v after the interruption", d)
 	}
 	for _, r := range sum.Stars {
 		want := StatusDone
@@ -295,7 +296,7 @@ func TestStuckStar(t *testing.T) {
 	out = t.TempDir()
 	o = fastOpts()
 	o.StarTimeout = time.Second
-	t0 = time.Now()
+	t0 := time.Now()
 	sum, err = Run(context.Background(), one, out, o)
 	if !errors.Is(err, ErrPartial) || sum.Run.Failed != 1 {
 		t.Fatalf("%v %+v", err, sum.Run)
@@ -374,8 +375,8 @@ func TestNotRegularInputs(t *testing.T) {
 	}()
 	select {
 	case <-done:
-	case <-time.After(2 * time.Minute):
-		t.Fatal("the survey still runs after 2 minutes: an input blocks it")
+	case <-time.After(10 * time.Minute):
+		t.Fatal("the survey still runs after 10 minutes: an input blocks it")
 	}
 	want := map[string]string{"Pipe": "named pipe", "Zero": "character device", "PipeStar": "named pipe", "PipeSpectra": "named pipe"}
 	for _, r := range sum.Stars {

@@ -409,14 +409,14 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 		defer cancel()
 		ch := make(chan outcome, 1)
 		var abandoned atomic.Bool
-		go func() {
+		go func(tmp string) {
 			r := produce(sctx, m, e, seed, o, inputs, tmp)
 			if abandoned.Load() {
 				// Nobody waits for it any more: drop what it wrote.
 				os.RemoveAll(tmp)
 			}
 			ch <- r
-		}()
+		}(tmp)
 		select {
 		case out = <-ch:
 			switch {
