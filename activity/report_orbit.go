@@ -93,7 +93,7 @@ func fitOrbits(s *rvfit.Series, dg *Diagnosis, star *Star) *OrbitSolution {
 		pmax = math.Max(pmax, 2*p)
 	}
 	res, err := rvfit.FitModel(&fs, len(periods), nil, &rvfit.FitOptions{
-		Periods: periods, Starts: 2, Seed: dg.Provenance.Seed + 0x5eed, Workers: 1, StarMass: out.StarMass,
+		Periods: periods, Starts: 1, Seed: dg.Provenance.Seed + 0x5eed, Workers: 1, StarMass: out.StarMass,
 		// The eccentricity prior of Kipping (2013): weak signals do not
 		// wander to e near 1, where a few epochs fit anything.
 		Model: &rvfit.ModelOptions{PMin: pmin, PMax: pmax, Eccentricity: rvfit.KippingEccentricity},
