@@ -276,6 +276,8 @@ func TestHostileInput(t *testing.T) {
 		{"time mixed", []byte("time,rv,rv_err\n2455000,1,1\n2455001,2,1\n1500000,3,1\n"), ErrImplausible, 4, "Julian date"},
 		{"huge indicator", []byte("time,rv,rv_err,bis\n1,1,1,1.7e308\n2,2,1,1\n"), ErrImplausible, 2, "bis"},
 		{"too many columns", []byte(strings.Repeat("c,", maxColumns) + "c\n"), ErrBadFormat, 1, "columns"},
+		{"a million columns", []byte(strings.Repeat("col,", 1000000) + "c\n"), ErrBadFormat, 1, "longer than"},
+		{"bad last line", bigThenBad(), ErrNotNumber, 100002, "rv"},
 	} {
 		_, _, err := ReadTableFrom(bytes.NewReader(c.in), "h.csv", nil)
 		var te *TableError
@@ -310,4 +312,15 @@ func TestReadTableNotRegular(t *testing.T) {
 	if _, err := os.Stat("/dev/zero"); err != nil {
 		t.Log("no /dev/zero here")
 	}
+}
+
+// bigThenBad is a table of 100,000 good rows and a bad last line.
+func bigThenBad() []byte {
+	var b bytes.Buffer
+	b.WriteString("time,rv,rv_err\n")
+	for i := 0; i < 100000; i++ {
+		b.WriteString(formatFloat(2455000.5+float64(i)*0.01) + ",1,1\n")
+	}
+	b.WriteString("2456000.5,x,1\n")
+	return b.Bytes()
 }
