@@ -795,7 +795,11 @@ func (rt *rawTable) buildIndicator(ip indPlan, rows, lines []int, opts *ReadOpti
 		return nil, msgs, infos, nil
 	}
 	if err := checkConstant(ind.Value, ind); err != nil {
-		return nil, nil, nil, terr(0, c.name, err)
+		// A constant indicator says nothing about activity; it is left out
+		// rather than failing the whole table (a survey of archive files
+		// meets such columns).
+		msgs = append(msgs, fmt.Sprintf("column %q left out: %v", c.name, err))
+		return nil, msgs, infos, nil
 	}
 	return ind, msgs, infos, nil
 }

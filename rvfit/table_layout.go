@@ -93,7 +93,8 @@ func newMissingSet(vals []string) *missingSet {
 }
 
 // nanWords are cells that mean "no value" in common table writers.
-var nanWords = map[string]bool{"NA": true, "N/A": true, "n/a": true, "null": true, "NULL": true, "None": true, "--": true}
+var nanWords = map[string]bool{"NA": true, "N/A": true, "n/a": true, "null": true, "NULL": true, "None": true, "--": true,
+	"NaN": true, "nan": true, "NAN": true}
 
 // add appends one cell to a kept column.
 func (c *rawColumn) add(cell string, line int, file string, miss *missingSet) error {
@@ -107,7 +108,7 @@ func (c *rawColumn) add(cell string, line int, file string, miss *missingSet) er
 		st = cellEmpty
 	case miss.strs[cell]:
 		st = cellMissing
-	case nanWords[cell]:
+	case nanWords[cell] || nanWords[strings.TrimLeft(cell, "+-")]:
 		st = cellNaN
 	default:
 		v, err := strconv.ParseFloat(cell, 64)
