@@ -55,7 +55,7 @@ func UnitOf(col string) (string, bool) {
 // table by its layout and column names alone.
 type ReadOptions struct {
 	// Columns maps spotsift's names onto the file's columns, by name or
-	// 1-based position: {"rv": "vrad", "time": "1"}. Keys other than time,
+	// 1-based position: {"rv": "velocity_kms", "time": "1"}. Keys other than time,
 	// rv, rv_err and instrument name indicators (X_err: the uncertainty of
 	// indicator X). Roles not mapped are found by name (table_roles.go).
 	Columns map[string]string

@@ -163,7 +163,7 @@ var inlineKeys = []string{"b_v", "mass", "teff", "vsini", "rotation_period", "ro
 //
 // The columns are name and data (required), star_file, periods (days,
 // separated by ';' or blanks), columns (a column map such as
-// "rv=vrad;time=bjd"), rv_unit (m/s or km/s), photometry (the star's
+// "rv=velocity_kms;time=obs_jd"), rv_unit (m/s or km/s), photometry (the star's
 // light curve, a table of time, flux or mag and its error) and the inline star
 // parameters b_v, mass, teff, vsini, rotation_period and
 // rotation_period_err (units as in a star file; empty means not given).

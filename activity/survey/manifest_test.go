@@ -29,7 +29,7 @@ func TestReadManifest(t *testing.T) {
 		if m.path(cv.Data) != filepath.Join(filepath.Dir(path), "data", "corvane3.fits") {
 			t.Errorf("%s: path %s", f, m.path(cv.Data))
 		}
-		if f == "sample.toml" && (m.Stars[2].Columns["rv"] != "vrad" || m.Stars[2].RVUnit != "km/s") {
+		if f == "sample.toml" && (m.Stars[2].Columns["rv"] != "velocity_kms" || m.Stars[2].RVUnit != "km/s") {
 			t.Errorf("toml: columns %v unit %q", m.Stars[2].Columns, m.Stars[2].RVUnit)
 		}
 	}
