@@ -132,6 +132,7 @@ func (s *Series) Clone() *Series {
 		RV:         append([]float64(nil), s.RV...),
 		RVErr:      append([]float64(nil), s.RVErr...),
 		Instrument: append([]string(nil), s.Instrument...),
+		Notes:      append([]string(nil), s.Notes...),
 	}
 	for _, ind := range s.Indicators {
 		ci := Indicator{Name: ind.Name, Unit: ind.Unit, Value: append([]float64(nil), ind.Value...)}
