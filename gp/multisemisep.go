@@ -188,6 +188,9 @@ type mrWork struct {
 	s               []float64 // N×R×R (S_n)
 	a, d, z, y      []float64 // N
 	cs              []float64 // N×terms×2 (cos, sin of d t)
+	// adjoints (LogLikelihoodGrad)
+	bU, bV, bPhi, bW []float64 // N×R
+	bD, bA, bz       []float64 // N
 }
 
 var mrPool sync.Pool
@@ -201,6 +204,8 @@ func (m *MultiRotation) work() *mrWork {
 			w: make([]float64, n*mrRank), f: make([]float64, n*mrRank), s: make([]float64, n*mrRank*mrRank),
 			a: make([]float64, n), d: make([]float64, n), z: make([]float64, n), y: make([]float64, n),
 			cs: make([]float64, n*mrTerms*2),
+			bU: make([]float64, n*mrRank), bV: make([]float64, n*mrRank), bPhi: make([]float64, n*mrRank), bW: make([]float64, n*mrRank),
+			bD: make([]float64, n), bA: make([]float64, n), bz: make([]float64, n),
 		}
 	}
 	return ws
@@ -374,13 +379,11 @@ func (m *MultiRotation) eval(p []float64, r [][]float64, grad []float64) (float6
 func (m *MultiRotation) backward(ws *mrWork, p []float64, tc [mrTerms]termCoef, grad []float64) {
 	const R = mrRank
 	n := len(m.t)
-	bU := make([]float64, n*R)
-	bV := make([]float64, n*R)
-	bPhi := make([]float64, n*R)
-	bW := make([]float64, n*R)
-	bD := make([]float64, n)
-	bA := make([]float64, n)
-	bz := make([]float64, n)
+	bU, bV, bPhi, bW := ws.bU[:n*R], ws.bV[:n*R], ws.bPhi[:n*R], ws.bW[:n*R]
+	bD, bA, bz := ws.bD[:n], ws.bA[:n], ws.bz[:n]
+	for _, v := range [][]float64{bU, bV, bPhi, bW, bA} {
+		clear(v)
+	}
 	for k := 0; k < n; k++ {
 		dk := ws.d[k]
 		bz[k] = -ws.z[k] / dk
