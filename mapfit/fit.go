@@ -87,7 +87,8 @@ type Result struct {
 	Converged bool   `json:"converged"`
 	Status    string `json:"status"`
 	// GradNorm is the largest component of the gradient of ln posterior in
-	// the transformed coordinates at X: small at a stationary point.
+	// the transformed coordinates at X over the parameters not at a bound:
+	// small at a stationary point.
 	GradNorm float64 `json:"grad_norm"`
 	// AtBound flags parameters whose MAP lies on a bound.
 	AtBound     []Bound `json:"at_bound"`
@@ -202,13 +203,26 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	}
 	res.AtBound = p.Space.AtBound(res.X)
 	ub, _ := p.Space.ToU(nil, res.X)
-	g := make([]float64, d)
-	p.gradU(g, ub, false)
-	for _, v := range g {
-		res.GradNorm = math.Max(res.GradNorm, math.Abs(v))
-	}
+	res.GradNorm = p.interiorGrad(ub)
 	if !s.NoLaplace {
 		res.Laplace = p.laplace(res.X)
+		if !res.Converged && res.Laplace.covU != nil && res.Laplace.PositiveDefinite {
+			// The Newton decrement ½ gᵀH⁻¹g bounds what a further step
+			// could gain in ln posterior (common practice); below 0.01 the
+			// optimum is reached to well within its statistical error.
+			g := make([]float64, d)
+			p.gradU(g, ub, false)
+			dec := 0.0
+			for i := 0; i < d; i++ {
+				for j := 0; j < d; j++ {
+					dec += 0.5 * g[i] * res.Laplace.covU.At(i, j) * g[j]
+				}
+			}
+			if dec < 0.01 {
+				res.Converged = true
+				res.Status = fmt.Sprintf("Newton decrement %.1g; gonum: %s", dec, res.Status)
+			}
+		}
 	}
 	return res, nil
 }
@@ -325,17 +339,16 @@ func (p *Problem) run(u0 []float64, s *Settings) StartResult {
 		}
 	}
 	u, fu, status, err := p.bfgs(u, fu, f, &evals, s.MaxEvaluations-evals)
+	for restart := 0; restart < 2 && status == optimize.Failure && evals < s.MaxEvaluations; restart++ {
+		// A failed line search often comes from a stale Hessian estimate:
+		// restart from the point reached.
+		u, fu, status, err = p.bfgs(u, fu, f, &evals, s.MaxEvaluations-evals)
+	}
 	// A line-search failure right at a stationary point (fd noise) is a
 	// convergence: check the gradient directly.
 	conv := converged(status)
 	if !conv && err != nil && !math.IsInf(fu, 1) {
-		g := make([]float64, len(u))
-		p.gradU(g, u, false)
-		gm := 0.0
-		for _, v := range g {
-			gm = math.Max(gm, math.Abs(v))
-		}
-		if gm < 1e-3 {
+		if p.interiorGrad(u) < 1e-3 {
 			conv = true
 			status = stationary
 		}
@@ -347,6 +360,22 @@ func (p *Problem) run(u0 []float64, s *Settings) StartResult {
 	out.Converged = conv
 	out.Evaluations = evals
 	return out
+}
+
+// interiorGrad returns the largest component of the objective's gradient
+// in u over the parameters not at a bound (a parameter at a bound has its
+// optimum at infinity in u, where its gradient only fades).
+func (p *Problem) interiorGrad(u []float64) float64 {
+	g := make([]float64, len(u))
+	p.gradU(g, u, false)
+	ab := p.Space.AtBound(p.Space.ToX(nil, u))
+	gm := 0.0
+	for i, v := range g {
+		if ab[i] == Inside {
+			gm = math.Max(gm, math.Abs(v))
+		}
+	}
+	return gm
 }
 
 // bfgs runs gonum's BFGS from u (objective fu) within maxEval evaluations

@@ -42,6 +42,8 @@ type Laplace struct {
 	// Unconstrained flags parameters with weight in directions of zero or
 	// negative curvature.
 	Unconstrained []bool `json:"unconstrained"`
+
+	covU *mat.SymDense // H⁻¹ in u
 }
 
 // laplace returns the Laplace approximation about the MAP xhat.
@@ -78,6 +80,7 @@ func (p *Problem) laplace(xhat []float64) *Laplace {
 	J, _ := p.Space.jacobian(u)
 	covU, logdet, pd, bad := invertCurvature(H)
 	out.PositiveDefinite = pd
+	out.covU = covU
 	if covU == nil {
 		for i := range out.Unconstrained {
 			out.Unconstrained[i] = true

@@ -71,6 +71,10 @@ type FitResult struct {
 	Converged   bool   `json:"converged"`
 	Status      string `json:"status"`
 	StartsAgree int    `json:"starts_agree"`
+	// GradNorm is the largest component of the gradient of ln posterior in
+	// the transformed coordinates at θ̂ over the parameters not at a bound
+	// (near zero at a stationary point).
+	GradNorm float64 `json:"grad_norm"`
 	// Planets holds the orbits in physical parameters.
 	Planets []PlanetFit `json:"planets"`
 	// Instruments, Offsets (m/s), Trend (m/s/d, m/s/d² about
@@ -215,7 +219,7 @@ func FitModel(s *Series, nPlanets int, noise NoiseModel, opts *FitOptions) (*Fit
 		return nil, fmt.Errorf("%s: %w", s.Name, err)
 	}
 	out := &FitResult{ParamNames: m.ParamNames(), model: m, Instruments: m.Instruments(), NObs: len(m.t),
-		Evaluations: fit.Evaluations, BestStart: fit.Best, Converged: fit.Converged, Status: fit.Status, StartsAgree: fit.Agree}
+		Evaluations: fit.Evaluations, BestStart: fit.Best, Converged: fit.Converged, Status: fit.Status, StartsAgree: fit.Agree, GradNorm: fit.GradNorm}
 	for _, st := range fit.Starts {
 		out.StartLogPosteriors = append(out.StartLogPosteriors, st.LogPost)
 	}

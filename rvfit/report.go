@@ -103,7 +103,7 @@ func (r *FitResult) WriteParams(w io.Writer) error {
 	if !r.Converged {
 		conv = "NOT converged"
 	}
-	fmt.Fprintf(bw, "optimiser: %s (%s); %d of %d starts reached the best optimum\n", conv, r.Status, r.StartsAgree, len(r.StartLogPosteriors))
+	fmt.Fprintf(bw, "optimiser: %s (%s, largest gradient %.2g); %d of %d starts reached the best optimum\n", conv, r.Status, r.GradNorm, r.StartsAgree, len(r.StartLogPosteriors))
 	if !r.HessianOK {
 		fmt.Fprintln(bw, "warning: the Hessian is not positive definite; errors shown as — are unknown and the evidence is not available")
 	}

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 
+	"spotsift/activity"
 	"spotsift/rvfit"
 	"spotsift/rvfit/rvgp"
 )
@@ -71,6 +72,20 @@ autocorrelation time and convergence.`)
 	var ao rvgp.ActivityOptions
 	if star != nil {
 		ao = rvgp.ActivityOptions{Rotation: star.RotationPeriod, RotationErr: star.RotationPeriodErr}
+	}
+	if *activityKind == rvgp.Rotation || *activityKind == rvgp.Multi {
+		// The first start: the optimum of the activity model alone with its
+		// linear terms profiled and an analytic gradient (cheap).
+		gm := activity.GPRotation
+		if *activityKind == rvgp.Multi {
+			gm = activity.GPMulti
+		}
+		if g, err := activity.FitGPActivity(s, &activity.GPActivityOptions{Model: gm, Rotation: ao.Rotation, RotationErr: ao.RotationErr, Workers: c.workers}); err == nil {
+			ao.Start = map[string]float64{}
+			for i, n := range g.Names {
+				ao.Start[n] = g.Params[i]
+			}
+		}
 	}
 	noise, priors, err := rvgp.NewActivity(*activityKind, s, ao)
 	if err != nil {

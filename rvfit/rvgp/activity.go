@@ -27,6 +27,11 @@ type ActivityOptions struct {
 	// its error; zero means unknown (RotationErr zero with a period means
 	// 10%).
 	Rotation, RotationErr float64
+	// Start, when not nil, gives starting values by parameter name for
+	// the first start (for example the optimum of a cheaper fit of the
+	// activity model alone, activity.FitGPActivity); the other starts
+	// cycle through the starting periods.
+	Start map[string]float64
 }
 
 // NewActivity returns the activity noise model kind (Rotation,
@@ -97,7 +102,12 @@ func NewActivity(kind string, s *rvfit.Series, o ActivityOptions) (rvfit.NoiseMo
 		priors["gp_eta3"] = pPrior
 		priors["gp_eta4"] = rvfit.LogUniform{Min: 0.1, Max: 5}
 	case Multi:
-		return multiActivity(s, priors, pPrior, pHi, sd, starts)
+		n, pri, err := multiActivity(s, priors, pPrior, pHi, sd, starts)
+		if err == nil {
+			mn := n.(*MultiNoise)
+			mn.first = firstStart(mn.names, mn.start, o.Start)
+		}
+		return n, pri, err
 	default:
 		return nil, nil, fmt.Errorf("%w: activity model %q: want none, %s, %s or %s", rvfit.ErrBadOption, kind, Rotation, QuasiPeriodic, Multi)
 	}
@@ -114,6 +124,7 @@ func NewActivity(kind string, s *rvfit.Series, o ActivityOptions) (rvfit.NoiseMo
 	for range instruments {
 		n.start = append(n.start, 0.3*sd)
 	}
+	n.first = firstStart(n.names, n.start, o.Start)
 	return n, priors, nil
 }
 
@@ -229,6 +240,25 @@ func startPeriods(s *rvfit.Series, rot, lo, hi float64) []float64 {
 	}
 	if len(out) == 0 {
 		out = append(out, math.Sqrt(lo*hi))
+	}
+	return out
+}
+
+// firstStart returns the default start with the values given by name
+// replaced (nil when none is given).
+func firstStart(names []string, def []float64, given map[string]float64) []float64 {
+	if len(given) == 0 {
+		return nil
+	}
+	out := append([]float64(nil), def...)
+	hit := false
+	for i, n := range names {
+		if v, ok := given[n]; ok && !math.IsNaN(v) && !math.IsInf(v, 0) {
+			out[i], hit = v, true
+		}
+	}
+	if !hit {
+		return nil
 	}
 	return out
 }

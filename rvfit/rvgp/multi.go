@@ -41,6 +41,7 @@ type MultiNoise struct {
 	hasBIS  bool
 	hasInd  bool
 	start   []float64 // starting values of every parameter but the period
+	first   []float64 // the first start, when given (ActivityOptions.Start)
 }
 
 var (
@@ -244,6 +245,9 @@ func (m *MultiNoise) PredictNoise(t, resid, variance []float64, inst []int, p []
 // indicators' signed by their correlation with the RVs), slopes 0,
 // jitters 0.3 of the scatter.
 func (m *MultiNoise) NoiseStart(st int, rng *rand.Rand) []float64 {
+	if st == 0 && m.first != nil {
+		return append([]float64(nil), m.first...)
+	}
 	return periodStart(m.start, 0, m.starts, st)
 }
 

@@ -28,6 +28,7 @@ type Noise struct {
 	periodIdx int
 	starts    []float64
 	start     []float64 // the kernel's starting parameters and jitters
+	first     []float64 // the first start, when given (ActivityOptions.Start)
 }
 
 var (
@@ -100,5 +101,8 @@ func (n *Noise) PredictNoise(t, resid, variance []float64, inst []int, params []
 // parameters those of the kernel given to New and the jitters those set
 // by NewActivity.
 func (n *Noise) NoiseStart(st int, rng *rand.Rand) []float64 {
+	if st == 0 && n.first != nil {
+		return append([]float64(nil), n.first...)
+	}
 	return periodStart(n.start, n.periodIdx, n.starts, st)
 }
