@@ -77,9 +77,15 @@ partial survey), 2 bad usage or a bad manifest.`)
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	finished := make(chan struct{})
-	defer close(finished)
+	// The watcher ends, and is waited for, before runSurvey returns: it
+	// must never write to stderr after that.
+	finished, watcherDone := make(chan struct{}), make(chan struct{})
+	defer func() {
+		close(finished)
+		<-watcherDone
+	}()
 	go func() {
+		defer close(watcherDone)
 		select {
 		case <-ctx.Done():
 			// A second Ctrl-C kills at once; every file is renamed into
