@@ -12,32 +12,8 @@ import (
 	"testing"
 
 	"spotsift/rvfit"
+	"spotsift/rvfit/rvtest"
 )
-
-// realDataDir returns ../shared/realdata beside the repository root (the
-// folder with go.mod), or skips the test when it is absent.
-func realDataDir(t *testing.T) string {
-	t.Helper()
-	dir, err := os.Getwd()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			break
-		}
-		up := filepath.Dir(dir)
-		if up == dir {
-			t.Skip("no go.mod above the test: cannot find ../shared/realdata")
-		}
-		dir = up
-	}
-	rd := filepath.Join(dir, "..", "shared", "realdata")
-	if _, err := os.Stat(rd); err != nil {
-		t.Skipf("the real-data folder %s is absent: these tests need the public RV files described in its README", rd)
-	}
-	return rd
-}
 
 // readColumns reads a whitespace- (or tab-) separated table, skipping
 // blank lines, '#' comments and lines whose first field is not a number,
@@ -168,7 +144,7 @@ func TestRealStars(t *testing.T) {
 	if os.Getenv("SPOTSIFT_LONG") == "" {
 		t.Skip("the real stars take minutes; set SPOTSIFT_LONG=1 to run them")
 	}
-	dir := realDataDir(t)
+	dir := rvtest.RealDataDir(t)
 	for _, rs := range realStars() {
 		if rs.slow && os.Getenv("SPOTSIFT_REALSTARS_ALL") == "" {
 			t.Logf("%s left out: its diagnosis takes far longer than the others; set SPOTSIFT_REALSTARS_ALL=1 to include it", rs.name)

@@ -7,26 +7,9 @@ import (
 	"regexp"
 	"strings"
 	"testing"
-)
 
-// repoRoot walks up from the test's directory to the folder holding go.mod.
-func repoRoot(t *testing.T) string {
-	t.Helper()
-	dir, err := os.Getwd()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			return dir
-		}
-		parent := filepath.Dir(dir)
-		if parent == dir {
-			t.Fatal("no go.mod above the test directory")
-		}
-		dir = parent
-	}
-}
+	"spotsift/rvfit/rvtest"
+)
 
 // textFile is one repository file read for citations.
 type textFile struct {
@@ -82,7 +65,7 @@ var forbiddenDocs = []string{"METHODS" + ".md", "DESIGN" + ".md", "STYLE" + ".md
 // the repository: the planning notes by name, and any other *.md path that no file of
 // the repository matches.
 func TestNoCitationsOfOutsideDocuments(t *testing.T) {
-	root := repoRoot(t)
+	root := rvtest.RepoRoot(t)
 	files := repoTextFiles(t, root)
 	have := map[string]bool{} // repository-relative paths and base names of .md files
 	for _, f := range files {
@@ -139,7 +122,7 @@ func isForbidden(ref string) bool {
 // TestMethodsSectionsExist checks that every "docs/methods.md §N" (or "Appendix X")
 // citation names a section that docs/methods.md has.
 func TestMethodsSectionsExist(t *testing.T) {
-	root := repoRoot(t)
+	root := rvtest.RepoRoot(t)
 	doc, err := os.ReadFile(filepath.Join(root, "docs", "methods.md"))
 	if err != nil {
 		t.Fatal(err)

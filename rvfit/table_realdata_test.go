@@ -1,36 +1,12 @@
 package rvfit
 
 import (
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
-)
 
-// realDataDir returns ../shared/realdata beside the repository root, or
-// skips the test when it is absent.
-func realDataDir(t testing.TB) string {
-	t.Helper()
-	dir, err := os.Getwd()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			break
-		}
-		parent := filepath.Dir(dir)
-		if parent == dir {
-			t.Skip("no go.mod above the test's folder")
-		}
-		dir = parent
-	}
-	rd := filepath.Join(dir, "..", "shared", "realdata")
-	if _, err := os.Stat(rd); err != nil {
-		t.Skipf("public RV files not found at %s (the folder of real data beside the repository); skipping", rd)
-	}
-	return rd
-}
+	"spotsift/rvfit/rvtest"
+)
 
 // realFiles are the public files of ../shared/realdata with the options
 // README.md documents for each ("Reading real tables"). minRows is the
@@ -58,7 +34,7 @@ var realFiles = []struct {
 }
 
 func TestReadRealFiles(t *testing.T) {
-	rd := realDataDir(t)
+	rd := rvtest.RealDataDir(t)
 	for _, tt := range realFiles {
 		t.Run(tt.file, func(t *testing.T) {
 			opts := tt.opts
@@ -101,7 +77,7 @@ func indicatorNamesOf(s *Series) string {
 // f_RV != 0 (11 before the split, 4 after, counted with awk) and one APF
 // epoch whose two exposures share a time stamp, averaged.
 func TestEpsEriDataSet(t *testing.T) {
-	realDataDir(t)
+	rvtest.RealDataDir(t)
 	tables, err := ReadDataSetFile("../testdata/realdata/eps-eri.toml")
 	if err != nil {
 		t.Fatal(err)
