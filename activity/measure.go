@@ -209,9 +209,18 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 	}
 	mask := opts.Mask
 	if mask == nil {
-		m, err := BuildMask(paths, opts)
+		m, unread, err := buildMask(paths, opts)
 		if err != nil {
-			return nil, nil, err
+			// When no spectrum could be read, each file's reason is
+			// the user's only lead: return them as failures.
+			for _, f := range unread {
+				if errors.Is(f.Err, indicators.ErrNotSpectrum) {
+					rep.Skipped = append(rep.Skipped, f)
+				} else {
+					failures = append(failures, f)
+				}
+			}
+			return nil, failures, err
 		}
 		mask = m
 	}
@@ -387,8 +396,16 @@ func SpectrumFiles(dirOrGlob string) ([]string, error) {
 // BuildMask builds a line mask from the first opts.MaskSpectra (default 20)
 // readable files of paths with indicators.BuildMask and opts.MaskOptions,
 // as Measure does when opts.Mask is nil. Files that cannot be read are
-// skipped here (Measure reports them).
+// skipped here (Measure reports them); when none can be read, the error
+// wraps ErrNoSpectra and quotes the first file's reason.
 func BuildMask(paths []string, opts *MeasureOptions) (*indicators.Mask, error) {
+	m, _, err := buildMask(paths, opts)
+	return m, err
+}
+
+// buildMask is BuildMask, also returning the files it could not read
+// (only when no spectrum could be read at all, the mask's error).
+func buildMask(paths []string, opts *MeasureOptions) (*indicators.Mask, []MeasureFailure, error) {
 	if opts == nil {
 		opts = &MeasureOptions{}
 	}
@@ -397,6 +414,8 @@ func BuildMask(paths []string, opts *MeasureOptions) (*indicators.Mask, error) {
 		n = 20
 	}
 	var specs []*indicators.Spectrum
+	var used []string
+	var unread []MeasureFailure
 	for _, p := range paths {
 		if len(specs) == n {
 			break
@@ -407,12 +426,28 @@ func BuildMask(paths []string, opts *MeasureOptions) (*indicators.Mask, error) {
 			return err
 		})
 		if err != nil {
+			unread = append(unread, MeasureFailure{Path: p, Err: err})
 			continue
 		}
 		specs = append(specs, s)
+		used = append(used, p)
 	}
 	if len(specs) == 0 {
-		return nil, fmt.Errorf("%w: no spectrum could be read to build a mask", ErrNoSpectra)
+		var first error
+		for _, f := range unread {
+			if !errors.Is(f.Err, indicators.ErrNotSpectrum) {
+				first = f.Err
+				break
+			}
+		}
+		if first == nil {
+			return nil, unread, fmt.Errorf("%w: none of the %d files is a spectrum", ErrNoSpectra, len(paths))
+		}
+		more := ""
+		if len(unread) > 1 {
+			more = fmt.Sprintf(" (and %d more files unreadable)", len(unread)-1)
+		}
+		return nil, unread, fmt.Errorf("%w: no spectrum could be read to build a mask; the first: %w%s", ErrNoSpectra, first, more)
 	}
 	var m *indicators.Mask
 	err := guard("the mask", func() (err error) {
@@ -420,9 +455,17 @@ func BuildMask(paths []string, opts *MeasureOptions) (*indicators.Mask, error) {
 		return err
 	})
 	if err != nil {
-		return nil, fmt.Errorf("building a mask from %d spectra: %w", len(specs), err)
+		return nil, nil, fmt.Errorf("building a mask from %d spectra (%s): %w", len(specs), nameSome(used), err)
 	}
-	return m, nil
+	return m, nil, nil
+}
+
+// nameSome names files for a message: up to three, then how many more.
+func nameSome(paths []string) string {
+	if len(paths) <= 3 {
+		return strings.Join(paths, ", ")
+	}
+	return fmt.Sprintf("%s and %d more", strings.Join(paths[:3], ", "), len(paths)-3)
 }
 
 // ErrInternal is wrapped by the failure of a spectrum whose reading or

@@ -214,7 +214,11 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 			if allPadding(data[pos:]) {
 				break
 			}
-			return nil, fileErr(name, h, "XTENSION", fmt.Errorf("%w: extension does not start with XTENSION", ErrNotFITS))
+			// Most often the previous HDU's size keywords are wrong
+			// (NAXIS = 0 before a data array): say so.
+			prev := spans[h-1]
+			return nil, fileErr(name, h, "XTENSION", fmt.Errorf("%w: extension does not start with XTENSION; HDU %d before it declares %s (%d data bytes): is NAXIS, NAXISn or BITPIX wrong?",
+				ErrNotFITS, h-1, describeAxes(prev), prev.dataLen))
 		}
 		sp := hduSpan{gcount: 1, hdrStart: pos, cards: map[string]any{}}
 		lastKey := ""
@@ -349,7 +353,8 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 		size := abs(sp.bitpix) / 8
 		fbytes := float64(size) * float64(sp.gcount) * (float64(sp.pcount) + fn)
 		if fbytes > float64(len(data)-pos) {
-			return nil, fileErr(name, h, "", fmt.Errorf("%w: data needs %.0f bytes, file holds %d", ErrTruncated, fbytes, len(data)-pos))
+			return nil, fileErr(name, h, "", fmt.Errorf("%w: %s and BITPIX = %d declare %.0f data bytes, the file holds %d after the header (a wrong NAXISn, or a cut file)",
+				ErrTruncated, describeAxes(sp), sp.bitpix, fbytes, len(data)-pos))
 		}
 		n := 0
 		if naxis > 0 {
@@ -370,6 +375,20 @@ func walkFITS(data []byte, name string) ([]hduSpan, error) {
 		}
 	}
 	return spans, nil
+}
+
+// describeAxes writes an HDU's axis keywords for a message, e.g.
+// "NAXIS = 2, NAXIS1 = 4000, NAXIS2 = 72".
+func describeAxes(sp hduSpan) string {
+	parts := []string{fmt.Sprintf("NAXIS = %d", len(sp.axes))}
+	for i, a := range sp.axes {
+		if i == 3 {
+			parts = append(parts, "...")
+			break
+		}
+		parts = append(parts, fmt.Sprintf("NAXIS%d = %d", i+1, a))
+	}
+	return strings.Join(parts, ", ")
 }
 
 // structural reports whether k is a keyword that fixes the size or layout
@@ -872,6 +891,14 @@ func wcsWavelengths(fh, prim header, n int) ([]float64, error) {
 		}
 	default:
 		return nil, fileErr(fh.file, fh.hdu, "CTYPE1", fmt.Errorf("%w: spectral axis type %q not supported", ErrBadKeyword, ctype))
+	}
+	// Absurd values (CRVAL1 = 1e308) give infinite wavelengths or a step
+	// lost in rounding: blame the keywords, not a pixel.
+	for i, w := range wl {
+		if math.IsInf(w, 0) || math.IsNaN(w) || i > 0 && w == wl[i-1] {
+			return nil, fileErr(fh.file, fh.hdu, "CRVAL1", fmt.Errorf("%w: CRVAL1 = %g, CDELT1 = %g, CRPIX1 = %g give no usable wavelength grid (pixel %d at %g)",
+				ErrBadKeyword, crval, delt, crpix, i+1, w))
+		}
 	}
 	return wl, nil
 }

@@ -160,7 +160,9 @@ func checkBinTableColumns(hdu int, kw map[string]string, integer func(string, in
 		rep := int64(1)
 		if j > 0 {
 			r, err := strconv.ParseInt(f[:j], 10, 64)
-			if err != nil || r > rowLen {
+			// A count beyond the row is reported below, with NAXIS1;
+			// the bound only keeps the sum from overflowing.
+			if err != nil || r > maxFITSBytes {
 				return fmt.Errorf("HDU %d: %s = %q has a bad repeat count", hdu, key, f)
 			}
 			rep = r
@@ -180,7 +182,7 @@ func checkBinTableColumns(hdu int, kw map[string]string, integer func(string, in
 		total += rep * w
 	}
 	if total != rowLen {
-		return fmt.Errorf("HDU %d: columns add up to %d bytes a row, NAXIS1 says %d", hdu, total, rowLen)
+		return fmt.Errorf("HDU %d: NAXIS1 = %d bytes a row, but the columns TFORM1 to TFORM%d add up to %d bytes a row: NAXIS1 or a TFORMn is wrong", hdu, rowLen, nf, total)
 	}
 	return nil
 }

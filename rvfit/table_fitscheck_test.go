@@ -45,7 +45,8 @@ func TestFITSTableLayoutCheck(t *testing.T) {
 		{"TFORM1", "'Z       '", "unknown type code"},
 		{"TFORM1", "'2D      '", "NAXIS1"},
 		{"TFORM1", "'99999999999D'", "repeat count"},
-		{"NAXIS1", "1000", "NAXIS1 says 1000"},
+		{"NAXIS1", "1000", "NAXIS1 = 1000 bytes a row"},
+		{"NAXIS1", "5", "add up to 72 bytes a row"}, // shorter than one column's repeat count: still a row-length mismatch
 		{"NAXIS2", "100000", "truncated"},
 	} {
 		b := setCard(t, good.Bytes(), c.key, c.value)

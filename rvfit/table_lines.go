@@ -19,7 +19,8 @@ const maxLineBytes = 1 << 20
 const maxColumns = 10000
 
 // lineReader reads the lines of a text table one at a time, whatever their
-// ending (LF, CRLF or a lone CR), refusing NUL bytes, over-long lines and
+// ending (LF, CRLF or a lone CR), refusing NUL bytes and other control
+// characters (binary data; tabs and form feeds pass), over-long lines and
 // text that is not UTF-8. It decodes UTF-16 text that starts with a
 // byte-order mark.
 type lineReader struct {
@@ -118,6 +119,11 @@ func (lr *lineReader) next(file string) (string, error) {
 	}
 	if !utf8.Valid(b) {
 		return "", &TableError{File: file, Line: lr.line, Err: fmt.Errorf("%w: line is not UTF-8 text", ErrBadFormat)}
+	}
+	// Other control characters mark binary data too; name the byte, never
+	// echo it.
+	if i := bytes.IndexFunc(b, func(r rune) bool { return r < 0x20 && r != '\t' && r != '\f' && r != '\v' || r == 0x7f }); i >= 0 {
+		return "", &TableError{File: file, Line: lr.line, Err: fmt.Errorf("%w: binary data at byte %d of the line (control character 0x%02x): a table is text", ErrBadFormat, i+1, b[i])}
 	}
 	return string(b), nil
 }

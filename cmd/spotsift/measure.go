@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -112,6 +113,10 @@ that fail on an otherwise good spectrum.`)
 	reportMeasure(e, rep, c.quiet)
 	reportFailures(e, failures, c.quiet)
 	if err != nil {
+		if errors.Is(err, activity.ErrNoSpectra) && len(failures) > 0 {
+			// Each file's reason is printed above; do not repeat one.
+			err = errorf("measure: no spectrum could be measured from %s: the reason of each file is above", *spectra)
+		}
 		return fail(e, exitFailed, err)
 	}
 	if err := rvfit.WriteTable(*out, s, &rvfit.WriteOptions{Creator: "spotsift " + version}); err != nil {
