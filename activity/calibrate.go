@@ -8,10 +8,11 @@ import (
 	"runtime"
 	"sort"
 	"strings"
-	"sync"
 
 	"spotsift/activity/starsim"
 	"spotsift/rvfit"
+
+	"spotsift/internal/worker"
 )
 
 // CalibrationCase is one simulated scenario of the calibration with the
@@ -289,12 +290,10 @@ func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, 
 		}
 	}
 	results := make([]result, len(items))
-	var wg sync.WaitGroup
+	var wg worker.Group
 	next := make(chan int)
 	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			for k := range next {
 				it := items[k]
 				cs := cases[it.c]
@@ -351,13 +350,12 @@ func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, 
 					}
 				}
 			}
-		}()
+		})
 	}
-	for k := range items {
-		next <- k
+	wg.Feed(next, len(items))
+	if err := wg.Wait(); err != nil {
+		return nil, err
 	}
-	close(next)
-	wg.Wait()
 	conf := &Confusion{Counts: map[string]map[string]int{}, PerCase: map[string]map[string]map[string]int{}, Missed: map[string]int{}, Runs: len(items)}
 	for k, r := range results {
 		if r.err != nil {

@@ -17,6 +17,8 @@ import (
 
 	"spotsift/indicators"
 	"spotsift/rvfit"
+
+	"spotsift/internal/worker"
 )
 
 // MeasureOptions set how Measure turns spectra into a per-epoch series. A
@@ -469,19 +471,20 @@ func nameSome(paths []string) string {
 }
 
 // ErrInternal is wrapped by the failure of a spectrum whose reading or
-// measurement ran into a bug (a recovered panic).
-var ErrInternal = errors.New("activity: internal error")
+// measurement ran into a bug (a recovered panic, a *worker.PanicError of
+// the internal package, whose stack is kept for debug output).
+var ErrInternal = worker.ErrPanic
 
-// guard runs f, turning a panic into an error wrapping ErrInternal that
-// names what was being done; the panic's own text (a program detail) is not
-// shown.
-func guard(what string, f func() error) (err error) {
-	defer func() {
-		if r := recover(); r != nil {
-			err = fmt.Errorf("%s: %w while reading or measuring it (a bug in spotsift; please report it with this file)", what, ErrInternal)
-		}
-	}()
-	return f()
+// guard runs f, turning a panic (in f or passed on by one of its worker
+// goroutines) into an error wrapping ErrInternal that names what was being
+// done; the panic's own text and stack (program details) are not in its
+// message.
+func guard(what string, f func() error) error {
+	err := worker.Catch(f)
+	if pe := (*worker.PanicError)(nil); errors.As(err, &pe) {
+		return fmt.Errorf("%s: %w", what, pe)
+	}
+	return err
 }
 
 // readSpectrum reads one file and applies the side table.

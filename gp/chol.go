@@ -4,6 +4,8 @@ import (
 	"math"
 	"runtime"
 	"sync"
+
+	"spotsift/internal/worker"
 )
 
 // cholesky holds the lower Cholesky factor L of an n×n symmetric positive
@@ -208,13 +210,11 @@ func parallelRows(lo, hi, minChunk int, f func(a, b int)) {
 	workers = min(workers, m/minChunk)
 	// Interleave chunks so triangular work is balanced.
 	chunk := max(minChunk, m/(4*workers))
-	var wg sync.WaitGroup
+	var wg worker.Group
 	var mu sync.Mutex
 	next := lo
 	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			for {
 				mu.Lock()
 				s := next
@@ -225,9 +225,9 @@ func parallelRows(lo, hi, minChunk int, f func(a, b int)) {
 				}
 				f(s, min(s+chunk, hi))
 			}
-		}()
+		})
 	}
-	wg.Wait()
+	wg.Rethrow()
 }
 
 func dot(x, y []float64) float64 {

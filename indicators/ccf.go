@@ -6,6 +6,8 @@ import (
 	"runtime"
 	"sort"
 	"sync"
+
+	"spotsift/internal/worker"
 )
 
 // CCFOptions set the velocity grid and hole width of a cross-correlation.
@@ -379,16 +381,12 @@ func (p *ccfPlan) run() *CCF {
 			split++
 		}
 	}
-	var wg sync.WaitGroup
+	var wg worker.Group
 	if split < len(p.places) {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			p.runPlaces(c, wsum, p.places[split:])
-		}()
+		wg.Go(func() { p.runPlaces(c, wsum, p.places[split:]) })
 	}
 	p.runPlaces(c, wsum, p.places[:split])
-	wg.Wait()
+	wg.Rethrow()
 	for s := range c.Segments {
 		c.Segments[s].Wavelength /= wsum[s]
 		for k := 0; k < nv; k++ {
@@ -481,19 +479,15 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 		zhi = max(zhi, o.offset+searchEdges(o.edges, pl.lambda*dhi)+2)
 	}
 	var accB, zoneB []float64
-	var wg sync.WaitGroup
+	var wg worker.Group
 	second := func() { accB, zoneB = p.propagateSlots(slots, seg, sg, vs, p.places[split:], zlo, zhi) }
 	if p.serial {
 		second()
 	} else {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			second()
-		}()
+		wg.Go(second)
 	}
 	accA, zoneA := p.propagateSlots(slots, seg, sg, vs, p.places[:split], zlo, zhi)
-	wg.Wait()
+	wg.Rethrow()
 	const ns = 8
 	sig2 := p.sig2()
 	vq = make([]float64, propQ)

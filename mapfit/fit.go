@@ -5,10 +5,11 @@ import (
 	"fmt"
 	"math"
 	"runtime"
-	"sync"
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/optimize"
+
+	"spotsift/internal/worker"
 )
 
 // ErrNoStart is returned when no start reached a finite posterior.
@@ -131,7 +132,8 @@ func (r *Result) Summary() string {
 // best optimum gets its Laplace approximation.
 //
 // Errors: ErrSpace for a bad space or a start outside it, ErrNoStart when
-// no start reached a finite posterior.
+// no start reached a finite posterior; a panic in the posterior (a bug) is
+// returned as an error wrapping worker.ErrPanic, not raised.
 func Fit(p *Problem, set *Settings) (*Result, error) {
 	var s Settings
 	if set != nil {
@@ -168,21 +170,18 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	}
 	nw = min(nw, len(u0))
 	jobs := make(chan int)
-	var wg sync.WaitGroup
+	var wg worker.Group
 	for w := 0; w < nw; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			for i := range jobs {
 				res.Starts[i] = p.run(u0[i], &s)
 			}
-		}()
+		})
 	}
-	for i := range u0 {
-		jobs <- i
+	wg.Feed(jobs, len(u0))
+	if err := wg.Wait(); err != nil {
+		return nil, err
 	}
-	close(jobs)
-	wg.Wait()
 	res.Best = -1
 	for i, st := range res.Starts {
 		res.Evaluations += st.Evaluations

@@ -5,6 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"sync"
+
+	"spotsift/internal/worker"
 )
 
 // EnsembleOptions controls SampleEnsemble. The zero value (or nil) gives
@@ -67,7 +69,9 @@ func (c *Chain) Trace(i, burn, thin int) [][]float64 {
 // log-probabilities are evaluated in parallel, so the chain is the same
 // for any number of workers. logp must be safe for concurrent use.
 //
-// Errors: ErrBadWalkers for a bad ensemble, ErrBadOption for bad options.
+// Errors: ErrBadWalkers for a bad ensemble, ErrBadOption for bad options;
+// a panic in logp is returned as an error wrapping worker.ErrPanic (the
+// internal package's), not raised.
 func SampleEnsemble(logp func([]float64) float64, init [][]float64, opts *EnsembleOptions) (*Chain, error) {
 	var o EnsembleOptions
 	if opts != nil {
@@ -109,14 +113,12 @@ func SampleEnsemble(logp func([]float64) float64, init [][]float64, opts *Ensemb
 		return nil, fmt.Errorf("%w: all walkers start at one point", ErrBadWalkers)
 	}
 	nw := workers(o.Workers)
-	evalAll := func(xs [][]float64, dst []float64) {
-		var wg sync.WaitGroup
+	evalAll := func(xs [][]float64, dst []float64) error {
+		var wg worker.Group
 		var next int
 		var mu sync.Mutex
 		for g := 0; g < min(nw, len(xs)); g++ {
-			wg.Add(1)
-			go func() {
-				defer wg.Done()
+			wg.Go(func() {
 				for {
 					mu.Lock()
 					i := next
@@ -127,11 +129,13 @@ func SampleEnsemble(logp func([]float64) float64, init [][]float64, opts *Ensemb
 					}
 					dst[i] = logp(xs[i])
 				}
-			}()
+			})
 		}
-		wg.Wait()
+		return wg.Wait()
 	}
-	evalAll(cur, lp)
+	if err := evalAll(cur, lp); err != nil {
+		return nil, fmt.Errorf("the log-probability of the starting walkers: %w", err)
+	}
 	for w, v := range lp {
 		if math.IsInf(v, 0) || math.IsNaN(v) {
 			return nil, fmt.Errorf("%w: walker %d starts at log-probability %g", ErrBadWalkers, w, v)
@@ -161,7 +165,9 @@ func SampleEnsemble(logp func([]float64) float64, init [][]float64, opts *Ensemb
 					prop[k][i] = xj[i] + z*(xk[i]-xj[i])
 				}
 			}
-			evalAll(prop, plp)
+			if err := evalAll(prop, plp); err != nil {
+				return nil, fmt.Errorf("step %d: the log-probability: %w", s, err)
+			}
 			for k := 0; k < half; k++ {
 				q := float64(d-1)*math.Log(zs[k]) + plp[k] - lp[self+k]
 				if !math.IsNaN(q) && math.Log(us[k]) < q {

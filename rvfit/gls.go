@@ -4,8 +4,9 @@ import (
 	"fmt"
 	"math"
 	"runtime"
-	"sync"
 	"sync/atomic"
+
+	"spotsift/internal/worker"
 )
 
 // GLSOptions controls GLS. The zero value (or a nil pointer) gives the
@@ -156,11 +157,9 @@ func (d *glsData) exactSums(g Grid, nw int) *glsSums {
 	const block = 2048
 	nb := (g.N + block - 1) / block
 	var next atomic.Int64
-	var wg sync.WaitGroup
+	var wg worker.Group
 	for w := 0; w < min(nw, nb); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			for {
 				b := int(next.Add(1) - 1)
 				if b >= nb {
@@ -169,9 +168,9 @@ func (d *glsData) exactSums(g Grid, nw int) *glsSums {
 				k0 := b * block
 				d.exactBlock(s, g, k0, min(g.N, k0+block))
 			}
-		}()
+		})
 	}
-	wg.Wait()
+	wg.Rethrow()
 	return s
 }
 

@@ -4,7 +4,8 @@ import (
 	"math"
 	"math/bits"
 	"math/cmplx"
-	"sync"
+
+	"spotsift/internal/worker"
 )
 
 // nufftSpread is the half-width (grid points each side) of the Gaussian
@@ -96,12 +97,10 @@ func (p *nufftPlan) transform(x []float64, c [][]complex128, nw int) [][]complex
 		}
 	}
 	out := make([][]complex128, nq)
-	var wg sync.WaitGroup
+	var wg worker.Group
 	jobs := make(chan int)
 	for w := 0; w < min(nw, nq); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			for q := range jobs {
 				g := grids[q]
 				fftPlus(g) // Σ_m g_m e^{+2πi k m/M_r}
@@ -117,13 +116,10 @@ func (p *nufftPlan) transform(x []float64, c [][]complex128, nw int) [][]complex
 				}
 				out[q] = res
 			}
-		}()
+		})
 	}
-	for q := 0; q < nq; q++ {
-		jobs <- q
-	}
-	close(jobs)
-	wg.Wait()
+	wg.Feed(jobs, nq)
+	wg.Rethrow()
 	return out
 }
 
@@ -158,11 +154,10 @@ func (d *glsData) fastSums(g Grid, nw int) *glsSums {
 	// transforms, the first with nInst+1 vectors.
 	var F, F2 [][]complex128
 	if nw > 1 && d.nInst == 1 {
-		var wg sync.WaitGroup
-		wg.Add(1)
-		go func() { defer wg.Done(); F2 = p.transform(x2, coef2, 1) }()
+		var wg worker.Group
+		wg.Go(func() { F2 = p.transform(x2, coef2, 1) })
 		F = p.transform(x, coef, nw-1)
-		wg.Wait()
+		wg.Rethrow()
 	} else {
 		F = p.transform(x, coef, nw)
 		F2 = p.transform(x2, coef2, nw)

@@ -5,7 +5,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
-	"sync"
+
+	"spotsift/internal/worker"
 )
 
 // Alias frequencies of ground-based sampling in c/d (docs/methods.md §6
@@ -391,12 +392,10 @@ func (d *glsData) bootstrapMaxima(g Grid, nb int, seed uint64, nw int) []float64
 	for i, j := range d.inst {
 		byInst[j] = append(byInst[j], i)
 	}
-	var wg sync.WaitGroup
+	var wg worker.Group
 	jobs := make(chan int)
 	for w := 0; w < nw; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			for b := range jobs {
 				rng := rand.New(rand.NewPCG(seed, uint64(b)))
 				r := &glsData{tref: d.tref, t: d.t, y: make([]float64, len(d.t)), w: make([]float64, len(d.t)), inst: make([]int, len(d.t)), nInst: d.nInst, names: d.names}
@@ -412,13 +411,10 @@ func (d *glsData) bootstrapMaxima(g Grid, nb int, seed uint64, nw int) []float64
 				}
 				out[b] = m
 			}
-		}()
+		})
 	}
-	for b := 0; b < nb; b++ {
-		jobs <- b
-	}
-	close(jobs)
-	wg.Wait()
+	wg.Feed(jobs, nb)
+	wg.Rethrow()
 	return out
 }
 

@@ -4,7 +4,8 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"sync"
+
+	"spotsift/internal/worker"
 )
 
 // streamPhotometry is the random stream of the light curve's noise and
@@ -146,24 +147,22 @@ func (s *sim) diskFlux(t []float64, lambda float64, workers int) []float64 {
 	k := s.contrastsAt(lambda)
 	out := make([]float64, len(t))
 	workers = max(1, min(workers, len(t)/256+1))
-	var wg sync.WaitGroup
+	var wg worker.Group
 	chunk := (len(t) + workers - 1) / workers
 	for w := 0; w < workers; w++ {
 		lo, hi := w*chunk, min(len(t), (w+1)*chunk)
 		if lo >= hi {
 			break
 		}
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			var cv coverage
 			for i := lo; i < hi; i++ {
 				s.d.cover(&cv, s.regs, t[i])
 				out[i] = s.d.flux(&cv, k)
 			}
-		}()
+		})
 	}
-	wg.Wait()
+	wg.Rethrow()
 	return out
 }
 

@@ -7,10 +7,11 @@ import (
 	"runtime"
 	"sort"
 	"strconv"
-	"sync"
 
 	"spotsift/indicators"
 	"spotsift/rvfit"
+
+	"spotsift/internal/worker"
 )
 
 // RefWavelength is the wavelength (Å) at which the spot contrast of the
@@ -209,23 +210,20 @@ func Simulate(sc *Scenario, seed uint64, opts *Options) (*Result, error) {
 
 	res := &Result{Scenario: c, Seed: seed, Epochs: make([]Epoch, len(s.visits)), s: s}
 	errs := make([]error, len(s.visits))
-	var wg sync.WaitGroup
+	var wg worker.Group
 	next := make(chan int)
 	for w := 0; w < min(s.workers, len(s.visits)); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			ws := s.newWorkspace()
 			for i := range next {
 				res.Epochs[i], errs[i] = s.epoch(ws, i)
 			}
-		}()
+		})
 	}
-	for i := range s.visits {
-		next <- i
+	wg.Feed(next, len(s.visits))
+	if err := wg.Wait(); err != nil {
+		return nil, fmt.Errorf("starsim: %w", err)
 	}
-	close(next)
-	wg.Wait()
 	for i, err := range errs {
 		if err != nil {
 			return nil, fmt.Errorf("starsim: epoch %d: %w", i, err)

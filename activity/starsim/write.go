@@ -14,6 +14,8 @@ import (
 
 	"spotsift/indicators"
 	"spotsift/rvfit"
+
+	"spotsift/internal/worker"
 )
 
 // Names of the files WriteFiles writes inside its directory.
@@ -123,11 +125,9 @@ func (r *Result) EachSpectrum(workers int, fn func(i int, s *indicators.Spectrum
 	next := make(chan int)
 	stop := make(chan struct{})
 	var once sync.Once
-	var wg sync.WaitGroup
+	var wg worker.Group
 	for w := 0; w < min(nw, n); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			ws := r.s.newWorkspace()
 			flux := make([]float64, r.s.spec.n)
 			for i := range next {
@@ -135,7 +135,7 @@ func (r *Result) EachSpectrum(workers int, fn func(i int, s *indicators.Spectrum
 					once.Do(func() { close(stop) })
 				}
 			}
-		}()
+		})
 	}
 feed:
 	for i := 0; i < n; i++ {
@@ -143,10 +143,14 @@ feed:
 		case next <- i:
 		case <-stop:
 			break feed
+		case <-wg.Stopped():
+			break feed
 		}
 	}
 	close(next)
-	wg.Wait()
+	if err := wg.Wait(); err != nil {
+		return fmt.Errorf("starsim: %w", err)
+	}
 	for i, err := range errs {
 		if err != nil {
 			return fmt.Errorf("starsim: spectrum of epoch %d: %w", i+1, err)

@@ -13,6 +13,8 @@ import (
 	"time"
 
 	"spotsift/activity"
+
+	"spotsift/internal/worker"
 )
 
 // setHook installs testHookAnalyse for one test.
@@ -340,6 +342,54 @@ func TestPanicIsFailure(t *testing.T) {
 	if _, err := os.Stat(filepath.Join(out, CatalogueFile)); err != nil {
 		t.Error(err)
 	}
+}
+
+// TestWorkerPanicIsFailure: a panic in a worker goroutine of a star's
+// analysis (as in a periodogram's or a fit's pool) is passed on to the
+// star and becomes its failure, naming the function, with no stack or
+// panic text in the saved reason; the stack is kept for debug output.
+func TestWorkerPanicIsFailure(t *testing.T) {
+	stars := sample12(t)[:2]
+	setHook(t, func(ctx context.Context, name string) {
+		if name == stars[0].name {
+			var g worker.Group
+			for range 2 {
+				g.Go(func() { explodeInWorker(name) })
+			}
+			g.Rethrow()
+		}
+	})
+	out := t.TempDir()
+	sum, err := Run(context.Background(), manifestOf(stars), out, fastOpts())
+	if !errors.Is(err, ErrPartial) || sum.Run.Failed != 1 || sum.Run.Analysed != 1 {
+		t.Fatalf("%v %+v", err, sum.Run)
+	}
+	for _, r := range sum.Stars {
+		if r.Name != stars[0].name {
+			continue
+		}
+		if !strings.Contains(r.Error, "internal error in activity/survey.explodeInWorker") {
+			t.Errorf("failure reason %q, want the function that panicked", r.Error)
+		}
+		for _, bad := range []string{"goroutine ", "panic:", "runtime error", "index out of range", ".go:"} {
+			if strings.Contains(r.Error, bad) {
+				t.Errorf("failure reason %q holds %q", r.Error, bad)
+			}
+		}
+		if !strings.Contains(r.Debug, "index out of range") || !strings.Contains(r.Debug, "explodeInWorker") {
+			t.Errorf("debug output lacks the panic and its stack: %q", r.Debug)
+		}
+		st, _ := readState(filepath.Join(out, StarsDir, r.Folder))
+		if st == nil || st.Error != r.Error {
+			t.Errorf("saved state %+v, want the same reason", st)
+		}
+	}
+}
+
+// explodeInWorker is a bug: an index out of range.
+func explodeInWorker(name string) {
+	var a []int
+	_ = a[len(name)]
 }
 
 // TestNotRegularInputs: a star whose data or star file is a named pipe or

@@ -8,7 +8,6 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
-	"runtime/debug"
 	"strconv"
 	"strings"
 	"sync"
@@ -18,6 +17,8 @@ import (
 	"spotsift/activity"
 	"spotsift/activity/photometry"
 	"spotsift/rvfit"
+
+	"spotsift/internal/worker"
 )
 
 // Options controls Run. A nil *Options gives the defaults.
@@ -98,6 +99,9 @@ type StarResult struct {
 	// Seconds is the wall time of the star's analysis and report in this
 	// run.
 	Seconds float64 `json:"seconds"`
+	// Debug holds, for a star failed by a bug (a recovered panic), the
+	// panic's value and stack: for debug output only, never saved.
+	Debug string `json:"-"`
 }
 
 // Summary is the outcome of a run.
@@ -363,7 +367,8 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 	res = StarResult{Name: e.Name, Folder: Folder(e.Name), Status: StatusNotRun}
 	defer func() {
 		if r := recover(); r != nil {
-			res.Status, res.Error = StatusFailed, oneLine(fmt.Sprintf("internal error (please report it): %v | %s", r, firstFrames(debug.Stack())))
+			pe := worker.Recovered(r)
+			res.Status, res.Error, res.Debug = StatusFailed, oneLine(pe.Error()), pe.Debug()
 		}
 	}()
 	if ctx.Err() != nil {
@@ -449,6 +454,9 @@ func runStar(ctx context.Context, m *Manifest, e *Entry, outDir string, o *Optio
 		}
 		st.Status, st.Error = StatusFailed, oneLine(out.err.Error())
 		res.Status, res.Error = StatusFailed, st.Error
+		if pe := (*worker.PanicError)(nil); errors.As(out.err, &pe) {
+			res.Debug = pe.Debug()
+		}
 	} else {
 		st.fill(out.diag, out.series, out.star)
 		st.Notes = out.notes
@@ -489,11 +497,12 @@ func oneLine(s string) string { return strings.Join(strings.Fields(s), " ") }
 var testHookAnalyse atomic.Pointer[func(ctx context.Context, name string)]
 
 // produce analyses one star and writes its report into dir; a panic
-// becomes an error.
+// (its own or one a worker goroutine passed on) becomes an error, a
+// *worker.PanicError.
 func produce(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.InputHash, dir string) (out outcome) {
 	defer func() {
 		if r := recover(); r != nil {
-			out = outcome{err: fmt.Errorf("internal error (please report it): %v\n%s", r, firstFrames(debug.Stack()))}
+			out = outcome{err: worker.Recovered(r)}
 		}
 	}()
 	if h := testHookAnalyse.Load(); h != nil {
@@ -516,7 +525,7 @@ func produce(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options
 func analyse(ctx context.Context, m *Manifest, e *Entry, seed uint64, o *Options, inputs []activity.InputHash) (out outcome) {
 	defer func() {
 		if r := recover(); r != nil {
-			out = outcome{err: fmt.Errorf("internal error (please report it): %v\n%s", r, firstFrames(debug.Stack()))}
+			out = outcome{err: worker.Recovered(r)}
 		}
 	}()
 	star, err := loadStar(m, e)
@@ -593,15 +602,6 @@ func starProvenance(m *Manifest, e *Entry, o *Options, seed uint64, inputs []act
 		set["shard"] = sh
 	}
 	return activity.Provenance{Version: o.Version, Seed: seed, Command: cmd, Inputs: ins, Settings: set}
-}
-
-// firstFrames keeps the start of a stack trace.
-func firstFrames(b []byte) string {
-	lines := strings.Split(string(b), "\n")
-	if len(lines) > 12 {
-		lines = lines[:12]
-	}
-	return strings.Join(lines, " | ")
 }
 
 // loadStar reads the star file and applies the inline parameters; it

@@ -13,6 +13,8 @@ import (
 	"spotsift/activity"
 	"spotsift/indicators"
 	"spotsift/rvfit"
+
+	"spotsift/internal/worker"
 )
 
 // runMeasure is "spotsift measure": spectra to a per-epoch table.
@@ -210,6 +212,9 @@ func reportFailures(e *env, failures []activity.MeasureFailure, quiet bool) {
 		msg := strings.TrimPrefix(f.Err.Error(), f.Path+": ")
 		if !f.Partial {
 			fmt.Fprintf(e.stderr, "spotsift: %s: left out: %s\n", f.Path, msg)
+			if pe := (*worker.PanicError)(nil); errors.As(f.Err, &pe) {
+				debugPanic(e, pe.Debug())
+			}
 			continue
 		}
 		if quiet {

@@ -10,6 +10,8 @@ import (
 	"os/signal"
 	"strings"
 	"syscall"
+
+	"spotsift/internal/worker"
 )
 
 // Exit codes of every subcommand.
@@ -46,8 +48,16 @@ var commands = []command{
 	{"survey", "a whole stellar sample, in parallel, resumable", runSurvey},
 }
 
-// run is the whole program; main only exits with its result.
-func run(args []string, stdout, stderr io.Writer) int {
+// run is the whole program; main only exits with its result. A panic
+// (a bug) that reaches it, from the command's goroutine or passed on from
+// a worker's, is a failed analysis with a one-line message; its stack is
+// printed only with SPOTSIFT_DEBUG set.
+func run(args []string, stdout, stderr io.Writer) (code int) {
+	defer func() {
+		if r := recover(); r != nil {
+			code = fail(&env{stdout: stdout, stderr: stderr}, exitFailed, worker.Recovered(r))
+		}
+	}()
 	e := &env{stdout: stdout, stderr: stderr}
 	if len(args) == 0 {
 		usage(stderr)
@@ -123,7 +133,19 @@ func parseFlags(fs *flag.FlagSet, args []string) (code int, ok bool) {
 // fail prints err once, prefixed with the program name, and returns code.
 func fail(e *env, code int, err error) int {
 	fmt.Fprintf(e.stderr, "spotsift: %v\n", err)
+	var pe *worker.PanicError
+	if errors.As(err, &pe) {
+		debugPanic(e, pe.Debug())
+	}
 	return code
+}
+
+// debugPanic prints a recovered panic's value and stack when the
+// environment variable SPOTSIFT_DEBUG is set (to anything but "" or "0").
+func debugPanic(e *env, debug string) {
+	if v := os.Getenv("SPOTSIFT_DEBUG"); v != "" && v != "0" && debug != "" {
+		fmt.Fprintf(e.stderr, "spotsift: debug output (SPOTSIFT_DEBUG):\n%s\n", debug)
+	}
 }
 
 // errorf is fmt.Errorf, shortened for the commands.

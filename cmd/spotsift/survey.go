@@ -158,6 +158,7 @@ func printSurvey(e *env, sum *survey.Summary, out string) {
 	for _, f := range sum.Failed() {
 		if f.Status == survey.StatusFailed {
 			fmt.Fprintf(e.stdout, "  failed: %s: %s\n", f.Name, f.Error)
+			debugPanic(e, f.Debug)
 		}
 	}
 	if r.NotRun > 0 {
