@@ -119,8 +119,17 @@ func (r *Result) WriteFiles(dir string, opts *WriteOptions) error {
 // epochs. The first error from fn stops the remaining epochs and is
 // returned, wrapped with the epoch number.
 func (r *Result) EachSpectrum(workers int, fn func(i int, s *indicators.Spectrum) error) error {
+	return r.EachSpectrumIn(workers, 0, len(r.Epochs), fn)
+}
+
+// EachSpectrumIn is EachSpectrum for the epochs from (included) to to
+// (excluded), clamped to the epochs there are: a caller can make the
+// spectra a batch at a time. Epoch i's spectrum is the same whichever
+// batch makes it.
+func (r *Result) EachSpectrumIn(workers, from, to int, fn func(i int, s *indicators.Spectrum) error) error {
 	nw := (&Options{Workers: workers}).workers()
-	n := len(r.Epochs)
+	from, to = max(from, 0), min(to, len(r.Epochs))
+	n := max(to-from, 0)
 	errs := make([]error, n)
 	next := make(chan int)
 	stop := make(chan struct{})
@@ -130,17 +139,18 @@ func (r *Result) EachSpectrum(workers int, fn func(i int, s *indicators.Spectrum
 		wg.Go(func() {
 			ws := r.s.newWorkspace()
 			flux := make([]float64, r.s.spec.n)
-			for i := range next {
-				if errs[i] = fn(i, r.s.spectrum(ws, r, i, flux)); errs[i] != nil {
+			for k := range next {
+				i := from + k
+				if errs[k] = fn(i, r.s.spectrum(ws, r, i, flux)); errs[k] != nil {
 					once.Do(func() { close(stop) })
 				}
 			}
 		})
 	}
 feed:
-	for i := 0; i < n; i++ {
+	for k := 0; k < n; k++ {
 		select {
-		case next <- i:
+		case next <- k:
 		case <-stop:
 			break feed
 		case <-wg.Stopped():
@@ -151,9 +161,9 @@ feed:
 	if err := wg.Wait(); err != nil {
 		return fmt.Errorf("starsim: %w", err)
 	}
-	for i, err := range errs {
+	for k, err := range errs {
 		if err != nil {
-			return fmt.Errorf("starsim: spectrum of epoch %d: %w", i+1, err)
+			return fmt.Errorf("starsim: spectrum of epoch %d: %w", from+k+1, err)
 		}
 	}
 	return nil

@@ -72,10 +72,11 @@ an active K dwarf with none. It simulates their spectra (FITS), measures
 them into per-epoch tables, and vets every signal as a small survey: a
 report per star (HTML, PDF, figures, verdict JSON), a summary table, a
 catalogue and an index page to start from. The same seed gives the same
-verdicts. The spectra (about 450 MB) go to a temporary folder and are
-deleted once measured, unless --keep-spectra; the output folder holds
-about 10 MB. A rerun with the same seed and version reuses the tables and
-the verdicts.`)
+verdicts. The spectra (about 450 MB in all) are written to a temporary
+folder 32 at a time, measured and deleted, so at most about 40 MB of
+them are on disk at once; --keep-spectra keeps them all in the output
+folder instead. The output folder holds about 15 MB. A rerun with the
+same seed and version reuses the tables and the verdicts.`)
 	c.addRun(fs)
 	out := fs.String("out", "spotsift-demo", "output `directory`")
 	tables := fs.Bool("tables-only", false, "simulate tables instead of spectra (faster; skips the measurement step)")
@@ -173,7 +174,7 @@ the verdicts.`)
 	case *keep:
 		fmt.Fprintf(e.stdout, "The simulated spectra are kept in %s.\n", res.Spectra)
 	case !*tables && reused < len(demos):
-		fmt.Fprintln(e.stdout, "The simulated spectra were measured in a temporary folder and deleted (--keep-spectra keeps them).")
+		fmt.Fprintf(e.stdout, "The simulated spectra were written to a temporary folder %d at a time, measured and deleted (--keep-spectra keeps them).\n", demoBatch)
 	}
 	if res.Reused {
 		fmt.Fprintln(e.stdout, "Nothing changed since the last run: the tables and verdicts were reused.")
@@ -239,32 +240,38 @@ func demoStarRun(ctx context.Context, e *env, c *common, d starsim.Demo, out str
 	if !spectra {
 		return entry, nil
 	}
-	specParent := simDir
-	if !keep {
-		tmp, err := os.MkdirTemp("", "spotsift-demo-spectra-")
-		if err != nil {
-			return survey.Entry{}, err
-		}
-		defer os.RemoveAll(tmp)
-		specParent = tmp
+	// The scenario file says what was simulated: the spectra too, and
+	// where they went.
+	where := "# The spectra (spectrum.full = true) were written to a temporary folder a batch at a time,\n# measured into ../measured.csv and deleted; spotsift demo --keep-spectra keeps them in spectra/.\n"
+	if keep {
+		where = "# The spectra (spectrum.full = true) are in spectra/, measured into ../measured.csv.\n"
 	}
-	bar := newProgress(e.stderr, res.Len(), d.Name+": simulating", c.quiet)
-	err = res.WriteFiles(specParent, &starsim.WriteOptions{Workers: c.workers, Progress: bar.Set, Creator: "spotsift " + version, Float32: true})
-	bar.Done()
-	if err != nil {
+	if err := rvfit.WriteFileAtomic(filepath.Join(simDir, starsim.ScenarioFile), func(w io.Writer) error {
+		if _, err := io.WriteString(w, where); err != nil {
+			return err
+		}
+		return res.Scenario.EncodeTOML(w, res.Seed)
+	}); err != nil {
 		return survey.Entry{}, err
 	}
 	star, err := activity.ReadStar(filepath.Join(out, entry.StarFile))
 	if err != nil {
 		return survey.Entry{}, err
 	}
-	paths, err := spectrumPaths(filepath.Join(specParent, starsim.SpectraDir))
-	if err != nil {
-		return survey.Entry{}, err
+	specDir := filepath.Join(simDir, starsim.SpectraDir)
+	if !keep {
+		tmp, err := os.MkdirTemp("", "spotsift-demo-spectra-")
+		if err != nil {
+			return survey.Entry{}, err
+		}
+		defer os.RemoveAll(tmp)
+		specDir = tmp
 	}
-	mbar := newProgress(e.stderr, len(paths), d.Name+": measuring", c.quiet)
-	s, failures, err := activity.Measure(ctx, paths, &activity.MeasureOptions{Star: star, Workers: c.workers, Progress: mbar.Set})
-	mbar.Done()
+	bar := newProgress(e.stderr, res.Len(), d.Name+": simulating and measuring spectra", c.quiet)
+	s, failures, err := measureInBatches(ctx, res, specDir, keep, &batchOptions{
+		Batch: demoBatch, Workers: c.workers, Progress: bar.Set,
+		Measure: activity.MeasureOptions{Star: star}})
+	bar.Done()
 	if err != nil {
 		return survey.Entry{}, err
 	}
