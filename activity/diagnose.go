@@ -260,7 +260,8 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		}
 		amp, ampErr := all.amplitude(k)
 		sig := Signal{Period: Num(1 / sg.freq), Freq: Num(sg.freq), Source: sg.source, Power: Num(sg.power), FAP: Num(sg.fap),
-			FAPCorrelated: Num(sg.fapCorr), Amplitude: Num(amp), AmplitudeErr: Num(ampErr)}
+			FAPCorrelated: Num(sg.fapCorr), Amplitude: Num(amp), AmplitudeErr: Num(ampErr),
+			K: Num(amp), KErr: Num(ampErr), KFrom: KFromSinusoid}
 		if given {
 			sig.PeriodGiven = Num(o.Periods[k])
 		}

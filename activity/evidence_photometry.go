@@ -48,13 +48,13 @@ func (tr *trial) ffPrime() {
 	switch {
 	case !(fit.K0 >= 3*fit.K0Err):
 		e.Points = TowardNeither
-		e.Reason = fmt.Sprintf("on the %d RV epochs the light curve covers, the signal is not detected (K = %.2f ± %.2f m/s), so the FF' prediction cannot be tested against it", fit.N, fit.K0, fit.K0Err)
+		e.Reason = fmt.Sprintf("on the %d RV epochs the light curve covers, the signal's sinusoid is not detected (%.2f ± %.2f m/s), so the FF' prediction cannot be tested against it", fit.N, fit.K0, fit.K0Err)
 	case fit.DeltaBIC <= -10 && ratio < 0.5:
 		e.Points, e.Weight = TowardActivity, FFPrimeWeight
-		e.Reason = fmt.Sprintf("the spot RV predicted from the light curve (FF', ΔBIC = %.1f over %d epochs) takes the signal from K = %.2f to %.2f ± %.2f m/s", fit.DeltaBIC, fit.N, fit.K0, fit.K1, fit.K1Err)
+		e.Reason = fmt.Sprintf("the spot RV predicted from the light curve (FF', ΔBIC = %.1f over %d epochs) takes the signal's sinusoid from %.2f to %.2f ± %.2f m/s", fit.DeltaBIC, fit.N, fit.K0, fit.K1, fit.K1Err)
 	default:
 		e.Points = TowardNeither
-		e.Reason = fmt.Sprintf("the spot RV predicted from the light curve (FF', ΔBIC = %.1f over %d epochs) leaves the signal at K = %.2f ± %.2f m/s of %.2f", fit.DeltaBIC, fit.N, fit.K1, fit.K1Err, fit.K0)
+		e.Reason = fmt.Sprintf("the spot RV predicted from the light curve (FF', ΔBIC = %.1f over %d epochs) leaves the signal's sinusoid at %.2f ± %.2f m/s of %.2f", fit.DeltaBIC, fit.N, fit.K1, fit.K1Err, fit.K0)
 	}
 	if math.IsNaN(ratio) {
 		e.Value = Num(math.NaN())

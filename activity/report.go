@@ -55,6 +55,8 @@ func WriteReport(dir string, r *Report) error {
 	if err := os.MkdirAll(filepath.Join(dir, FiguresDir), 0o755); err != nil {
 		return err
 	}
+	// The K to quote, in the JSON as in the report.
+	AdoptK(r.Diagnosis, r.Series, r.Star)
 	if err := rvfit.WriteFileAtomic(filepath.Join(dir, VerdictFile), func(w io.Writer) error {
 		enc := json.NewEncoder(w)
 		enc.SetIndent("", "  ")
@@ -221,13 +223,12 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 		v.Notes = append(v.Notes, VisibleText(n))
 	}
 	// The orbital solution, then the summary quoting its K.
-	orb := fitOrbits(s, dg, r.Star)
-	kOf, pOf := map[int]string{}, map[int]string{}
+	orb := AdoptK(dg, s, r.Star)
+	pOf := map[int]string{}
 	if orb != nil && orb.Err == "" {
 		ov := &orbitView{Header: []string{"parameter"}}
 		for j, k := range orb.Signals {
 			ov.Header = append(ov.Header, fmt.Sprintf("S%d", k+1))
-			kOf[k] = fmtValErr(orb.Planets[j].K, orb.Planets[j].KErr)
 			pOf[k] = fmtValErr(orb.Planets[j].P, orb.Planets[j].PErr)
 		}
 		row := func(name string, get func(p OrbitPlanet) string) {
@@ -272,10 +273,7 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 		v.Orbit = &orbitView{Err: "The Keplerian fit failed: " + VisibleText(orb.Err)}
 	}
 	for k, sg := range dg.Signals {
-		K, ok := kOf[k]
-		if !ok {
-			K = fmtValErr(float64(sg.Amplitude), float64(sg.AmplitudeErr))
-		}
+		K := fmtValErr(float64(sg.K), float64(sg.KErr))
 		P, ok := pOf[k]
 		if !ok {
 			P = fmtSig(float64(sg.Period), 6)
@@ -283,11 +281,7 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 		v.Summary = append(v.Summary, summaryRow{Signal: fmt.Sprintf("S%d", k+1), Period: P, K: K,
 			FAP: fmtP(float64(sg.FAP), false), Verdict: sg.Verdict, Badge: badgeOf(sg.Verdict), Score: fmt.Sprintf("%+.2f", sg.Score), Why: VisibleText(sg.Summary)})
 	}
-	if len(kOf) > 0 {
-		v.AdoptedK = "K quoted: for planet-like and inconclusive signals, the semi-amplitude of the Keplerian fit (orbital solution below); for activity-like signals, the sinusoid's semi-amplitude in the joint fit of every signal. Amplitudes inside the evidence (the why column and the tests) belong to each test's own model."
-	} else if len(dg.Signals) > 0 {
-		v.AdoptedK = "K quoted: the sinusoid's semi-amplitude in the joint fit of every signal and the instrument offsets."
-	}
+	v.AdoptedK = adoptedKText(dg)
 	v.Activity = activityModel(dg, insts)
 	// Evidence.
 	for k, sg := range dg.Signals {
@@ -331,6 +325,30 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 		v.Figures = append(v.Figures, figView{ID: f.name, Title: f.title, Caption: f.caption, SVG: inlineSVG(svg)})
 	}
 	return v, rendered, nil
+}
+
+// adoptedKText is the sentence under the verdict summary saying which K
+// it quotes: the one K of each signal, stated once.
+func adoptedKText(dg *Diagnosis) string {
+	var kep, sin []string
+	for k, sg := range dg.Signals {
+		if sg.KFrom == KFromKeplerian {
+			kep = append(kep, fmt.Sprintf("S%d", k+1))
+		} else {
+			sin = append(sin, fmt.Sprintf("S%d", k+1))
+		}
+	}
+	var parts []string
+	if len(kep) > 0 {
+		parts = append(parts, "for "+strings.Join(kep, ", ")+" the semi-amplitude of the Keplerian fit (orbital solution below)")
+	}
+	if len(sin) > 0 {
+		parts = append(parts, "for "+strings.Join(sin, ", ")+" the semi-amplitude of its sinusoid in the joint fit of every signal and the instrument offsets")
+	}
+	if len(parts) == 0 {
+		return ""
+	}
+	return "K is the adopted semi-amplitude, quoted once: " + strings.Join(parts, "; ") + ". The tests' reasons give significances, not other K values."
 }
 
 // starRows is the star's table: every known parameter, "—" for unknown

@@ -170,7 +170,7 @@ func TestPDFFirstPage(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, want := range []string{r.Diagnosis.Star, "Verdict summary", "K quoted", strings.Join(strings.Fields(Caution), " ")} {
+	for _, want := range []string{r.Diagnosis.Star, "Verdict summary", "K is the adopted semi-amplitude, quoted once", strings.Join(strings.Fields(Caution), " ")} {
 		if !strings.Contains(page, want) {
 			t.Errorf("page 1 lacks %q:\n%s", want, page)
 		}

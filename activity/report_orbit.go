@@ -47,6 +47,51 @@ type OrbitPlanet struct {
 	MinMass, MMErr  float64 // M_Jup, NaN without a star mass
 }
 
+// Values of Signal.KFrom.
+const (
+	KFromKeplerian = "keplerian" // the orbital solution's Keplerian fit
+	KFromSinusoid  = "sinusoid"  // the joint sinusoid fit of every signal
+)
+
+// AdoptK sets the K to quote of every signal of dg, computed from s (the
+// series dg was diagnosed from) and star (nil when none was given): for
+// planet-like and inconclusive signals the semi-amplitude of the orbital
+// solution (a joint Keplerian fit with one offset and jitter per
+// instrument, after removing the activity-like signals' sinusoids), for
+// activity-like ones, or when that fit is not available, the sinusoid's
+// semi-amplitude of the diagnosis. It returns the orbital solution (nil
+// when no signal qualifies) and keeps it for the report, so calling it
+// again costs nothing. A diagnosis read back from a file keeps the K it
+// was written with.
+func AdoptK(dg *Diagnosis, s *rvfit.Series, star *Star) *OrbitSolution {
+	if dg == nil {
+		return nil
+	}
+	if dg.details == nil {
+		// Read from a file: its K are those it was written with.
+		return nil
+	}
+	if dg.details.orbitDone {
+		return dg.details.orbit
+	}
+	var orb *OrbitSolution
+	if s != nil {
+		orb = fitOrbits(s, dg, star)
+	}
+	dg.details.orbit, dg.details.orbitDone = orb, true
+	for k := range dg.Signals {
+		sg := &dg.Signals[k]
+		sg.K, sg.KErr, sg.KFrom = sg.Amplitude, sg.AmplitudeErr, KFromSinusoid
+	}
+	if orb != nil && orb.Err == "" {
+		for j, k := range orb.Signals {
+			sg := &dg.Signals[k]
+			sg.K, sg.KErr, sg.KFrom = Num(orb.Planets[j].K), Num(orb.Planets[j].KErr), KFromKeplerian
+		}
+	}
+	return orb
+}
+
 // fitOrbits fits the planet-like and inconclusive signals of dg as
 // Keplerians (white noise with one jitter per instrument), after removing
 // the activity-like signals' sinusoids. It returns nil when no signal

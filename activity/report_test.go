@@ -93,6 +93,55 @@ func TestWriteReport(t *testing.T) {
 	if err := json.Unmarshal(vb, &back); err != nil || back.Star != r.Diagnosis.Star {
 		t.Errorf("verdict JSON: %v, star %q", err, back.Star)
 	}
+	checkAdoptedK(t, r.Diagnosis, vb, html)
+}
+
+// checkAdoptedK checks that a report states one K per signal: the JSON's
+// k (from the Keplerian fit for planet-like and inconclusive signals,
+// when it worked) is the one in the summary, the orbital solution's, and
+// no text quotes another "K = ".
+func checkAdoptedK(t *testing.T, dg *Diagnosis, verdictJSON []byte, html string) {
+	t.Helper()
+	var raw struct {
+		Signals []map[string]any `json:"signals"`
+	}
+	if err := json.Unmarshal(verdictJSON, &raw); err != nil || len(raw.Signals) != len(dg.Signals) {
+		t.Fatalf("verdict JSON signals: %v", err)
+	}
+	for k, m := range raw.Signals {
+		for _, key := range []string{"k", "k_err", "k_from", "sinusoid_amplitude", "sinusoid_amplitude_err"} {
+			if _, ok := m[key]; !ok {
+				t.Errorf("S%d: verdict JSON has no %q", k+1, key)
+			}
+		}
+		if _, ok := m["amplitude"]; ok {
+			t.Errorf("S%d: verdict JSON still has an \"amplitude\" beside k", k+1)
+		}
+	}
+	orb := dg.details.orbit
+	for k, sg := range dg.Signals {
+		want := KFromSinusoid
+		if sg.Verdict != ActivityLike && orb != nil && orb.Err == "" {
+			want = KFromKeplerian
+		}
+		if sg.KFrom != want {
+			t.Errorf("S%d (%s): K from %q, want %q", k+1, sg.Verdict, sg.KFrom, want)
+		}
+		if want == KFromKeplerian {
+			for j, i := range orb.Signals {
+				if i == k && float64(sg.K) != orb.Planets[j].K {
+					t.Errorf("S%d: K %v is not the orbital solution's %v", k+1, sg.K, orb.Planets[j].K)
+				}
+			}
+		}
+		cell := `<td class="n">` + template.HTMLEscapeString(fmtValErr(float64(sg.K), float64(sg.KErr))) + "</td>"
+		if !strings.Contains(html, cell) {
+			t.Errorf("S%d: the summary does not quote K as %s", k+1, cell)
+		}
+	}
+	if m := regexp.MustCompile(`\bK = [0-9]`).FindString(html); m != "" {
+		t.Errorf("the report quotes another K in its text: %q", m)
+	}
 }
 
 // TestReportPDFText reads the PDF back with pdftotext (Debian

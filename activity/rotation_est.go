@@ -756,21 +756,21 @@ func (tr *trial) modelComparison() {
 	switch {
 	case dBIC <= -10 && snr >= 3 && indicatorsVary:
 		e.Points = TowardNeither
-		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, K = %.2f ± %.2f m/s), but the indicators vary at the same period, so the sinusoid may model activity the GP misses", dBIC, K, kErr)
+		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, its amplitude %.1fσ from zero), but the indicators vary at the same period, so the sinusoid may model activity the GP misses", dBIC, snr)
 	case dBIC <= -10 && snr >= 3 && atRotation:
 		// At a rotation harmonic a sinusoid also models the coherent part of
 		// the activity: the two models are degenerate there.
 		e.Points = TowardNeither
-		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, K = %.2f ± %.2f m/s), but at a rotation harmonic a sinusoid also fits the coherent part of the activity, so this does not tell them apart", dBIC, K, kErr)
+		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, its amplitude %.1fσ from zero), but at a rotation harmonic a sinusoid also fits the coherent part of the activity, so this does not tell them apart", dBIC, snr)
 	case dBIC <= -10 && snr >= 3:
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet
-		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", gpWhat, prot, dBIC, dlnL, K, kErr, snr)
+		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, its amplitude %.1fσ from zero", gpWhat, prot, dBIC, dlnL, snr)
 	case dBIC >= 0 || snr < 2:
 		e.Points, e.Weight = TowardActivity, tr.d.w.ModelComparison.Activity
-		e.Reason = fmt.Sprintf("the GP activity model at %s = %.3g d absorbs the signal: ΔBIC = %+.1f for a Keplerian, K = %.2f ± %.2f m/s (%.1fσ)", gpWhat, prot, dBIC, K, kErr, snr)
+		e.Reason = fmt.Sprintf("the GP activity model at %s = %.3g d absorbs the signal: ΔBIC = %+.1f for a Keplerian, its amplitude %.1fσ from zero", gpWhat, prot, dBIC, snr)
 	default:
 		e.Points = TowardNeither
-		e.Reason = fmt.Sprintf("with activity modelled, a Keplerian improves the fit only moderately: ΔBIC = %.1f, K = %.2f ± %.2f m/s (%.1fσ)", dBIC, K, kErr, snr)
+		e.Reason = fmt.Sprintf("with activity modelled, a Keplerian improves the fit only moderately: ΔBIC = %.1f, its amplitude %.1fσ from zero", dBIC, snr)
 	}
 	tr.add(e)
 }

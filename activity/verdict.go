@@ -106,10 +106,21 @@ type Signal struct {
 	// PeriodGiven is the period as given, before its refinement within the
 	// frequency resolution (0 for a signal found in the periodogram).
 	PeriodGiven Num `json:"period_given,omitempty"`
-	// Amplitude is the fitted semi-amplitude in m/s and AmplitudeErr its
-	// one-sigma error.
-	Amplitude    Num `json:"amplitude"`
-	AmplitudeErr Num `json:"amplitude_err"`
+	// K is the adopted semi-amplitude in m/s, KErr its one-sigma error and
+	// KFrom the model it comes from: KFromKeplerian (the orbital solution,
+	// for planet-like and inconclusive signals) or KFromSinusoid (the
+	// joint sinusoid fit, for activity-like signals or when no Keplerian
+	// fit is available). Diagnose sets the sinusoid's; AdoptK (which the
+	// commands and WriteReport call) replaces it by the Keplerian fit's.
+	K     Num    `json:"k"`
+	KErr  Num    `json:"k_err"`
+	KFrom string `json:"k_from"`
+	// Amplitude is the semi-amplitude in m/s of the signal's sinusoid in
+	// the diagnosis's joint fit of every signal and the instrument offsets,
+	// and AmplitudeErr its one-sigma error: what the tests start from, not
+	// the K to quote (that is K).
+	Amplitude    Num `json:"sinusoid_amplitude"`
+	AmplitudeErr Num `json:"sinusoid_amplitude_err"`
 	// Verdict is PlanetLike, ActivityLike or Inconclusive.
 	Verdict string `json:"verdict"`
 	// Score lies in [−1, 1]: the weighted evidence, positive toward
@@ -219,8 +230,12 @@ type Diagnosis struct {
 
 // details is the working data of a diagnosis that the report draws.
 type details struct {
-	grid    rvfit.Grid
-	signals []signalDetails
+	// orbit is the orbital solution AdoptK computed (orbitDone once it
+	// ran; orbit may be nil).
+	orbit     *OrbitSolution
+	orbitDone bool
+	grid      rvfit.Grid
+	signals   []signalDetails
 }
 
 // signalDetails is what the tests of one signal computed.

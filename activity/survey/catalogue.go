@@ -76,7 +76,7 @@ CREATE TABLE signals (
   source        TEXT,                   -- given or periodogram
   power         REAL,                   -- GLS power
   fap           REAL,                   -- false-alarm probability
-  amplitude     REAL,                   -- m/s
+  amplitude     REAL,                   -- m/s, the adopted K (activity.Signal.K)
   amplitude_err REAL,                   -- m/s
   p_over_prot   REAL,                   -- period / adopted rotation period
   verdict       TEXT NOT NULL,          -- planet-like, activity-like, inconclusive
@@ -227,7 +227,7 @@ func writeCatalogue(path string, recs []record, runs []RunRecord) (err error) {
 		for k, s := range r.Diag.Signals {
 			sigID++
 			_, err = insSig.Exec(sigID, starID, k+1, num(float64(s.Period)), num(float64(s.Freq)), s.Source, num(float64(s.Power)),
-				num(float64(s.FAP)), num(float64(s.Amplitude)), num(float64(s.AmplitudeErr)), num(float64(s.Period)/rotP),
+				num(float64(s.FAP)), num(float64(s.K)), num(float64(s.KErr)), num(float64(s.Period)/rotP),
 				s.Verdict, num(s.Score), num(s.Coverage), nullText(s.Summary),
 				num(float64(s.Probability)), num(float64(s.FAPCorrelated)), nullText(s.Caveat), nullText(s.RelatedTo))
 			if err != nil {

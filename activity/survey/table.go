@@ -39,7 +39,7 @@ func summaryRows(recs []record) []summaryRow {
 		rot := float64(r.Diag.Rotation.Period)
 		for k, s := range r.Diag.Signals {
 			rows = append(rows, summaryRow{star: r.Name, idx: k + 1, verdict: s.Verdict, source: s.Source, rotSource: r.Diag.Rotation.Source,
-				period: float64(s.Period), amp: float64(s.Amplitude), ampErr: float64(s.AmplitudeErr), fap: float64(s.FAP), power: float64(s.Power),
+				period: float64(s.Period), amp: float64(s.K), ampErr: float64(s.KErr), fap: float64(s.FAP), power: float64(s.Power),
 				score: s.Score, coverage: s.Coverage, rot: rot, rotErr: float64(r.Diag.Rotation.Err), ratio: float64(s.Period) / rot,
 				nEpochs: r.Diag.NEpochs, baseline: float64(r.Diag.Baseline), rvRMS: float64(r.State.RVRMS)})
 		}

@@ -79,6 +79,9 @@ replace, the team's scientific judgement.`)
 		dg.Star = strings.TrimSuffix(filepath.Base(c.data), filepath.Ext(c.data))
 	}
 	dg.Provenance = provenance(c, append(append([]string{c.data}, nonEmpty(c.star)...), nonEmpty(phot.file)...), append([]string{"vet"}, args...))
+	// The K to quote: the orbital solution's for planet-like and
+	// inconclusive signals (the report shows the same solution).
+	activity.AdoptK(dg, s, star)
 	if *out != "" {
 		if err := activity.WriteReport(*out, &activity.Report{Diagnosis: dg, Series: s, Star: star, LightCurve: lc}); err != nil {
 			return fail(e, exitFailed, err)
@@ -148,8 +151,8 @@ func printDiagnosis(w io.Writer, dg *activity.Diagnosis) {
 		fmt.Fprintf(w, "note: %s\n", n)
 	}
 	for i, s := range dg.Signals {
-		fmt.Fprintf(w, "\nsignal %d: P = %.5g d, K = %.3g ± %.2g m/s, false-alarm probability %.2g (%s)\n",
-			i+1, float64(s.Period), float64(s.Amplitude), float64(s.AmplitudeErr), float64(s.FAP), s.Source)
+		fmt.Fprintf(w, "\nsignal %d: P = %.5g d, K = %.3g ± %.2g m/s (%s), false-alarm probability %.2g (%s)\n",
+			i+1, float64(s.Period), float64(s.K), float64(s.KErr), kFromText(s.KFrom), float64(s.FAP), s.Source)
 		fmt.Fprintf(w, "  verdict: %s (score %+.2f, %.0f%% of the tests ran)\n", s.Verdict, s.Score, 100*s.Coverage)
 		fmt.Fprintf(w, "  because: %s\n", s.Summary)
 		for _, ev := range s.Evidence {
@@ -160,4 +163,12 @@ func printDiagnosis(w io.Writer, dg *activity.Diagnosis) {
 		}
 	}
 	fmt.Fprintf(w, "\n%s\n", dg.Caution)
+}
+
+// kFromText names the model a signal's adopted K comes from.
+func kFromText(from string) string {
+	if from == activity.KFromKeplerian {
+		return "Keplerian fit"
+	}
+	return "sinusoid fit"
 }
