@@ -6,10 +6,12 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 
 	"spotsift/activity"
+	"spotsift/activity/starsim"
 	"spotsift/activity/survey"
 )
 
@@ -105,6 +107,24 @@ func TestDemo(t *testing.T) {
 		}
 		if !strings.Contains(stdout, "report.html") || !strings.Contains(stdout, "index.html") {
 			t.Errorf("demo does not say where the reports are:\n%s", stdout)
+		}
+		// The K printed is the adopted one, and says where it is from.
+		if !regexp.MustCompile(`S1 +P = +9\.73[0-9]* d +K = +[0-9.]+ m/s \(Keplerian fit\)`).MatchString(stdout) {
+			t.Errorf("demo does not print the planet's adopted K:\n%s", stdout)
+		}
+		if k == 0 && !strings.Contains(stdout, "measured and deleted") {
+			t.Errorf("demo does not say what became of the spectra:\n%s", stdout)
+		}
+		// The scenario files say the spectra were simulated, and no spectra
+		// are left anywhere in the output.
+		for _, star := range []string{"quiet-planet", "active-no-planet"} {
+			b, err := os.ReadFile(filepath.Join(out, star, "simulated", starsim.ScenarioFile))
+			if err != nil || !regexp.MustCompile(`(?m)^\s*full = true$`).Match(b) {
+				t.Errorf("%s: scenario.toml does not record the spectra (%v)", star, err)
+			}
+		}
+		if m, _ := filepath.Glob(filepath.Join(out, "*", "simulated", starsim.SpectraDir)); len(m) != 0 {
+			t.Errorf("spectra left in the output: %v", m)
 		}
 		verdicts[k] = map[string][]byte{}
 		for star, name := range map[string]string{"quiet-planet": "Veyla-9", "active-no-planet": "Corvane-3"} {
