@@ -292,6 +292,11 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		tr.det.freq, tr.det.own, tr.det.comp = sg.freq, own, comp
 		diag.details.signals = append(diag.details.signals, tr.det)
 	}
+	// The long steps stop early when ctx is cancelled, with whatever they
+	// had: never return such a diagnosis as a result.
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	return diag, nil
 }
 
@@ -323,7 +328,7 @@ func (d *data) findSignals() ([]found, error) {
 	resid := append([]float64(nil), d.rv...)
 	var freqs []float64
 	for len(out) < o.MaxSignals {
-		pg, err := rvfit.GLS(d.t, resid, d.err, d.grid, &rvfit.GLSOptions{Instrument: d.s.Instrument})
+		pg, err := rvfit.GLS(d.t, resid, d.err, d.grid, &rvfit.GLSOptions{Instrument: d.s.Instrument, Context: d.ctx})
 		if err != nil {
 			return nil, fmt.Errorf("activity: RV periodogram: %w", err)
 		}

@@ -1,6 +1,7 @@
 package activity
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -34,6 +35,8 @@ type gpModel struct {
 	pLo, pHi        float64
 	lnPMu, lnPSigma float64 // lnPSigma = 0: log-uniform on [pLo, pHi]
 	scale           float64 // a typical amplitude of y, for the bounds
+	// ctx, when not nil, stops the fits soon after it is cancelled.
+	ctx context.Context
 }
 
 // gpResult is the maximum a posteriori fit of a gpModel.
@@ -233,7 +236,7 @@ func (m *gpModel) fit(starts [][]float64) gpResult {
 			clean = append(clean, s)
 		}
 	}
-	res, err := mapfit.Fit(&mapfit.Problem{Space: sp, LogPost: post, Starts: clean}, &mapfit.Settings{MaxEvaluations: 400 * len(sp), Workers: 1})
+	res, err := mapfit.Fit(&mapfit.Problem{Space: sp, LogPost: post, Starts: clean}, &mapfit.Settings{MaxEvaluations: 400 * len(sp), Workers: 1, Context: m.ctx})
 	if err != nil || res == nil || res.X == nil {
 		return gpResult{lnPost: math.Inf(-1), periodE: math.NaN()}
 	}
@@ -307,6 +310,9 @@ type GPActivityOptions struct {
 	Starts int
 	// Workers runs starts in parallel; zero means GOMAXPROCS.
 	Workers int
+	// Context, when not nil, stops the fit soon after it is cancelled
+	// (the fit then returns the context's error). Nil: never cancelled.
+	Context context.Context
 }
 
 // GPActivityFit is the maximum a posteriori fit of a GP activity model to
@@ -392,13 +398,20 @@ func FitGPActivity(s *rvfit.Series, opts *GPActivityOptions) (*GPActivityFit, er
 	if o.Starts < 0 || o.Period < 0 || o.Rotation < 0 || o.RotationErr < 0 {
 		return nil, fmt.Errorf("%w: starts %d, period %g, rotation %g ± %g", ErrGPModel, o.Starts, o.Period, o.Rotation, o.RotationErr)
 	}
+	var f *GPActivityFit
+	var err error
 	switch o.Model {
 	case "", GPRotation:
-		return fitRotationActivity(s, &o)
+		f, err = fitRotationActivity(s, &o)
 	case GPMulti:
-		return fitMultiActivity(s, &o)
+		f, err = fitMultiActivity(s, &o)
+	default:
+		return nil, fmt.Errorf("%w: %q (want %q or %q)", ErrGPModel, o.Model, GPRotation, GPMulti)
 	}
-	return nil, fmt.Errorf("%w: %q (want %q or %q)", ErrGPModel, o.Model, GPRotation, GPMulti)
+	if o.Context != nil && o.Context.Err() != nil {
+		return nil, o.Context.Err()
+	}
+	return f, err
 }
 
 // CompareGPActivity fits the GP activity model of opts without and with a
@@ -513,7 +526,7 @@ func fitRotationActivity(s *rvfit.Series, o *GPActivityOptions) (*GPActivityFit,
 	g, ng := groupIndex(s.Instrument)
 	T := s.Baseline()
 	m := &gpModel{t: s.Time, y: s.RV, sigma: s.RVErr, inst: g, ninst: ng, t0: s.Time[0],
-		pLo: 1.5, pHi: math.Max(3, T/2), scale: math.Max(stddev(s.RV), 1e-12)}
+		pLo: 1.5, pHi: math.Max(3, T/2), scale: math.Max(stddev(s.RV), 1e-12), ctx: o.Context}
 	if o.Period > 0 {
 		m.freq = 1 / o.Period
 	}
@@ -998,7 +1011,7 @@ func fitMultiActivity(s *rvfit.Series, o *GPActivityOptions) (*GPActivityFit, er
 		starts = append(starts, x)
 	}
 	res, err := mapfit.Fit(&mapfit.Problem{Space: mm.sp, LogPost: post, Grad: grad, Starts: starts},
-		&mapfit.Settings{MaxEvaluations: 300 * len(mm.sp), Workers: o.Workers})
+		&mapfit.Settings{MaxEvaluations: 300 * len(mm.sp), Workers: o.Workers, Context: o.Context})
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", s.Name, err)
 	}

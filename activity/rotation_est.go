@@ -142,7 +142,7 @@ func (d *data) searchRotation(ctx context.Context, rel []RotationEstimate) *rota
 		}
 		labels := seasonLabels(t, in)
 		y = detrendGroups(t, y, e, labels)
-		pg, err := rvfit.GLS(t, y, e, g, &rvfit.GLSOptions{Instrument: labels, Workers: 1})
+		pg, err := rvfit.GLS(t, y, e, g, &rvfit.GLSOptions{Instrument: labels, Workers: 1, Context: d.ctx})
 		if err != nil || pg.NObs-pg.NOffsets < MinEpochs {
 			continue
 		}
@@ -463,7 +463,7 @@ func (d *data) estimateCycle(prot float64) *CycleEstimate {
 		if err != nil {
 			continue
 		}
-		pg, err := rvfit.GLS(t, y, e, g, &rvfit.GLSOptions{Instrument: in, Workers: 1})
+		pg, err := rvfit.GLS(t, y, e, g, &rvfit.GLSOptions{Instrument: in, Workers: 1, Context: d.ctx})
 		if err != nil {
 			continue
 		}
@@ -520,7 +520,7 @@ func (d *data) gpRotation(rs *rotationSearch, hyp []RotationHypothesis, rel []Ro
 		y[i] -= swy[sg[i]] / sw[sg[i]]
 	}
 	g, ng := groupIndex(in)
-	m := &gpModel{t: t, y: y, sigma: e, inst: g, ninst: ng, t0: d.t0, pLo: rotPMin, pHi: math.Max(3, math.Min(rotPMax, d.T/2)), scale: math.Max(stddev(y), 1e-12)}
+	m := &gpModel{t: t, y: y, sigma: e, inst: g, ninst: ng, t0: d.t0, pLo: rotPMin, pHi: math.Max(3, math.Min(rotPMax, d.T/2)), scale: math.Max(stddev(y), 1e-12), ctx: d.ctx}
 	if len(rel) > 0 {
 		lm, le := 0.0, 0.0
 		for _, r := range rel {
@@ -675,7 +675,7 @@ func (tr *trial) modelComparison() {
 		lnSig := math.Max(errs[i]/pa, 0.1)
 		mi := &gpModel{t: d.t, y: tr.own, sigma: d.err, inst: d.inst, ninst: d.ninst, t0: d.t0,
 			pLo: math.Max(0.5, pa*math.Exp(-4*lnSig)), pHi: pa * math.Exp(4*lnSig), lnPMu: math.Log(pa), lnPSigma: lnSig,
-			scale: math.Max(stddev(tr.own), 1e-12)}
+			scale: math.Max(stddev(tr.own), 1e-12), ctx: d.ctx}
 		if free {
 			mi.pLo, mi.pHi, mi.lnPMu, mi.lnPSigma = rotPMin, math.Max(3, math.Min(rotPMax, d.T/2)), 0, 0
 		}
@@ -786,7 +786,7 @@ func (tr *trial) multiComparison(prot, perr float64) (without, with *GPActivityF
 	if _, err := multiIndicators(s, nil); err != nil {
 		return nil, nil, false
 	}
-	o := &GPActivityOptions{Model: GPMulti, Rotation: prot, RotationErr: math.Max(perr, 0.1*prot), Starts: 2, Workers: 1}
+	o := &GPActivityOptions{Model: GPMulti, Rotation: prot, RotationErr: math.Max(perr, 0.1*prot), Starts: 2, Workers: 1, Context: d.ctx}
 	w0, w1, err := CompareGPActivity(s, 1/tr.f, o)
 	if err != nil || w0 == nil || w1 == nil || !isFinite(w1.BIC) || !isFinite(w0.BIC) || !isFinite(w1.AmplitudeErr) {
 		return nil, nil, false

@@ -93,7 +93,7 @@ type relation struct {
 // zero frequency): a true frequency f has aliases at |f ± f_w|.
 func (d *data) windowPeaks() []float64 {
 	g := d.grid
-	w, err := rvfit.Window(d.t, nil, g, nil)
+	w, err := rvfit.Window(d.t, nil, g, &rvfit.GLSOptions{Context: d.ctx})
 	if err != nil {
 		return nil
 	}

@@ -1,6 +1,7 @@
 package mapfit
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -30,7 +31,8 @@ type Problem struct {
 	// Starts are the starting points in natural parameters (at least one).
 	Starts [][]float64
 
-	natural bool // Settings.NaturalMAP of the current fit
+	natural bool            // Settings.NaturalMAP of the current fit
+	ctx     context.Context // Settings.Context of the current fit, or nil
 }
 
 // Settings controls Fit. A nil *Settings means the defaults.
@@ -54,6 +56,10 @@ type Settings struct {
 	// themselves, scales included (by default a scale's optimum is that of
 	// ln x; see Fit). For callers whose priors are flat in x.
 	NaturalMAP bool
+	// Context, when not nil, stops the fit soon after it is cancelled:
+	// every later evaluation of the posterior is skipped (the optimisers
+	// give up) and Fit returns the context's error. Nil: never cancelled.
+	Context context.Context
 }
 
 // StartResult is the outcome of one start.
@@ -132,7 +138,8 @@ func (r *Result) Summary() string {
 // best optimum gets its Laplace approximation.
 //
 // Errors: ErrSpace for a bad space or a start outside it, ErrNoStart when
-// no start reached a finite posterior; a panic in the posterior (a bug) is
+// no start reached a finite posterior, the context's error when
+// Settings.Context is cancelled; a panic in the posterior (a bug) is
 // returned as an error wrapping worker.ErrPanic, not raised.
 func Fit(p *Problem, set *Settings) (*Result, error) {
 	var s Settings
@@ -144,6 +151,7 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	}
 	pc := *p
 	pc.natural = s.NaturalMAP
+	pc.ctx = s.Context
 	p = &pc
 	d := len(p.Space)
 	if len(p.Starts) == 0 {
@@ -182,6 +190,9 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	if err := wg.Wait(); err != nil {
 		return nil, err
 	}
+	if err := p.cancelled(); err != nil {
+		return nil, err
+	}
 	res.Best = -1
 	for i, st := range res.Starts {
 		res.Evaluations += st.Evaluations
@@ -205,6 +216,9 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	res.GradNorm = p.interiorGrad(ub)
 	if !s.NoLaplace {
 		res.Laplace = p.laplace(res.X)
+		if err := p.cancelled(); err != nil {
+			return nil, err
+		}
 		if !res.Converged && res.Laplace.covU != nil && res.Laplace.PositiveDefinite {
 			// The Newton decrement ½ gᵀH⁻¹g bounds what a further step
 			// could gain in ln posterior (common practice); below 0.01 the
@@ -226,12 +240,24 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	return res, nil
 }
 
+// cancelled returns the fit's context's error, nil when it has none or
+// goes on.
+func (p *Problem) cancelled() error {
+	if p.ctx == nil {
+		return nil
+	}
+	return p.ctx.Err()
+}
+
 // objective returns the function minimised at u (+Inf where the posterior
 // vanishes): without withJac, −[ln p(x) + Σ ln x_i over the scale
 // parameters (Positive, LogBounded)], whose minimum is the MAP with every
 // scale taken in ln x; with withJac, −ln q(u) = −[ln p(x) + ln|det dx/du|],
 // the density the Laplace approximation expands.
 func (p *Problem) objective(u []float64, withJac bool) float64 {
+	if p.cancelled() != nil {
+		return math.Inf(1)
+	}
 	x := p.Space.ToX(nil, u)
 	v := p.LogPost(x)
 	if math.IsNaN(v) || math.IsInf(v, 1) {
@@ -259,6 +285,10 @@ func (p *Problem) gradU(g, u []float64, withJac bool) float64 {
 			}
 		}
 		return p.objective(u, withJac)
+	}
+	if p.cancelled() != nil {
+		clear(g)
+		return math.Inf(1)
 	}
 	x := p.Space.ToX(nil, u)
 	gx := make([]float64, d)

@@ -1,6 +1,7 @@
 package rvfit
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"runtime"
@@ -23,6 +24,10 @@ type GLSOptions struct {
 	// Workers is the number of goroutines; zero means runtime.GOMAXPROCS(0).
 	// The result does not depend on it.
 	Workers int
+	// Context, when not nil, stops the computation soon after it is
+	// cancelled (between blocks of frequencies); the function then returns
+	// the context's error. Nil: never cancelled.
+	Context context.Context
 }
 
 // Periodogram is a generalised Lomb–Scargle periodogram on a uniform grid.
@@ -53,6 +58,7 @@ type glsData struct {
 	inst  []int
 	nInst int
 	names []string
+	ctx   context.Context // when not nil, exactSums stops once it is cancelled
 }
 
 func newGLSData(t, y, sigma []float64, instrument []string) (*glsData, error) {
@@ -162,7 +168,7 @@ func (d *glsData) exactSums(g Grid, nw int) *glsSums {
 		wg.Go(func() {
 			for {
 				b := int(next.Add(1) - 1)
-				if b >= nb {
+				if b >= nb || d.ctx != nil && d.ctx.Err() != nil {
 					return
 				}
 				k0 := b * block
@@ -279,7 +285,12 @@ func GLS(t, y, sigma []float64, g Grid, opts *GLSOptions) (*Periodogram, error) 
 	if err != nil {
 		return nil, err
 	}
-	return d.periodogram(g, o.Fast, workers(o.Workers)), nil
+	d.ctx = o.Context
+	p := d.periodogram(g, o.Fast, workers(o.Workers))
+	if o.Context != nil && o.Context.Err() != nil {
+		return nil, o.Context.Err()
+	}
+	return p, nil
 }
 
 func (d *glsData) periodogram(g Grid, fast bool, nw int) *Periodogram {

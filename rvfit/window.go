@@ -57,11 +57,15 @@ func Window(t, w []float64, g Grid, opts *GLSOptions) ([]float64, error) {
 	if opts != nil {
 		o = *opts
 	}
+	d.ctx = o.Context
 	var s *glsSums
 	if o.Fast {
 		s = d.fastSums(g, workers(o.Workers))
 	} else {
 		s = d.exactSums(g, workers(o.Workers))
+	}
+	if o.Context != nil && o.Context.Err() != nil {
+		return nil, o.Context.Err()
 	}
 	out := make([]float64, g.N)
 	for k := range out {

@@ -114,6 +114,7 @@ that fail on an otherwise good spectrum.`)
 	bar.Done()
 	reportMeasure(e, rep, c.quiet)
 	reportFailures(e, failures, c.quiet)
+	err = interruptedErr(ctx, err, "measuring stopped before the last spectrum; nothing was written")
 	if err != nil {
 		if errors.Is(err, activity.ErrNoSpectra) && len(failures) > 0 {
 			// Each file's reason is printed above; do not repeat one.

@@ -151,6 +151,19 @@ func debugPanic(e *env, debug string) {
 // errorf is fmt.Errorf, shortened for the commands.
 func errorf(format string, a ...any) error { return fmt.Errorf(format, a...) }
 
+// errInterrupted is the failure of a command stopped by Ctrl-C or SIGTERM.
+var errInterrupted = errors.New("interrupted (Ctrl-C or SIGTERM)")
+
+// interruptedErr turns the error of work stopped by ctx (cancelled by
+// interruptible) into a clear message saying what was not done; other
+// errors pass unchanged.
+func interruptedErr(ctx context.Context, err error, what string) error {
+	if err != nil && ctx.Err() != nil && errors.Is(err, ctx.Err()) {
+		return fmt.Errorf("%w: %s", errInterrupted, what)
+	}
+	return err
+}
+
 // interruptible returns a context cancelled by Ctrl-C or SIGTERM (what a
 // batch scheduler sends at the end of a job's time), and the function that
 // stops listening for them.

@@ -69,7 +69,7 @@ replace, the team's scientific judgement.`)
 	opts := &activity.Options{Periods: ps, FAPThreshold: *fap, MaxSignals: *maxSig, PMin: *pmin, PMax: *pmax,
 		Star: star, Seed: c.seed, SkipModels: *noGP, LightCurve: lc}
 	dg, err := activity.Diagnose(ctx, s, opts)
-	if err != nil {
+	if err = interruptedErr(ctx, err, "the diagnosis stopped before its end; nothing was written"); err != nil {
 		if errors.Is(err, activity.ErrPeriodOutOfReach) || errors.Is(err, activity.ErrBadOption) || errors.Is(err, rvfit.ErrTooFewEpochs) || errors.Is(err, rvfit.ErrGridOutOfReach) {
 			return fail(e, exitUsage, err)
 		}
@@ -82,6 +82,9 @@ replace, the team's scientific judgement.`)
 	// The K to quote: the orbital solution's for planet-like and
 	// inconclusive signals (the report shows the same solution).
 	activity.AdoptK(dg, s, star)
+	if ctx.Err() != nil {
+		return fail(e, exitFailed, interruptedErr(ctx, ctx.Err(), "the diagnosis was done but nothing was written"))
+	}
 	if *out != "" {
 		if err := activity.WriteReport(*out, &activity.Report{Diagnosis: dg, Series: s, Star: star, LightCurve: lc}); err != nil {
 			return fail(e, exitFailed, err)
