@@ -260,13 +260,14 @@ func ffGenerate(seed uint64, kind ffKind) (*rvfit.Series, *Star, func(float64) s
 					return "planet at rotation"
 				}
 				// Near a harmonic of the rotation (within the resolution or
-				// a tenth of the rotation frequency) a planet cannot be told
-				// from activity by its period: it is left out of the rate
-				// of detectable planets.
-				for n := 1.0; n <= 4; n++ {
-					if math.Abs(fp-n/st.prot) <= math.Max(res, 0.1/st.prot) {
-						return "planet near a harmonic"
-					}
+				// a tenth of the rotation frequency of a band n/P_rot) a
+				// planet cannot be told from activity by its period: it is
+				// left out of the rate of detectable planets.
+				// Spots reach 40° of latitude, so the star's rotation
+				// frequencies span Ω_eq (1 − α sin²40°) to Ω_eq.
+				s40 := math.Sin(40 * math.Pi / 180)
+				if nearHarmonic(fp, st.prot, st.alpha*s40*s40, res) {
+					return "planet near a harmonic"
 				}
 				if pl.k/sigK < 5 {
 					return "planet (K/σ_K < 5)"
