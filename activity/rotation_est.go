@@ -765,6 +765,16 @@ func (tr *trial) modelComparison() {
 	case dBIC <= -10 && snr >= 3:
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet
 		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, its amplitude %.1fσ from zero", gpWhat, prot, dBIC, dlnL, snr)
+	case dBIC < -2 && snr >= 3 && !indicatorsVary && !atRotation:
+		// Between "positive" and "very strong" evidence (2 ln B of 2 to
+		// 10, with ΔBIC ≈ −2 ln B; Kass & Raftery 1995) the test pulls
+		// toward a planet in proportion to the evidence, instead of not
+		// at all: a GP whose period is free, or only loosely tied to a
+		// rotation period, absorbs part of any signal, so strong but not
+		// overwhelming evidence is the common case for a real planet.
+		frac := -dBIC / 10
+		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet*frac
+		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period improves the fit: ΔBIC = %.1f, Δln L = %.1f, its amplitude %.1fσ from zero; evidence short of very strong (ΔBIC ≤ −10), so the test counts %.0f%%", gpWhat, prot, dBIC, dlnL, snr, 100*frac)
 	case dBIC >= 0 || snr < 2:
 		e.Points, e.Weight = TowardActivity, tr.d.w.ModelComparison.Activity
 		e.Reason = fmt.Sprintf("the GP activity model at %s = %.3g d absorbs the signal: ΔBIC = %+.1f for a Keplerian, its amplitude %.1fσ from zero", gpWhat, prot, dBIC, snr)

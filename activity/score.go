@@ -78,13 +78,16 @@ const scoreTolerance = 1e-9
 
 // groups lists the test families that share one piece of information and
 // so count once: an indicator varying at the period shows in its
-// periodogram and in its correlation with the fitted signal alike. Each
-// side of a group counts with the largest of its families' pulls.
+// periodogram and in its correlation with the fitted signal alike, and a
+// period at the magnetic cycle is a period where the indicator that shows
+// the cycle varies (a long period too close to the cycle to be fitted
+// apart from it sees the cycle in its indicator tests). Each side of a
+// group counts with the largest of its families' pulls.
 var groups = map[string]string{
 	"indicator_power":       "indicator",
 	"indicator_correlation": "indicator",
+	"cycle_match":           "indicator",
 	"rotation_match":        "period",
-	"cycle_match":           "period",
 }
 
 // groupOf returns the group of a test family (the family itself when it
