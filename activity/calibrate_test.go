@@ -65,10 +65,14 @@ func TestCalibration(t *testing.T) {
 			t.Logf("training seeds, threshold %.3f: non-planetary planet-like %.1f%%, detectable planets planet-like %.1f%%", thr, 100*fp, 100*det)
 		}
 	}
-	held := map[string]*Confusion{"simulator": run(sim, 1001, n), "FF'": run(ffCases(), 1001, 2*n)}
+	// Each generator is reported as soon as its stars are done.
+	gens := map[string]func() *Confusion{
+		"simulator": func() *Confusion { return run(sim, 1001, n) },
+		"FF'":       func() *Confusion { return run(ffCases(), 1001, 2*n) },
+	}
 	var all []ProbPoint
 	for _, gen := range []string{"simulator", "FF'"} {
-		c := held[gen]
+		c := gens[gen]()
 		all = append(all, c.Points...)
 		var b strings.Builder
 		c.Write(&b)
