@@ -56,6 +56,14 @@ type FitResult struct {
 	// in AtBound and keeps the error of its transformed coordinate.
 	Errors     []float64   `json:"errors"`
 	Covariance [][]float64 `json:"covariance,omitempty"`
+	// Median, Lo and Hi are the 50th, 16th and 84th percentiles of each
+	// parameter under the Laplace approximation (mapfit.Laplace: the
+	// Gaussian in the transformed coordinates mapped back), asymmetric
+	// for a scale or a bounded parameter; compare them with a sampler's
+	// quantiles (Posterior). NaN where the error is unknown.
+	Median []float64 `json:"laplace_median"`
+	Lo     []float64 `json:"laplace_p16"`
+	Hi     []float64 `json:"laplace_p84"`
 	// HessianOK reports whether the Hessian was positive definite (else the
 	// covariance is taken on the subspace of positive curvature and
 	// LogEvidence is NaN).
@@ -126,9 +134,12 @@ func (r *FitResult) MarshalJSON() ([]byte, error) {
 		*plain
 		Errors             []jsonNum   `json:"errors"`
 		Covariance         [][]jsonNum `json:"covariance,omitempty"`
+		Median             []jsonNum   `json:"laplace_median"`
+		Lo                 []jsonNum   `json:"laplace_p16"`
+		Hi                 []jsonNum   `json:"laplace_p84"`
 		LogEvidence        jsonNum     `json:"log_evidence_laplace"`
 		StartLogPosteriors []jsonNum   `json:"start_log_posteriors"`
-	}{(*plain)(r), jsonNums(r.Errors), cov, jsonNum(r.LogEvidence), jsonNums(r.StartLogPosteriors)})
+	}{(*plain)(r), jsonNums(r.Errors), cov, jsonNums(r.Median), jsonNums(r.Lo), jsonNums(r.Hi), jsonNum(r.LogEvidence), jsonNums(r.StartLogPosteriors)})
 }
 
 // jsonNum is a float64 written as null when NaN or infinite.
@@ -211,6 +222,9 @@ func FitModel(s *Series, nPlanets int, noise NoiseModel, opts *FitOptions) (*Fit
 		starts[st] = m.startVector(s, cands, st, rng)
 	}
 	prob := &mapfit.Problem{Space: m.space(m.scales(starts[0])), LogPost: m.wrappedLogPosterior, Starts: starts}
+	if m.HasGradient() {
+		prob.Grad = m.wrappedLogPosteriorGrad
+	}
 	fit, err := mapfit.Fit(prob, &mapfit.Settings{MaxEvaluations: o.MaxEvaluations, NelderMead: true, Workers: workers(o.Workers)})
 	if err != nil {
 		if errors.Is(err, mapfit.ErrNoStart) {
@@ -517,17 +531,35 @@ func (m *Model) finish(out *FitResult, theta []float64, mstar float64, L *mapfit
 		}
 		out.Planets = append(out.Planets, pf)
 	}
-	out.Errors = make([]float64, len(theta))
+	out.Errors = nans(len(theta))
+	out.Median, out.Lo, out.Hi = nans(len(theta)), nans(len(theta)), nans(len(theta))
 	out.LogEvidence = math.NaN()
-	for i := range out.Errors {
-		out.Errors[i] = math.NaN()
-	}
 	if L != nil {
 		out.HessianOK = L.PositiveDefinite
 		copy(out.Errors, L.Errors)
+		copy(out.Median, L.Median)
+		copy(out.Lo, L.Lo)
+		copy(out.Hi, L.Hi)
+		// The tc of the interval in the same one-period window as θ̂.
+		for p := 0; p < m.nPlanets; p++ {
+			if i := 5*p + 4; m.tcFree[p] && !math.IsNaN(out.Median[i]) {
+				d := m.wrapTc(out.Median[i], theta[5*p]) - out.Median[i]
+				out.Median[i] += d
+				out.Lo[i] += d
+				out.Hi[i] += d
+			}
+		}
 		out.Covariance = L.Cov
 		out.LogEvidence = L.LogEvidence
 	}
+}
+
+func nans(n int) []float64 {
+	out := make([]float64, n)
+	for i := range out {
+		out[i] = math.NaN()
+	}
+	return out
 }
 
 // LaplaceLogEvidence returns the Laplace estimate of the log evidence

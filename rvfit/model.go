@@ -306,17 +306,44 @@ func (m *Model) predict(dst, theta []float64) {
 			dst[i] += v
 		}
 	}
-	for _, k := range m.Keplerians(theta) {
-		k.AddRV(dst, m.t)
+	m.addKeplerians(dst, theta, m.t)
+}
+
+// addKeplerians adds the Keplerians of θ at times t to dst. The mean
+// anomaly is taken as M = 2π(t − t_c)/P + M_c(e, ω) (M_c at conjunction),
+// not through an absolute time of periastron: t − t_c is exact for nearby
+// times, so the velocities vary smoothly with t_c and P instead of in
+// steps of the rounding of a BJD near 2.46e6 (4.7e-10 d).
+func (m *Model) addKeplerians(dst, theta, t []float64) {
+	var mb, sb, cb [256]float64
+	for p := 0; p < m.nPlanets; p++ {
+		q := theta[5*p : 5*p+5]
+		P, K, tc := q[0], q[1], q[4]
+		e := q[2]*q[2] + q[3]*q[3]
+		omega := math.Atan2(q[3], q[2])
+		sw, cw := math.Sincos(omega)
+		beta := math.Sqrt(1 - e*e)
+		ecw := e * cw
+		mc := conjunctionMeanAnomaly(e, omega)
+		n := 2 * math.Pi / P
+		for lo := 0; lo < len(t); lo += len(mb) {
+			hi := min(lo+len(mb), len(t))
+			M, sE, cE := mb[:hi-lo], sb[:hi-lo], cb[:hi-lo]
+			for i := range M {
+				M[i] = n*(t[lo+i]-tc) + mc
+			}
+			keplerBatch(M, sE, cE, M, e)
+			for i := range M {
+				dst[lo+i] += K * (((cE[i]-e)*cw-beta*sE[i]*sw)/(1-e*cE[i]) + ecw)
+			}
+		}
 	}
 }
 
 // PredictAt returns the Keplerians' velocity (no offsets) at times t.
 func (m *Model) PredictAt(theta, t []float64) []float64 {
 	out := make([]float64, len(t))
-	for _, k := range m.Keplerians(theta) {
-		k.AddRV(out, t)
-	}
+	m.addKeplerians(out, theta, t)
 	return out
 }
 

@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"strconv"
+	"strings"
 )
 
 func fmtG(x float64) string { return strconv.FormatFloat(x, 'g', 10, 64) }
@@ -77,14 +78,26 @@ func (r *ScanResult) WritePeaks(w io.Writer) error {
 // status and agreement of starts.
 func (r *FitResult) WriteParams(w io.Writer) error {
 	bw := bufio.NewWriter(w)
-	fmt.Fprintf(bw, "%-20s %20s %12s  %s\n", "parameter", "map", "error", "note")
+	fmt.Fprintf(bw, "%-20s %20s %12s %12s %12s  %s\n", "parameter", "map", "error", "-1 sigma", "+1 sigma", "note")
 	for i, n := range r.ParamNames {
 		v, e := RoundToError(r.Params[i], r.Errors[i])
+		lo, hi := "—", "—"
+		if i < len(r.Median) {
+			// The Laplace interval's 16th and 84th percentiles about the
+			// MAP, rounded as the error.
+			lo, hi = intervalSide(r.Params[i]-r.Lo[i], r.Errors[i]), intervalSide(r.Hi[i]-r.Params[i], r.Errors[i])
+		}
 		note := ""
 		if i < len(r.AtBound) && r.AtBound[i] != "" {
 			note = "at " + r.AtBound[i] + " of its prior"
 		}
-		fmt.Fprintf(bw, "%-20s %20s %12s  %s\n", n, v, e, note)
+		if i < len(r.Median) && (r.Params[i] < r.Lo[i] || r.Params[i] > r.Hi[i]) {
+			// A MAP outside its own 68% interval (on a bound): the
+			// interval itself.
+			note += fmt.Sprintf("; Laplace 68%%: %.3g to %.3g", r.Lo[i], r.Hi[i])
+			lo, hi = "—", "—"
+		}
+		fmt.Fprintf(bw, "%-20s %20s %12s %12s %12s  %s\n", n, v, e, lo, hi, strings.TrimPrefix(note, "; "))
 	}
 	for i, p := range r.Planets {
 		fmt.Fprintf(bw, "planet %d: P %.8g d, K %.6g m/s, e %.4f, omega %.3f deg, Tp %.6f, Tc %.6f", i+1, p.P, p.K, p.E, p.OmegaDeg, p.Tp, p.Tc)
@@ -113,6 +126,25 @@ func (r *FitResult) WriteParams(w io.Writer) error {
 		}
 	}
 	return bw.Flush()
+}
+
+// intervalSide formats one side of an asymmetric interval, d, with the
+// decimals of the symmetric error e ("—" when either is unknown).
+func intervalSide(d, e float64) string {
+	if math.IsNaN(d) || math.IsInf(d, 0) {
+		return "—"
+	}
+	if !(e > 0) || math.IsInf(e, 0) {
+		e = math.Abs(d)
+	}
+	if !(e > 0) {
+		return "0"
+	}
+	if dec := 1 - int(math.Floor(math.Log10(e))); dec > 0 {
+		return strconv.FormatFloat(d, 'f', dec, 64)
+	}
+	scale := math.Pow(10, float64(int(math.Floor(math.Log10(e)))-1))
+	return strconv.FormatFloat(math.Round(d/scale)*scale, 'f', 0, 64)
 }
 
 // RoundToError formats v and its one-sigma error e rounded alike: e to

@@ -9,6 +9,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
+	"testing"
 )
 
 // Planet is one Keplerian signal: period P (d), semi-amplitude K (m/s),
@@ -98,4 +99,43 @@ func BenchSeries(n int) (t, y, dy []float64) {
 		y[i] = 3*math.Sin(2*math.Pi*tt/23.7) + 1.5*math.Cos(2*math.Pi*tt/3.1+0.3) + math.Sin(12.9898*fi)*2
 	}
 	return t, y, dy
+}
+
+// CheckGradient compares grad, the analytic gradient of f at x, with
+// Richardson-extrapolated central differences of f (steps h_i and h_i/2,
+// h_i = 1e-3·scale[i]; error O(h⁴), common practice) and reports every
+// component that differs by more than rel relative to the larger of
+// |grad_i| and 1e-3 of the largest component (a component that is zero
+// where the others are large is checked against that floor). It returns
+// the largest relative difference found.
+func CheckGradient(t testing.TB, name string, f func([]float64) float64, grad, x, scale []float64, rel float64) float64 {
+	t.Helper()
+	gmax := 0.0
+	for _, g := range grad {
+		gmax = math.Max(gmax, math.Abs(g))
+	}
+	worst := 0.0
+	v := append([]float64(nil), x...)
+	d := func(i int, h float64) float64 {
+		v[i] = x[i] + h
+		fp, hp := f(v), v[i]-x[i] // the step actually taken
+		v[i] = x[i] - h
+		fm, hm := f(v), x[i]-v[i]
+		v[i] = x[i]
+		return (fp - fm) / (hp + hm)
+	}
+	for i := range x {
+		h := 1e-3 * scale[i]
+		fd := (4*d(i, h/2) - d(i, h)) / 3
+		den := math.Max(math.Abs(grad[i]), 1e-3*gmax)
+		if den == 0 {
+			den = 1
+		}
+		r := math.Abs(fd-grad[i]) / den
+		worst = math.Max(worst, r)
+		if r > rel || math.IsNaN(r) {
+			t.Errorf("%s: ∂/∂x[%d] analytic %.12g, finite difference %.12g (relative %.2g)", name, i, grad[i], fd, r)
+		}
+	}
+	return worst
 }
