@@ -206,7 +206,6 @@ func (s Space) diskQuantiles(L *Laplace, i int, u []float64, covU *mat.SymDense)
 	}
 }
 
-
 // hessianU returns H = −∇∇ ln q at u: central differences of the
 // gradient (step 1e-4) when Grad is given, else second differences of
 // the objective (step 1e-3; u is in natural units of each parameter).
