@@ -214,7 +214,7 @@ func (m *MultiRotation) work() *mrWork {
 // LogLikelihood returns ln L of per-series residuals r (one slice per
 // series, in the order given to NewMultiRotation) at parameters p.
 func (m *MultiRotation) LogLikelihood(p []float64, r [][]float64) (float64, error) {
-	return m.eval(p, r, nil)
+	return m.eval(p, r, nil, nil)
 }
 
 // LogLikelihoodGrad returns ln L and stores its gradient with respect to
@@ -223,7 +223,21 @@ func (m *MultiRotation) LogLikelihoodGrad(grad, p []float64, r [][]float64) (flo
 	if len(grad) != m.NumParams() {
 		return math.Inf(-1), fmt.Errorf("%w: gradient has %d slots for %d parameters", ErrLength, len(grad), m.NumParams())
 	}
-	return m.eval(p, r, grad)
+	return m.eval(p, r, grad, nil)
+}
+
+// LogLikelihoodGradResid is LogLikelihoodGrad that also stores the
+// gradient with respect to the residuals, ∂ln L/∂r = −K⁻¹r, in dr (one
+// slice per series, shaped as r), for models whose residuals depend on
+// further parameters (a mean model fitted jointly).
+func (m *MultiRotation) LogLikelihoodGradResid(grad []float64, dr [][]float64, p []float64, r [][]float64) (float64, error) {
+	if len(grad) != m.NumParams() {
+		return math.Inf(-1), fmt.Errorf("%w: gradient has %d slots for %d parameters", ErrLength, len(grad), m.NumParams())
+	}
+	if err := m.checkR(dr); err != nil {
+		return math.Inf(-1), err
+	}
+	return m.eval(p, r, grad, dr)
 }
 
 func (m *MultiRotation) checkR(r [][]float64) error {
@@ -343,7 +357,7 @@ func (m *MultiRotation) forward(ws *mrWork) {
 	}
 }
 
-func (m *MultiRotation) eval(p []float64, r [][]float64, grad []float64) (float64, error) {
+func (m *MultiRotation) eval(p []float64, r [][]float64, grad []float64, dr [][]float64) (float64, error) {
 	if err := m.check(p); err != nil {
 		return math.Inf(-1), err
 	}
@@ -369,6 +383,13 @@ func (m *MultiRotation) eval(p []float64, r [][]float64, grad []float64) (float6
 	lnL := -0.5*chi2 - 0.5*logdet - 0.5*float64(n)*math.Log(2*math.Pi)
 	if grad != nil {
 		m.backward(ws, p, tc, grad)
+	}
+	if dr != nil {
+		alpha := make([]float64, n)
+		m.solve(ws, r, alpha)
+		for k, a := range alpha {
+			dr[m.ser[k]][m.pos[k]] = -a
+		}
 	}
 	return lnL, nil
 }

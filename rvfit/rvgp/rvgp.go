@@ -29,6 +29,7 @@ type Noise struct {
 	starts    []float64
 	start     []float64 // the kernel's starting parameters and jitters
 	first     []float64 // the first start, when given (ActivityOptions.Start)
+	rot       *rotationSolver
 }
 
 var (
@@ -61,6 +62,7 @@ func New(k gp.Kernel, kernelNames, instruments []string, solver gp.SolverKind) (
 		base:   &gp.Noise{Kernel: k, Jitter: make([]float64, len(instruments)), Solver: solver},
 		names:  append([]string(nil), kernelNames...),
 		instrs: append([]string(nil), instruments...),
+		rot:    &rotationSolver{},
 	}
 	for _, in := range instruments {
 		n.names = append(n.names, "jitter_"+in)
@@ -81,6 +83,11 @@ func (n *Noise) LogLikelihood(t, resid, variance []float64, inst []int, params [
 	m, err := n.base.WithParams(params)
 	if err != nil {
 		return 0, err
+	}
+	if mr, _, p, r := n.rotation(t, resid, variance, inst, params); mr != nil {
+		// The same O(N) solver as the gradient's, so that value and
+		// gradient agree to rounding.
+		return mr.LogLikelihood(p, r)
 	}
 	return m.LogLikelihood(t, resid, variance, inst)
 }
