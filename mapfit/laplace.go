@@ -148,7 +148,7 @@ func (p *Problem) laplace(xhat []float64) *Laplace {
 		}
 	}
 	p.Space.quantiles(out, u, covU)
-	p.naturalQuantiles(out, xhat)
+	p.naturalQuantiles(out, xhat, &curvatureU{H: H, covU: covU, pd: pd, J: J, u: u})
 	return out
 }
 

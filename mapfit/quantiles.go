@@ -26,9 +26,20 @@ import (
 //
 // A parameter at a bound (AtBound) keeps the percentiles of the Gaussian
 // in the logistic coordinate and is held at its MAP while the others'
-// curvature is taken. When H_w is not positive definite, or too few draws
-// fall inside the support, every parameter keeps those of the logistic
-// coordinates.
+// curvature is taken; what its uncertainty adds to theirs is carried over
+// from the logistic coordinates, where it is finite: the difference
+// between the marginal and the conditional covariance of the others
+// there, (H_u⁻¹)_II − (H_u,II)⁻¹, mapped to w by dw/du. When H_w is not
+// positive definite, or too few draws fall inside the support, every
+// parameter keeps the percentiles of the logistic coordinates.
+
+// curvatureU is the Laplace step's curvature in u.
+type curvatureU struct {
+	H, covU *mat.SymDense
+	pd      bool
+	J       []float64 // dx/du, row-major
+	u       []float64
+}
 
 // naturalW maps x to w.
 func (p *Problem) naturalW(x []float64) []float64 {
@@ -78,7 +89,7 @@ func (s Space) inSupport(x []float64) bool {
 // naturalQuantiles replaces L's percentiles by those of the truncated
 // Laplace approximation in w about xhat (see above); it leaves them as
 // they are when that approximation is not available.
-func (p *Problem) naturalQuantiles(L *Laplace, xhat []float64) {
+func (p *Problem) naturalQuantiles(L *Laplace, xhat []float64, cu *curvatureU) {
 	d := len(p.Space)
 	ab := p.Space.AtBound(xhat)
 	var idx []int // the free coordinates of w
@@ -192,6 +203,9 @@ func (p *Problem) naturalQuantiles(L *Laplace, xhat []float64) {
 	if ch.InverseTo(&cov) != nil {
 		return
 	}
+	if n < d && cu != nil && cu.pd {
+		addBoundVariance(&cov, p, idx, xhat, cu)
+	}
 	var chc mat.Cholesky
 	if !chc.Factorize(&cov) {
 		return
@@ -247,6 +261,52 @@ func (p *Problem) naturalQuantiles(L *Laplace, xhat []float64) {
 		sort.Float64s(s)
 		q := func(f float64) float64 { return s[int(math.Round(f*float64(m-1)))] }
 		L.Median[i], L.Lo[i], L.Hi[i] = q(0.5), q(0.15865525393145707), q(0.8413447460685429)
+	}
+}
+
+// addBoundVariance adds to cov (the conditional covariance in w of the
+// parameters idx) what the others' uncertainty adds in u, mapped to w.
+func addBoundVariance(cov *mat.SymDense, p *Problem, idx []int, xhat []float64, cu *curvatureU) {
+	n, d := len(idx), len(p.Space)
+	hII := mat.NewSymDense(n, nil)
+	for a, i := range idx {
+		for b, j := range idx[:a+1] {
+			hII.SetSym(a, b, cu.H.At(i, j))
+		}
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(hII) {
+		return
+	}
+	var cond mat.SymDense
+	if ch.InverseTo(&cond) != nil {
+		return
+	}
+	// dw/du on the free block: dx/du, divided by x for a scale.
+	x := p.Space.ToX(nil, cu.u)
+	D := mat.NewDense(n, n, nil)
+	for a, i := range idx {
+		f := 1.0
+		if q := p.Space[i]; !p.natural && (q.Kind == Positive || q.Kind == LogBounded) {
+			f = 1 / x[i]
+		}
+		for b, j := range idx {
+			D.Set(a, b, f*cu.J[i*d+j])
+		}
+	}
+	delta := mat.NewDense(n, n, nil)
+	for a, i := range idx {
+		for b, j := range idx {
+			delta.Set(a, b, cu.covU.At(i, j)-cond.At(a, b))
+		}
+	}
+	var t1, t2 mat.Dense
+	t1.Mul(D, delta)
+	t2.Mul(&t1, D.T())
+	for a := 0; a < n; a++ {
+		for b := 0; b <= a; b++ {
+			cov.SetSym(a, b, cov.At(a, b)+0.5*(t2.At(a, b)+t2.At(b, a)))
+		}
 	}
 }
 
