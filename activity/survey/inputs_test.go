@@ -9,6 +9,7 @@ import (
 
 	"spotsift/activity"
 	"spotsift/activity/starsim"
+	"spotsift/rvfit/rvtest"
 )
 
 // TestSpectraFolder surveys a star whose data is a folder of simulated
@@ -101,5 +102,41 @@ func TestInMemory(t *testing.T) {
 	sum, err = Run(context.Background(), &m, out, fastOpts())
 	if err != nil || sum.Run.Analysed != 1 || sum.Stars[1].Status != StatusDone {
 		t.Fatalf("after a change: %v %+v", err, sum)
+	}
+}
+
+// TestSpectraNotes: what measuring a star's spectra notices reaches the
+// star's notes, as the measure command prints it: here the H-alpha band
+// off its line (the line drawn 1.5 Å from its laboratory wavelength in
+// every spectrum, beyond the check's 0.8 Å tolerance) and the barycentric
+// convention assumed.
+func TestSpectraNotes(t *testing.T) {
+	if testing.Short() {
+		t.Skip("writes and measures spectra")
+	}
+	dir := t.TempDir()
+	spectra := filepath.Join(dir, "spectra")
+	if err := os.Mkdir(spectra, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	rvtest.LabSpectra(t, spectra, activity.MinEpochs, -23e3, map[float64]float64{6562.797: 6562.797 + 1.5})
+	m := &Manifest{File: "notes manifest", Dir: dir, Stars: []Entry{{Name: "Lab-1", Data: "spectra"}}}
+	out := t.TempDir()
+	o := fastOpts()
+	if _, err := Run(context.Background(), m, out, o); err != nil {
+		t.Fatal(err)
+	}
+	st, err := readState(filepath.Join(out, StarsDir, "Lab-1"))
+	if err != nil || st.Status != StatusDone {
+		t.Fatalf("state %+v, %v", st, err)
+	}
+	notes := strings.Join(st.Notes, "\n")
+	for _, w := range []string{"spectrum sa.fits kept, to check: H-alpha: H-alpha band off the line", "barycentric correction: "} {
+		if !strings.Contains(notes, w) {
+			t.Errorf("the notes lack %q:\n%s", w, notes)
+		}
+	}
+	if strings.Contains(notes, "Ca II") || strings.Contains(notes, "Na I") {
+		t.Errorf("a band off its line besides H-alpha:\n%s", notes)
 	}
 }

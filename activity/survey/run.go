@@ -662,6 +662,41 @@ func spectrumFiles(dir string) ([]string, error) {
 	return out, nil
 }
 
+// measureNotes are what measuring a star's spectra noticed, as the star's
+// notes (what the measure command prints): spectra left out or kept with
+// indices missing, files skipped as not spectra, spectra left out of the
+// mask, a mask without a rest frame, the barycentric conventions assumed
+// and the warnings on kept spectra (an index band off its line).
+func measureNotes(fails []activity.MeasureFailure, rep *activity.MeasureReport) []string {
+	var notes []string
+	for _, f := range fails {
+		what := "left out"
+		if f.Partial {
+			what = "kept, some indicators missing"
+		}
+		notes = append(notes, fmt.Sprintf("spectrum %s %s: %v", filepath.Base(f.Path), what, f.Err))
+	}
+	for _, f := range rep.Skipped {
+		notes = append(notes, fmt.Sprintf("file %s skipped, not a spectrum: %v", filepath.Base(f.Path), f.Err))
+	}
+	if m := rep.Mask; m != nil && m.Build != nil {
+		for _, l := range m.Build.LeftOut {
+			notes = append(notes, fmt.Sprintf("spectrum %s left out of the mask: %s", filepath.Base(l.Name), l.Reason))
+		}
+		if m.Build.Problem != "" && len(m.Build.Spectra) > 0 {
+			notes = append(notes, fmt.Sprintf("the mask built from the spectra has no rest frame (%s): RVs are relative to %s, and S-index, log R'HK, H-alpha and Na D are left out",
+				m.Build.Problem, filepath.Base(m.Build.Spectra[0])))
+		}
+	}
+	for _, c := range rep.Conventions {
+		notes = append(notes, "barycentric correction: "+c)
+	}
+	for _, f := range rep.Warnings {
+		notes = append(notes, fmt.Sprintf("spectrum %s kept, to check: %v", filepath.Base(f.Path), f.Err))
+	}
+	return notes
+}
+
 // loadSeries reads the star's data: in memory, a table, or a folder of
 // spectra. Reader warnings and spectra left out come back as notes.
 func loadSeries(ctx context.Context, m *Manifest, e *Entry, star *activity.Star) (*rvfit.Series, []string, error) {
@@ -692,19 +727,7 @@ func loadSeries(ctx context.Context, m *Manifest, e *Entry, star *activity.Star)
 		if err != nil {
 			return nil, nil, fmt.Errorf("measuring the spectra of %s: %w", p, err)
 		}
-		for _, f := range fails {
-			what := "left out"
-			if f.Partial {
-				what = "kept, some indicators missing"
-			}
-			notes = append(notes, fmt.Sprintf("spectrum %s %s: %v", filepath.Base(f.Path), what, f.Err))
-		}
-		for _, f := range rep.Skipped {
-			notes = append(notes, fmt.Sprintf("file %s skipped, not a spectrum: %v", filepath.Base(f.Path), f.Err))
-		}
-		for _, f := range rep.Warnings {
-			notes = append(notes, fmt.Sprintf("spectrum %s kept, to check: %v", filepath.Base(f.Path), f.Err))
-		}
+		notes = measureNotes(fails, &rep)
 	} else {
 		s, notes, err = readTables(p, e)
 		if err != nil {

@@ -1,8 +1,6 @@
 package main
 
 import (
-	"math"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -10,47 +8,13 @@ import (
 	"testing"
 
 	"spotsift/indicators"
+	"spotsift/rvfit/rvtest"
 )
 
-// labSpectra writes n FITS spectra of a star at vsys m/s whose lines are the
-// laboratory lines of indicators.LabLines (σ = 3 km/s) and broad Ca II,
-// Na D and H-alpha lines, with photon noise, into dir.
+// labSpectra writes n spectra of lab lines at systemic velocity vsys
+// (rvtest.LabSpectra).
 func labSpectra(t *testing.T, dir string, n int, vsys float64) {
-	t.Helper()
-	rng := rand.New(rand.NewPCG(2, 2))
-	type line struct{ lambda, depth, sigma float64 }
-	var lines []line
-	for _, l := range indicators.LabLines {
-		lines = append(lines, line{l.Air, 0.3 + 0.5*rng.Float64(), 3000})
-	}
-	for _, c := range []float64{3933.663, 3968.468, 5889.951, 5895.924, 6562.797} {
-		lines = append(lines, line{c, 0.8, 40e3})
-	}
-	const lo, step = 3880.0, 6e-6
-	npix := int(math.Log(6600/lo) / step)
-	for k := 0; k < n; k++ {
-		berv := 20e3 * math.Cos(float64(k))
-		d := indicators.DopplerFactor(vsys) / indicators.DopplerFactor(berv)
-		o := indicators.Order{Wavelength: make([]float64, npix), Flux: make([]float64, npix)}
-		for i := range o.Wavelength {
-			o.Wavelength[i] = lo * math.Exp(step*float64(i))
-			o.Flux[i] = 1
-		}
-		for _, l := range lines {
-			c := l.lambda * d
-			for i := max(0, int(math.Log(c*(1-8*l.sigma/indicators.C)/lo)/step)); i < npix && o.Wavelength[i] < c*(1+8*l.sigma/indicators.C); i++ {
-				u := indicators.C * math.Log(o.Wavelength[i]/c) / l.sigma
-				o.Flux[i] *= 1 - l.depth*math.Exp(-0.5*u*u)
-			}
-		}
-		for i, f := range o.Flux {
-			o.Flux[i] = math.Max(0, 1e4*f+100*f*rng.NormFloat64())
-		}
-		s := &indicators.Spectrum{Orders: []indicators.Order{o}, BJD: 2460000.5 + 3*float64(k), BERV: berv}
-		if err := indicators.WriteFITSFile(filepath.Join(dir, "s"+string(rune('a'+k))+".fits"), s); err != nil {
-			t.Fatal(err)
-		}
-	}
+	rvtest.LabSpectra(t, dir, n, vsys, nil)
 }
 
 // TestMeasureMessages checks what measure says: a mask without its
