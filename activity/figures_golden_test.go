@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"testing"
 
+	"spotsift/activity/photometry"
 	"spotsift/rvfit"
 )
 
@@ -89,7 +90,26 @@ func goldenFigures(t *testing.T) []*figure {
 	for x := s.Time[0]; x <= s.Time[s.Len()-1]; x += 0.5 {
 		grid, mean, sd = append(grid, x), append(mean, 0.5*math.Sin(2*math.Pi*x/25)), append(sd, 0.3)
 	}
-	return []*figure{figTimeSeries(s, z), pg, fc, figFolded(s, dg, z), drawGP(s, z, 0, y, at, grid, mean, sd), figCoherence(s, dg)}
+	return []*figure{figTimeSeries(s, z), pg, fc, figFolded(s, dg, z), drawGP(s, z, 0, y, at, grid, mean, sd), figCoherence(s, dg), goldenPhotometry(dg)}
+}
+
+// goldenPhotometry draws the light-curve figure of a made-up light curve
+// (a 25 d spot modulation with seeded noise, two sectors).
+func goldenPhotometry(dg *Diagnosis) *figure {
+	rng := rand.New(rand.NewPCG(18, 2))
+	lc := &photometry.LightCurve{Name: "golden"}
+	for i := 0; i < 700; i++ {
+		ti := 2460003 + 0.1*float64(i)
+		if i >= 350 {
+			ti += 40 // a second sector
+		}
+		lc.Time = append(lc.Time, ti)
+		lc.Flux = append(lc.Flux, 1+0.004*math.Sin(2*math.Pi*ti/25)+5e-4*rng.NormFloat64())
+		lc.Err = append(lc.Err, 5e-4)
+	}
+	d := *dg
+	d.Rotation.Estimates = append([]RotationEstimate{{Method: lightCurveMethod + " (ACF)", Period: 24.6, Err: 0.8}}, d.Rotation.Estimates...)
+	return figPhotometry(lc, &d)
 }
 
 // TestFigureGolden compares each figure's SVG with its golden file in

@@ -2,7 +2,6 @@ package activity
 
 import (
 	"fmt"
-	"image/color"
 	"math"
 	"strings"
 
@@ -67,31 +66,43 @@ func figPhotometry(lc *photometry.LightCurve, dg *Diagnosis) *figure {
 	pl := newPlot("", timeLabel(t0), "relative flux")
 	scatterErr(pl, x, y, nil, photStyle)
 
-	// GLS periodogram against period.
+	// GLS periodogram against period, with its own power scale and the
+	// periods as short ticks above the curve (labelled, staggered).
 	pp := newPlot("", "period (d)", "GLS power")
 	if pg := rot.Periodogram; pg != nil {
 		pts := make(plotter.XYs, 0, pg.Grid.N)
+		peak := 0.0
 		for k := pg.Grid.N - 1; k >= 0; k-- {
 			pts = append(pts, plotter.XY{X: 1 / pg.Grid.Freq(k), Y: pg.Power[k]})
+			if isFinite(pg.Power[k]) {
+				peak = math.Max(peak, pg.Power[k])
+			}
+		}
+		pmin, pmax := 1/pg.Grid.FMax(), 1/pg.Grid.FMin
+		scale := 1.05 * peak
+		if !(scale > 0) {
+			scale = 1
 		}
 		line(pp, pts, inkCurve, 0.7, nil)
-		periodAxis(pp, 1/pg.Grid.FMax(), 1/pg.Grid.FMin)
-		mark(pp, lcP, adopted, 0, 1, 1/pg.Grid.FMax(), 1/pg.Grid.FMin)
+		periodAxis(pp, pmin, pmax)
+		pp.Y.Min, pp.Y.Max = 0, 1.75*scale
+		pp.Y.Tick.Marker = cappedTicks{max: scale}
+		drawMarkers(pp, photMarkers(lcP, adopted, nil, pmin, pmax), pmin, pmax, 1.08*scale, 1.22*scale, 1.3*scale, 0.14*scale)
 	}
 
-	// ACF.
+	// ACF, with the peaks it used and the periods as ticks above it.
 	pa := newPlot("", "lag (d)", "autocorrelation")
 	if a := rot.ACF; a != nil && len(a.Lag) > 1 {
 		line(pa, xys(a.Lag, a.Value), inkCurve, 0.7, nil)
-		for _, l := range a.Peaks {
-			photVline(pa, l, -1, 1, inkAlias, dotted)
-		}
-		mark(pa, lcP, adopted, -1, 1, 0, a.Lag[len(a.Lag)-1])
+		lmax := a.Lag[len(a.Lag)-1]
+		pa.Y.Min, pa.Y.Max = -1, 1.35
+		pa.Y.Tick.Marker = cappedTicks{max: 1}
+		drawMarkers(pa, photMarkers(lcP, adopted, a.Peaks, 0, lmax), 0, lmax, 1.08, 1.28, 0, 0)
 	}
-	caption := "The light curve (binned in time when long), its GLS periodogram and its autocorrelation function (McQuillan, Aigrain & Mazeh 2013; dotted grey: the peaks used)."
+	caption := "The light curve (binned in time when long), its GLS periodogram and its autocorrelation function (McQuillan, Aigrain & Mazeh 2013). Ochre ticks above the panels: the light curve's rotation period (\"Prot LC\", thick), the period the diagnosis adopted (\"Prot\") and, above the autocorrelation, the peaks it used (thin)."
 	switch {
 	case isFinite(lcP):
-		caption += fmt.Sprintf(" Solid teal: the light curve's rotation period, %.3g d; dashed ochre: the period the diagnosis adopted.", lcP)
+		caption += fmt.Sprintf(" The light curve gives %.3g d.", lcP)
 	default:
 		caption += " " + rot.Reason + "."
 	}
@@ -99,25 +110,28 @@ func figPhotometry(lc *photometry.LightCurve, dg *Diagnosis) *figure {
 		safeAxes(p)
 	}
 	key := []keyItem{
-		{label: "rotation period from the light curve", thumb: lineThumb(inkModel, 0.8, nil)},
-		{label: "rotation period adopted", thumb: lineThumb(inkRot, 0.8, dashed)},
+		{label: "rotation period (ticks above the panels)", thumb: lineThumb(inkRot, 1.6, nil)},
 	}
 	return &figure{name: "photometry", title: "Light curve and its rotation period", caption: caption,
 		plots: [][]*plot.Plot{{pl}, {pp}, {pa}}, key: key, w: 17 * vg.Centimeter, h: 15 * vg.Centimeter}
 }
 
-// photVline adds a vertical line at x spanning [lo, hi].
-func photVline(p *plot.Plot, x, lo, hi float64, ink color.Color, dashes []vg.Length) {
-	line(p, plotter.XYs{{X: x, Y: lo}, {X: x, Y: hi}}, ink, 0.8, dashes)
-}
-
-// mark draws the light curve's period and the adopted period as vertical
-// lines, when they fall within [xmin, xmax].
-func mark(p *plot.Plot, lcP, adopted, lo, hi, xmin, xmax float64) {
-	if lcP >= xmin && lcP <= xmax {
-		photVline(p, lcP, lo, hi, inkModel, nil)
+// photMarkers returns the light curve's rotation period (thick, "Prot
+// LC"), the adopted one (thinner, "Prot") and the ACF peaks (thin,
+// unlabelled) that fall within [xmin, xmax], all in the rotation's ink.
+func photMarkers(lcP, adopted float64, peaks []float64, xmin, xmax float64) []marker {
+	in := func(x float64) bool { return x >= xmin && x <= xmax && plottable(x) }
+	var out []marker
+	for _, l := range peaks {
+		if in(l) {
+			out = append(out, marker{l, "", inkRot, 0.7})
+		}
 	}
-	if adopted >= xmin && adopted <= xmax {
-		photVline(p, adopted, lo, hi, inkRot, dashed)
+	if in(adopted) {
+		out = append(out, marker{adopted, "Prot", inkRot, 1.2})
 	}
+	if in(lcP) {
+		out = append(out, marker{lcP, "Prot LC", inkRot, 2})
+	}
+	return out
 }
