@@ -63,6 +63,10 @@ func roundTo(x float64, dec int) string {
 	return s
 }
 
+// FormatValErr formats a value with its one-sigma error as the report
+// does (see fmtValErr), for the commands' terminal output.
+func FormatValErr(v, e float64) string { return fmtValErr(v, e) }
+
 // fmtValErr formats a value with its one-sigma error, both rounded to the
 // error's precision: "7.43 ± 0.21". An unknown or zero error gives the
 // value to four significant digits and "± —"; an unknown value gives "—".

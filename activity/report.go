@@ -240,8 +240,21 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 		}
 		row("period P (d)", func(p OrbitPlanet) string { return fmtValErr(p.P, p.PErr) })
 		row("semi-amplitude K (m/s)", func(p OrbitPlanet) string { return fmtValErr(p.K, p.KErr) })
-		row("eccentricity e", func(p OrbitPlanet) string { return fmtValErr(p.E, p.EErr) })
-		row("argument of periastron ω (deg, star's orbit)", func(p OrbitPlanet) string { return fmtValErr(p.OmegaDeg, p.OmErr) })
+		// An eccentricity at its lower bound (the prior's edge, e → 0) is a
+		// circular orbit: its error and ω mean nothing there.
+		circular := func(p OrbitPlanet) bool { return p.E < circularE }
+		row("eccentricity e", func(p OrbitPlanet) string {
+			if circular(p) {
+				return "0 (at its lower bound: circular)"
+			}
+			return fmtValErr(p.E, p.EErr)
+		})
+		row("argument of periastron ω (deg, star's orbit)", func(p OrbitPlanet) string {
+			if circular(p) {
+				return "— (undefined for a circular orbit)"
+			}
+			return fmtValErr(p.OmegaDeg, p.OmErr)
+		})
 		row("time of conjunction Tc (BJD_TDB)", func(p OrbitPlanet) string { return fmtValErr(p.Tc, p.TcErr) })
 		if orb.StarMass > 0 {
 			row(fmt.Sprintf("minimum mass m sin i (M_Jup, M* = %s M_sun assumed exact)", fmtSig(orb.StarMass, 3)), func(p OrbitPlanet) string { return fmtValErr(p.MinMass, p.MMErr) })
@@ -326,6 +339,11 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 	}
 	return v, rendered, nil
 }
+
+// circularE is the eccentricity below which the orbital solution is shown
+// as circular (a fit at the lower bound of e; 1e-4 is far below what RVs
+// can measure).
+const circularE = 1e-4
 
 // adoptedKText is the sentence under the verdict summary saying which K
 // it quotes: the one K of each signal, stated once.

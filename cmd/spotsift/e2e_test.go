@@ -109,7 +109,7 @@ func TestDemo(t *testing.T) {
 			t.Errorf("demo does not say where the reports are:\n%s", stdout)
 		}
 		// The K printed is the adopted one, and says where it is from.
-		if !regexp.MustCompile(`S1 +P = +9\.73[0-9]* d +K = +[0-9.]+ m/s \(Keplerian fit\)`).MatchString(stdout) {
+		if !regexp.MustCompile(`S1 +P = +9\.73[0-9]* d +K = [0-9.]+ ± [0-9.]+ m/s \(Keplerian fit\)`).MatchString(stdout) {
 			t.Errorf("demo does not print the planet's adopted K:\n%s", stdout)
 		}
 		if k == 0 && !strings.Contains(stdout, "measured and deleted") {
