@@ -3,9 +3,7 @@ package indicators
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"sort"
-	"sync"
 
 	"spotsift/internal/worker"
 )
@@ -91,31 +89,122 @@ type SegmentCCF struct {
 
 // placement is one mask line placed in one order.
 type placement struct {
-	order, seg, start int32
-	lambda, weight    float64
+	order, seg int32
+	// start and end bound the pixels [start, end) of the order the hole
+	// can overlap over the whole grid.
+	start, end     int32
+	lambda, weight float64
 }
 
-// ccfOrder holds the pixel geometry of one order.
+// ccfOrder is one order's pixels. Pixel x spans [edge(x), edge(x+1)), the
+// edges halfway between neighbouring pixel centres (the outer edges
+// mirrored); they are computed when needed rather than stored, since the
+// CCF reads each pixel once.
 type ccfOrder struct {
-	edges, invw, flux, sig2 []float64
-	offset                  int // index of pixel 0 in the global pixel numbering
+	wl, flux, err []float64
+	rn2           float64 // detector variance, without flux errors
+	offset        int     // index of pixel 0 in the global pixel numbering
+}
+
+func (o *ccfOrder) n() int { return len(o.wl) }
+
+// edge returns the lower edge of pixel x, 0 ≤ x ≤ n (edge(n) is the upper
+// edge of the last pixel).
+func (o *ccfOrder) edge(x int) float64 {
+	wl := o.wl
+	n := len(wl)
+	if x > 0 && x < n {
+		return 0.5 * (wl[x-1] + wl[x])
+	}
+	if n == 1 {
+		if x == 0 {
+			return wl[0] * (1 - 1e-6)
+		}
+		return wl[0] * (1 + 1e-6)
+	}
+	if x == 0 {
+		return wl[0] - 0.5*(wl[1]-wl[0])
+	}
+	return wl[n-1] + 0.5*(wl[n-1]-wl[n-2])
+}
+
+// sig2 returns the variance of pixel x: Err² when flux errors are given,
+// else photon noise plus detector noise, max(F, 1) + readNoise².
+func (o *ccfOrder) sig2(x int) float64 {
+	if o.err != nil {
+		return o.err[x] * o.err[x]
+	}
+	return math.Max(o.flux[x], 1) + o.rn2
+}
+
+// search returns the pixel x with edge(x) ≤ λ < edge(x+1), clamped to
+// [0, n−1].
+func (o *ccfOrder) search(lambda float64) int {
+	lo, hi := 0, o.n()
+	for hi-lo > 1 {
+		m := (lo + hi) / 2
+		if o.edge(m) <= lambda {
+			lo = m
+		} else {
+			hi = m
+		}
+	}
+	return lo
+}
+
+// searchNear is search started from pixel x: a linear guess from the
+// width of pixel x (exact for pixel widths that vary slowly), corrected by
+// a few steps, else a binary search.
+func (o *ccfOrder) searchNear(lambda float64, x int) int {
+	n := o.n()
+	x = min(max(x, 0), n-1)
+	e0, e1 := o.edge(x), o.edge(x+1)
+	f := math.Floor((lambda - e0) / (e1 - e0))
+	if !(math.Abs(f) < float64(n)) {
+		return o.search(lambda)
+	}
+	x = min(max(x+int(f), 0), n-1)
+	for range 8 {
+		switch {
+		case x > 0 && o.edge(x) > lambda:
+			x--
+		case x < n-1 && o.edge(x+1) <= lambda:
+			x++
+		default:
+			return x
+		}
+	}
+	return o.search(lambda)
+}
+
+func prepareOrders(s *Spectrum, readNoise float64) []ccfOrder {
+	out := make([]ccfOrder, len(s.Orders))
+	off := 0
+	for i := range s.Orders {
+		ord := &s.Orders[i]
+		out[i] = ccfOrder{wl: ord.Wavelength, flux: ord.Flux, err: ord.Err, rn2: readNoise * readNoise, offset: off}
+		off += len(ord.Wavelength)
+	}
+	return out
 }
 
 // ccfPlan is everything needed to recompute a CCF or propagate errors
 // through it.
 type ccfPlan struct {
 	orders []ccfOrder
-	places []placement // sorted by segment
+	places []placement // sorted by segment, by wavelength within an order
 	dk     []float64   // Doppler factors of the grid
 	h      float64     // half hole width over c
-	npix   int
-	// serial reports whether run and propagate stay on the calling
-	// goroutine.
+	nseg   int
+	// w is the number of grid steps walk gives each (line, pixel) pair:
+	// at least the most steps whose holes reach one pixel (run doubles it
+	// when it is not).
+	w int
+	// serial reports whether run stays on the calling goroutine.
 	serial bool
-	// slab holds the orders' arrays when they came from getSlab.
-	slab    *[]float64
-	allSig2 []float64
-	span    int // see maxSpan
+	// cov is the photon-noise covariance of the segments' CCFs, filled by
+	// run(true) (or by propagate when needed).
+	cov *ccfAcc
 }
 
 // ComputeCCF cross-correlates s with the mask m on the grid set by opts
@@ -127,11 +216,12 @@ func ComputeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 	if err := s.validate(true); err != nil {
 		return nil, err
 	}
-	return computeCCF(s, m, opts)
+	return computeCCF(s, m, opts, false)
 }
 
-// computeCCF is ComputeCCF for a validated spectrum.
-func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
+// computeCCF is ComputeCCF for a validated spectrum; with cov it also
+// builds the covariance its errors are propagated with, in the same walk.
+func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions, cov bool) (*CCF, error) {
 	if m == nil || m.Len() == 0 {
 		return nil, fmt.Errorf("%s: %w", s.Name, ErrNoMaskLines)
 	}
@@ -152,7 +242,7 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 	if o.ReadNoise < 0 || math.IsNaN(o.ReadNoise) || math.IsInf(o.ReadNoise, 0) {
 		return nil, fmt.Errorf("%w: read noise %v", ErrBadParameter, o.ReadNoise)
 	}
-	orders, slab := prepareOrdersPooled(s, o.ReadNoise)
+	orders := prepareOrders(s, o.ReadNoise)
 	pixw := medianPixelWidth(s)
 	hole := o.HoleWidth
 	if hole == 0 {
@@ -167,7 +257,6 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 		}
 		vc, fwhm, err := coarseSearch(orders, m, center, search, math.Max(2000, hole), hole)
 		if err != nil {
-			releaseSlab(slab)
 			return nil, fmt.Errorf("%s: %w", s.Name, err)
 		}
 		center = vc
@@ -189,111 +278,14 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions) (*CCF, error) {
 	}
 	plan, err := newPlan(orders, m, v, hole, o.Chunks, len(s.Orders) == 1)
 	if err != nil {
-		releaseSlab(slab)
 		return nil, fmt.Errorf("%s: %w", s.Name, err)
 	}
-	plan.slab = slab
 	plan.serial = o.Serial
-	// All orders' variances are one contiguous array.
-	plan.allSig2 = (*slab)[:plan.npix]
-	c := plan.run()
+	c := plan.run(cov)
 	c.V = v
 	c.HoleWidth = hole
 	c.PixelWidth = pixw
 	return c, nil
-}
-
-func prepareOrders(s *Spectrum, readNoise float64) []ccfOrder {
-	orders, _ := prepareOrdersPooled(s, readNoise)
-	return orders
-}
-
-// slabs recycles the pixel-geometry arrays of prepareOrdersPooled. Unlike
-// a sync.Pool it survives garbage collections: these arrays are megabytes,
-// and fresh memory costs more to obtain (zeroing, page faults) than the
-// arithmetic that fills it. It keeps at most GOMAXPROCS arrays.
-var slabs struct {
-	sync.Mutex
-	free []*[]float64
-}
-
-func getSlab() *[]float64 {
-	slabs.Lock()
-	defer slabs.Unlock()
-	if n := len(slabs.free); n > 0 {
-		s := slabs.free[n-1]
-		slabs.free = slabs.free[:n-1]
-		return s
-	}
-	return new([]float64)
-}
-
-// prepareOrdersPooled computes pixel edges, inverse widths and variances
-// into one array taken from getSlab; the caller may hand the returned slab
-// back with releaseSlab once nothing refers to the orders any more.
-//
-// Without flux errors the variance is photon noise plus detector noise,
-// max(F, 1) + readNoise².
-func prepareOrdersPooled(s *Spectrum, readNoise float64) ([]ccfOrder, *[]float64) {
-	rn2 := readNoise * readNoise
-	out := make([]ccfOrder, len(s.Orders))
-	var total int
-	for i := range s.Orders {
-		total += len(s.Orders[i].Wavelength)
-	}
-	slab := getSlab()
-	need := 3*total + len(s.Orders)
-	if cap(*slab) < need {
-		*slab = make([]float64, need)
-	}
-	buf := (*slab)[:need]
-	sig2 := buf[:total]
-	rest := buf[total:]
-	off := 0
-	for i := range s.Orders {
-		ord := &s.Orders[i]
-		wl := ord.Wavelength
-		n := len(wl)
-		e := rest[: n+1 : n+1]
-		iw := rest[n+1 : 2*n+1 : 2*n+1]
-		rest = rest[2*n+1:]
-		if n == 1 {
-			e[0], e[1] = wl[0]*(1-1e-6), wl[0]*(1+1e-6)
-		} else {
-			for x := 1; x < n; x++ {
-				e[x] = 0.5 * (wl[x-1] + wl[x])
-			}
-			e[0] = wl[0] - 0.5*(wl[1]-wl[0])
-			e[n] = wl[n-1] + 0.5*(wl[n-1]-wl[n-2])
-		}
-		for x := range iw {
-			iw[x] = 1 / (e[x+1] - e[x])
-		}
-		s2 := sig2[off : off+n : off+n]
-		if ord.Err != nil {
-			for x, v := range ord.Err {
-				s2[x] = v * v
-			}
-		} else {
-			for x, f := range ord.Flux {
-				s2[x] = math.Max(f, 1) + rn2
-			}
-		}
-		out[i] = ccfOrder{edges: e, invw: iw, flux: ord.Flux, sig2: s2, offset: off}
-		off += n
-	}
-	return out, slab
-}
-
-func releaseSlab(slab *[]float64) {
-	if slab == nil {
-		return
-	}
-	slabs.Lock()
-	defer slabs.Unlock()
-	if len(slabs.free) < runtime.GOMAXPROCS(0) {
-		slabs.free = append(slabs.free, slab)
-	}
 }
 
 // medianPixelWidth returns the median of c·Δλ/λ over (a sample of) pixels.
@@ -313,6 +305,21 @@ func medianPixelWidth(s *Spectrum) float64 {
 	return w[len(w)/2]
 }
 
+// maxPixelWidth returns the largest c·Δλ/λ of a sample of about 2000
+// pixels per order.
+func maxPixelWidth(orders []ccfOrder) float64 {
+	var w float64
+	for i := range orders {
+		o := &orders[i]
+		n := o.n()
+		for x := 0; x < n; x += max(1, n/2000) {
+			e0, e1 := o.edge(x), o.edge(x+1)
+			w = max(w, C*(e1-e0)/e0)
+		}
+	}
+	return w
+}
+
 // newPlan places the mask lines in the orders: a line is used in an order
 // when its hole lies inside the order at every grid velocity.
 func newPlan(orders []ccfOrder, m *Mask, v []float64, hole float64, chunks int, single bool) (*ccfPlan, error) {
@@ -323,18 +330,23 @@ func newPlan(orders []ccfOrder, m *Mask, v []float64, hole float64, chunks int, 
 	}
 	dlo := p.dk[0] * (1 - p.h)
 	dhi := p.dk[len(v)-1] * (1 + p.h)
-	for oi, o := range orders {
-		e := o.edges
-		lo := sort.SearchFloat64s(m.Wavelength, e[0]/dlo)
-		for l := lo; l < m.Len() && m.Wavelength[l]*dhi <= e[len(e)-1]; l++ {
+	for oi := range orders {
+		o := &orders[oi]
+		n := o.n()
+		top := o.edge(n)
+		lo := sort.SearchFloat64s(m.Wavelength, o.edge(0)/dlo)
+		// The lines are sorted: each search starts from the last.
+		xs, xe := 0, 0
+		for l := lo; l < m.Len() && m.Wavelength[l]*dhi <= top; l++ {
 			lam := m.Wavelength[l]
-			start := sort.SearchFloat64s(e, lam*dlo) - 1
-			if start < 0 {
-				start = 0
-			}
-			p.places = append(p.places, placement{order: int32(oi), start: int32(start), lambda: lam, weight: m.Weight[l]})
+			xs = o.searchNear(lam*dlo, xs)
+			xe = o.searchNear(lam*dhi, max(xe, xs))
+			start := max(0, xs-1)
+			// One pixel beyond the last the hole reaches, for the
+			// rounding of λ·D·(1 + h) against λ·(D·(1 + h)).
+			end := min(n, xe+2)
+			p.places = append(p.places, placement{order: int32(oi), start: int32(start), end: int32(end), lambda: lam, weight: m.Weight[l]})
 		}
-		p.npix = o.offset + len(o.flux)
 	}
 	if len(p.places) == 0 {
 		return nil, ErrNoMaskLines
@@ -346,10 +358,11 @@ func newPlan(orders []ccfOrder, m *Mask, v []float64, hole float64, chunks int, 
 			p.places[i].seg = int32(min(chunks-1, int(f*float64(chunks))))
 		}
 	} else {
+		// Orders are placed in turn, so the placements are sorted by
+		// order already.
 		for i := range p.places {
 			p.places[i].seg = p.places[i].order
 		}
-		sort.SliceStable(p.places, func(a, b int) bool { return p.places[a].seg < p.places[b].seg })
 	}
 	// Renumber segments densely.
 	seg, last := int32(-1), int32(-1)
@@ -360,342 +373,404 @@ func newPlan(orders []ccfOrder, m *Mask, v []float64, hole float64, chunks int, 
 		}
 		p.places[i].seg = seg
 	}
+	p.nseg = int(seg) + 1
+	// Runs: the grid steps whose hole centres lie within half a pixel
+	// plus half a hole of a pixel's centre, in velocity, from a sample of
+	// pixel widths (a wider pixel makes run start again with longer runs).
+	step := v[1] - v[0]
+	p.w = int((1.05*maxPixelWidth(orders)+hole)/step) + 2
 	return p, nil
 }
 
-// run computes the CCF of every segment and their sum.
-func (p *ccfPlan) run() *CCF {
-	nv := len(p.dk)
-	nseg := int(p.places[len(p.places)-1].seg) + 1
-	c := &CCF{Value: make([]float64, nv), Var: make([]float64, nv), Segments: make([]SegmentCCF, nseg), Lines: len(p.places), plan: p}
-	for s := range c.Segments {
-		c.Segments[s].Value = make([]float64, nv)
-		c.Segments[s].Var = make([]float64, nv)
-	}
-	wsum := make([]float64, nseg)
-	// Two goroutines, each owning whole segments.
-	split := len(p.places)
-	if nseg > 1 && !p.serial {
-		split = len(p.places) / 2
-		for split < len(p.places) && p.places[split].seg == p.places[split-1].seg {
-			split++
-		}
-	}
-	var wg worker.Group
-	if split < len(p.places) {
-		wg.Go(func() { p.runPlaces(c, wsum, p.places[split:]) })
-	}
-	p.runPlaces(c, wsum, p.places[:split])
-	wg.Rethrow()
-	for s := range c.Segments {
-		c.Segments[s].Wavelength /= wsum[s]
-		for k := 0; k < nv; k++ {
-			c.Value[k] += c.Segments[s].Value[k]
-			c.Var[k] += c.Segments[s].Var[k]
-		}
-	}
-	return c
+// ccfAcc accumulates the CCF of every segment and, optionally, the
+// photon-noise covariance of those CCFs. The CCF is linear in the pixel
+// fluxes, CCF_s(v_k) = Σ_x J_skx F_x with J_skx = Σ_{l in s} w_l
+// overlap_x,l(v_k), so
+//
+//	Cov(CCF_s(v_k), CCF_s'(v_k')) = Σ_x σ_x² J_skx J_s'k'x.
+//
+// One line reaches one pixel over a short run of grid steps (the pixel
+// width plus the hole width, in steps), so the terms of one line with
+// itself fill a band of the covariance, kept per segment; the terms
+// between two lines that reach the same pixel are kept as those pixels'
+// runs (shared), and summed into quadratic forms once the gradients are
+// known (propagate).
+type ccfAcc struct {
+	nk, nseg int
+	// w is the number of grid steps of a run (see walk); rows of val, vr
+	// and band run past the grid by w, so that a run never needs cutting.
+	w int
+	// val and vr hold segment s's CCF and its per-bin variance at
+	// [s*(nk+w) + k].
+	val, vr []float64
+	cov     bool
+	// band[(s*(nk+w) + k)*w + j] is the covariance of bins k and k + j of
+	// segment s from each line with itself.
+	band []float64
+	// The pixels reached by more than one line: their variance and the
+	// run of each line (values w_l overlap_x,l(v_k), k = k0 …).
+	shared []sharedPixel
+	runs   []sharedRun
+	vals   []float64
 }
 
-// runPlaces accumulates the CCF of the given placements into their
-// segments.
-func (p *ccfPlan) runPlaces(c *CCF, wsum []float64, places []placement) {
-	lo, hi := 1-p.h, 1+p.h
-	for _, pl := range places {
-		o := &p.orders[pl.order]
-		e, iw, f, s2 := o.edges, o.invw, o.flux, o.sig2
+type sharedPixel struct {
+	sig2        float64
+	first, nrun int32
+}
+
+type sharedRun struct{ seg, k0, n, off int32 }
+
+func newAcc(nk, nseg, w int, cov bool) *ccfAcc {
+	rows := nseg * (nk + w)
+	a := &ccfAcc{nk: nk, nseg: nseg, w: w, val: make([]float64, rows), vr: make([]float64, rows), cov: cov}
+	if cov {
+		a.band = make([]float64, rows*w)
+	}
+	return a
+}
+
+// add adds b's sums to a's (b's shared pixels after a's).
+func (a *ccfAcc) add(b *ccfAcc) {
+	for i := range a.val {
+		a.val[i] += b.val[i]
+		a.vr[i] += b.vr[i]
+	}
+	if !a.cov {
+		return
+	}
+	for i, v := range b.band {
+		a.band[i] += v
+	}
+	nr, nv := int32(len(a.runs)), int32(len(a.vals))
+	for _, sp := range b.shared {
+		sp.first += nr
+		a.shared = append(a.shared, sp)
+	}
+	for _, r := range b.runs {
+		r.off += nv
+		a.runs = append(a.runs, r)
+	}
+	a.vals = append(a.vals, b.vals...)
+}
+
+// run computes the CCF of every segment and their sum, and with cov the
+// covariance propagate needs, in one walk over the pixels. The pixels are
+// cut in two at the first pixel of the middle line; the halves are walked
+// on two goroutines (one after the other when the plan is serial) into
+// separate sums added in a fixed order, so the result does not depend on
+// Serial.
+func (p *ccfPlan) run(cov bool) *CCF {
+	nv := len(p.dk)
+	c := &CCF{Value: make([]float64, nv), Var: make([]float64, nv), Segments: make([]SegmentCCF, p.nseg), Lines: len(p.places), plan: p}
+	wsum := make([]float64, p.nseg)
+	for _, pl := range p.places {
 		sg := &c.Segments[pl.seg]
 		sg.Order = int(pl.order)
 		sg.Lines++
 		sg.Wavelength += pl.weight * pl.lambda
 		wsum[pl.seg] += pl.weight
-		w, w2 := pl.weight, pl.weight*pl.weight
-		x0 := int(pl.start)
-		val, vr := sg.Value, sg.Var
-		for k, d := range p.dk {
-			a := pl.lambda * d * lo
-			b := pl.lambda * d * hi
-			for e[x0+1] <= a {
-				x0++
+	}
+	mid := p.places[len(p.places)/2]
+	cut := p.orders[mid.order].offset + int(mid.start)
+	var a, b *ccfAcc
+	for {
+		a, b = newAcc(nv, p.nseg, p.w, cov), newAcc(nv, p.nseg, p.w, cov)
+		var okA, okB bool
+		if p.serial {
+			okB = p.walkRange(b, cut, math.MaxInt)
+			okA = p.walkRange(a, 0, cut)
+		} else {
+			var wg worker.Group
+			wg.Go(func() { okB = p.walkRange(b, cut, math.MaxInt) })
+			okA = p.walkRange(a, 0, cut)
+			wg.Rethrow()
+		}
+		if okA && okB {
+			break
+		}
+		// A pixel wider than the run length allowed for: start again
+		// with longer runs.
+		p.w *= 2
+	}
+	a.add(b)
+	if cov {
+		p.cov = a
+	}
+	sv := nv + p.w
+	for s := range c.Segments {
+		sg := &c.Segments[s]
+		sg.Wavelength /= wsum[s]
+		sg.Value = a.val[s*sv : s*sv+nv : s*sv+nv]
+		sg.Var = a.vr[s*sv : s*sv+nv : s*sv+nv]
+		if cov {
+			// The per-bin variance is the band's diagonal.
+			for k := range sg.Var {
+				sg.Var[k] = a.band[(s*sv+k)*p.w]
 			}
-			var sum, v2 float64
-			for x := x0; e[x] < b; x++ {
-				l, r := e[x], e[x+1]
-				if a > l {
-					l = a
-				}
-				if b < r {
-					r = b
-				}
-				ov := (r - l) * iw[x]
-				sum += f[x] * ov
-				v2 += s2[x] * ov * ov
-			}
-			val[k] += w * sum
-			vr[k] += w2 * v2
+		}
+		for k := 0; k < nv; k++ {
+			c.Value[k] += sg.Value[k]
+			c.Var[k] += sg.Var[k]
 		}
 	}
+	return c
 }
+
+// walkRange walks the pixels of global numbers [lo, hi) of every order.
+func (p *ccfPlan) walkRange(a *ccfAcc, lo, hi int) bool {
+	for i := 0; i < len(p.places); {
+		j := i
+		for j < len(p.places) && p.places[j].order == p.places[i].order {
+			j++
+		}
+		o := &p.orders[p.places[i].order]
+		xlo, xhi := max(0, lo-o.offset), min(o.n(), hi-o.offset)
+		if xlo < xhi && !p.walk(a, o, p.places[i:j], xlo, xhi) {
+			return false
+		}
+		i = j
+	}
+	return true
+}
+
+// walk accumulates into a the contributions of pixels [xlo, xhi) of order
+// o, reached by the given placements (all in o, sorted by wavelength). It
+// returns false, having stopped, when a hole reaches more than a.w grid
+// steps of one pixel.
+//
+// Pixel by pixel, each line whose window holds the pixel gives the run of
+// a.w grid steps from the first whose hole reaches the pixel, ka; steps
+// of the run whose hole misses the pixel give an overlap of exactly 0.
+// The fixed length keeps the loops free of unpredictable branches.
+func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int) bool {
+	lo, hi := 1-p.h, 1+p.h
+	dk := p.dk
+	nk := len(dk)
+	W := a.w
+	// Lines [i0, i1) have the current pixel in their window.
+	i0 := 0
+	for i0 < len(places) && int(places[i0].end) <= xlo {
+		i0++
+	}
+	i1 := i0
+	// Each line in the window has its hole edges A_k = λ D_k (1 − h) and
+	// B_k = λ D_k (1 + h) in a slot of ring (W steps of +Inf after the
+	// grid), and the line's B_k interpolated linearly in k for a first
+	// guess of ka.
+	nring := 4
+	stride := 2 * (nk + W)
+	ring := make([]float64, nring*stride)
+	type lineGuess struct{ b0, inv float64 }
+	guess := make([]lineGuess, nring)
+	fill := func(i int) {
+		lam := places[i].lambda
+		r := ring[(i%nring)*stride : (i%nring+1)*stride]
+		A, B := r[:nk+W], r[nk+W:]
+		for k, d := range dk {
+			A[k] = lam * d * lo
+			B[k] = lam * d * hi
+		}
+		for k := nk; k < nk+W; k++ {
+			A[k], B[k] = math.Inf(1), math.Inf(1)
+		}
+		guess[i%nring] = lineGuess{b0: B[0], inv: float64(nk-1) / (B[nk-1] - B[0])}
+	}
+	t := make([]float64, W)
+	type pixRun struct{ line, k0, off int }
+	var prs []pixRun
+	tb := make([]float64, 0, 4*W)
+	sv := nk + W // stride of val and vr, rows of band, per segment
+	ex := -2     // the pixel whose upper edge is e1
+	var e1 float64
+	for x := xlo; x < xhi; x++ {
+		for i1 < len(places) && int(places[i1].start) <= x {
+			if i1-i0 >= nring {
+				// More lines share a pixel than the ring holds: double
+				// it and refill the slots of the lines in the window.
+				nring *= 2
+				ring = make([]float64, nring*stride)
+				guess = make([]lineGuess, nring)
+				for i := i0; i < i1; i++ {
+					fill(i)
+				}
+			}
+			fill(i1)
+			i1++
+		}
+		for i0 < i1 && int(places[i0].end) <= x {
+			i0++
+		}
+		if i0 == i1 {
+			if i1 == len(places) {
+				break
+			}
+			// No line here: jump to the next line's first pixel.
+			x = int(places[i1].start) - 1
+			continue
+		}
+		e0 := e1
+		if ex != x {
+			e0 = o.edge(x)
+		}
+		e1, ex = o.edge(x+1), x+1
+		iw := 1 / (e1 - e0)
+		f := o.flux[x]
+		s2 := o.sig2(x)
+		prs = prs[:0]
+		tb = tb[:0]
+		for i := i0; i < i1; i++ {
+			pl := &places[i]
+			slot := i % nring
+			r := ring[slot*stride : (slot+1)*stride]
+			A, B := r[:nk+W], r[nk+W:]
+			// ka: the first step whose hole ends above e0.
+			k := 0
+			if kf := (e0 - guess[slot].b0) * guess[slot].inv; kf >= 0 {
+				k = min(int(kf)+1, nk)
+			}
+			for k < nk && B[k] <= e0 {
+				k++
+			}
+			for k > 0 && B[k-1] > e0 {
+				k--
+			}
+			if k == nk {
+				continue
+			}
+			if A[k+W] < e1 {
+				return false
+			}
+			w := pl.weight
+			s := int(pl.seg)
+			Ak, Bk := A[k:k+W], B[k:k+W]
+			for j := range t {
+				l, r := max(Ak[j], e0), min(Bk[j], e1)
+				t[j] = w * (max(r-l, 0) * iw)
+			}
+			val := a.val[s*sv+k : s*sv+k+W]
+			for j, tj := range t {
+				val[j] += f * tj
+			}
+			if !a.cov {
+				vr := a.vr[s*sv+k : s*sv+k+W]
+				for j, tj := range t {
+					vr[j] += s2 * tj * tj
+				}
+				continue
+			}
+			band := a.band[(s*sv+k)*W : (s*sv+k+W)*W]
+			for m, tm := range t {
+				u := s2 * tm
+				row := band[m*W : m*W+W-m]
+				tt := t[m:]
+				tt = tt[:len(row)]
+				for j := range row {
+					row[j] += u * tt[j]
+				}
+			}
+			prs = append(prs, pixRun{line: i, k0: k, off: len(tb)})
+			tb = append(tb, t...)
+		}
+		if len(prs) > 1 {
+			a.shared = append(a.shared, sharedPixel{sig2: s2, first: int32(len(a.runs)), nrun: int32(len(prs))})
+			for _, r := range prs {
+				n := min(W, nk-r.k0)
+				a.runs = append(a.runs, sharedRun{seg: places[r.line].seg, k0: int32(r.k0), n: int32(n), off: int32(len(a.vals))})
+				a.vals = append(a.vals, tb[r.off:r.off+n]...)
+			}
+		}
+	}
+	return true
+}
+
+// propQ is the number of CCF quantities whose errors propagate computes.
+const propQ = 6
 
 // propagate returns the photon-noise variances of linear functionals of the
 // CCF: quantity q has gradient g[q][k] = ∂Q/∂CCF(v_k) with respect to the
 // summed CCF, and segment s has gradient sg[s][k] with respect to its own
 // CCF. Because the CCF is linear in the pixel fluxes,
 //
-//	Var Q = Σ_x σ_x² (Σ_k g_k ∂CCF_k/∂F_x)²
+//	Var Q = Σ_x σ_x² (Σ_k g_k ∂CCF_k/∂F_x)² = gᵀ Cov g
 //
-// exactly, including the correlation between neighbouring CCF bins. It
-// needs exactly propQ quantities. The lines are cut into two halves at a
-// segment boundary, walked on two goroutines (one after the other when
-// the plan is serial, with the same result to the bit), and the pixels
-// both halves touch are summed before they are squared.
+// exactly, including the correlation between neighbouring CCF bins and
+// between lines that share pixels. The covariance is built by run(true);
+// a plan run without it is walked again once.
 func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
-	if len(g) != propQ {
-		panic("indicators: propagate needs propQ gradients")
+	if p.cov == nil {
+		p.run(true)
+	}
+	a := p.cov
+	nk, st := a.nk, a.w
+	rows := (nk + st) * st // one segment's band
+	// The summed CCF's band is the sum of the segments'.
+	tot := make([]float64, nk*st)
+	for s := 0; s < a.nseg; s++ {
+		for i, v := range a.band[s*rows : s*rows+nk*st] {
+			tot[i] += v
+		}
+	}
+	vq = make([]float64, len(g))
+	for q, gq := range g {
+		vq[q] = bandQuad(tot, st, gq)
 	}
 	vs = make([]float64, len(sg))
-	// Fill the lazily computed fields before the goroutines read them.
-	p.maxSpan()
-	p.sig2()
-	slots := [][]float64{g[0], g[1], g[2], g[3], g[4], g[5], nil}
-	const seg = 6
-	n := len(p.places)
-	split := n / 2
-	for split > 0 && split < n && p.places[split].seg == p.places[split-1].seg {
-		split++
+	for s, gs := range sg {
+		vs[s] = bandQuad(a.band[s*rows:s*rows+nk*st], st, gs)
 	}
-	if split <= 0 || split >= n {
-		a, _ := p.propagateSlots(slots, seg, sg, vs, p.places, 0, 0)
-		return a[:propQ], vs
-	}
-	// The zone of pixels both halves may touch: from the first pixel of
-	// the second half to the last the first half can reach.
-	first := p.places[split]
-	zlo := p.orders[first.order].offset + int(first.start)
-	zhi := zlo
-	dhi := p.dk[len(p.dk)-1] * (1 + p.h)
-	for _, pl := range p.places[:split] {
-		o := &p.orders[pl.order]
-		zhi = max(zhi, o.offset+searchEdges(o.edges, pl.lambda*dhi)+2)
-	}
-	var accB, zoneB []float64
-	var wg worker.Group
-	second := func() { accB, zoneB = p.propagateSlots(slots, seg, sg, vs, p.places[split:], zlo, zhi) }
-	if p.serial {
-		second()
-	} else {
-		wg.Go(second)
-	}
-	accA, zoneA := p.propagateSlots(slots, seg, sg, vs, p.places[:split], zlo, zhi)
-	wg.Rethrow()
-	const ns = 8
-	sig2 := p.sig2()
-	vq = make([]float64, propQ)
-	for q := range vq {
-		vq[q] = accA[q] + accB[q]
-	}
-	for x := zlo; x < zhi; x++ {
-		i := (x - zlo) * ns
-		for q := range vq {
-			v := zoneA[i+q] + zoneB[i+q]
-			vq[q] += sig2[x] * v * v
+	// Pixels reached by several lines: the products of different lines'
+	// terms, 2 Σ_{l<l'} h_l h_l' with h_l = Σ_k g_k J_lkx (within one
+	// segment for the segments' own CCFs).
+	for _, sp := range a.shared {
+		runs := a.runs[sp.first : sp.first+sp.nrun]
+		for q, gq := range g {
+			var sum, cross float64
+			for _, r := range runs {
+				h := dotRun(gq, a.vals, r)
+				cross += h * sum
+				sum += h
+			}
+			vq[q] += 2 * sp.sig2 * cross
+		}
+		for i := 0; i < len(runs); {
+			s := runs[i].seg
+			gs := sg[s]
+			var sum, cross float64
+			for ; i < len(runs) && runs[i].seg == s; i++ {
+				h := dotRun(gs, a.vals, runs[i])
+				cross += h * sum
+				sum += h
+			}
+			vs[s] += 2 * sp.sig2 * cross
 		}
 	}
 	return vq, vs
 }
 
-// propagateSlots propagates the gradients g (nil: an unused slot) through
-// the CCF of the given placements in one walk over the (line, velocity,
-// pixel) overlaps, in groups of four slots per pixel. When sg is not nil,
-// slot seg holds instead the gradient of the current segment's own CCF
-// (sg[s]), whose variances are added to vs. It returns the variance of each
-// slot (0 for seg and unused slots) over the pixels outside [zlo, zhi), and
-// the unsquared values of the pixels inside (slot seg excepted, which is
-// squared as usual), zhi − zlo rows of slots.
-//
-// Lines are visited in increasing pixel order, so a pixel below the first
-// pixel a line can touch is final: it is squared, summed and cleared as the
-// walk moves on.
-func (p *ccfPlan) propagateSlots(g [][]float64, seg int, sg [][]float64, vs []float64, places []placement, zlo, zhi int) ([]float64, []float64) {
-	ns := (max(len(g), seg+1) + 3) &^ 3
-	ngr := ns / 4
-	if ngr > 2 {
-		panic("indicators: propagateSlots takes at most eight slots")
+func dotRun(g, vals []float64, r sharedRun) float64 {
+	var h float64
+	gk := g[r.k0 : r.k0+r.n]
+	for j, v := range vals[r.off : r.off+r.n] {
+		h += gk[j] * v
 	}
-	zone := make([]float64, (zhi-zlo)*ns)
-	// Only the pixels between the current line's first pixel and the last
-	// pixel touched so far are live: a ring buffer of them (a power of two
-	// above the widest line's span) keeps the scratch in the fastest cache.
-	span := p.maxSpan()
-	ring := 1
-	for ring < 2*span+2 {
-		ring <<= 1
-	}
-	mask := ring - 1
-	h := make([]float64, ring*ns)
-	sig2 := p.sig2()
-	acc := make([]float64, ns)
-	lo, hi := 1-p.h, 1+p.h
-	nk := len(p.dk)
-	gk := make([]float64, nk*ns)
-	if sg == nil {
-		seg = -1
-	}
-	low := 0     // pixels below low are flushed
-	touched := 0 // pixels at and above touched are untouched (zero)
-	curSeg := -1
-	// acc8 sums the slots' squares; the segment slot's sum is moved out
-	// at each segment change (flushSeg) and at the end.
-	var acc8 [8]float64
-	flushTo := func(x1 int) {
-		for x := max(low, 0); x < min(x1, touched); x++ {
-			i := (x & mask) * ns
-			s2 := sig2[x]
-			if x >= zlo && x < zhi {
-				if seg >= 0 {
-					acc8[seg] += s2 * h[i+seg] * h[i+seg]
-					h[i+seg] = 0
-				}
-				copy(zone[(x-zlo)*ns:(x-zlo+1)*ns], h[i:i+ns])
-				clear(h[i : i+ns])
-				continue
-			}
-			h0 := (*[4]float64)(h[i : i+4])
-			a0 := (*[4]float64)(acc8[0:4])
-			a0[0] += s2 * h0[0] * h0[0]
-			a0[1] += s2 * h0[1] * h0[1]
-			a0[2] += s2 * h0[2] * h0[2]
-			a0[3] += s2 * h0[3] * h0[3]
-			*h0 = [4]float64{}
-			if ngr > 1 {
-				h1 := (*[4]float64)(h[i+4 : i+8])
-				a1 := (*[4]float64)(acc8[4:8])
-				a1[0] += s2 * h1[0] * h1[0]
-				a1[1] += s2 * h1[1] * h1[1]
-				a1[2] += s2 * h1[2] * h1[2]
-				a1[3] += s2 * h1[3] * h1[3]
-				*h1 = [4]float64{}
-			}
-		}
-		if x1 > low {
-			low = x1
-		}
-	}
-	// flushSeg squares and clears the segment slot over [low, touched)
-	// and moves the segment's finished sum to vs.
-	flushSeg := func() {
-		for x := low; x < touched; x++ {
-			i := (x&mask)*ns + seg
-			v := h[i]
-			acc8[seg] += sig2[x] * v * v
-			h[i] = 0
-		}
-		vs[curSeg] += acc8[seg]
-		acc8[seg] = 0
-	}
-	for _, pl := range places {
-		o := &p.orders[pl.order]
-		e, iw := o.edges, o.invw
-		off := o.offset
-		if int(pl.seg) != curSeg {
-			if seg >= 0 && curSeg >= 0 {
-				flushSeg()
-			}
-			curSeg = int(pl.seg)
-			for k := 0; k < nk; k++ {
-				for q, gq := range g {
-					if gq != nil {
-						gk[k*ns+q] = gq[k]
-					}
-				}
-				if seg >= 0 {
-					gk[k*ns+seg] = sg[curSeg][k]
-				}
-			}
-		}
-		if low == 0 && touched == 0 {
-			low = off + int(pl.start)
-		}
-		flushTo(off + int(pl.start))
-		w := pl.weight
-		x0 := int(pl.start)
-		for k, d := range p.dk {
-			a := pl.lambda * d * lo
-			b := pl.lambda * d * hi
-			for e[x0+1] <= a {
-				x0++
-			}
-			g0 := (*[4]float64)(gk[k*ns : k*ns+4])
-			x := x0
-			for ; e[x] < b; x++ {
-				l, r := e[x], e[x+1]
-				if a > l {
-					l = a
-				}
-				if b < r {
-					r = b
-				}
-				t := w * (r - l) * iw[x]
-				i := ((off + x) & mask) * ns
-				h0 := (*[4]float64)(h[i : i+4])
-				h0[0] += t * g0[0]
-				h0[1] += t * g0[1]
-				h0[2] += t * g0[2]
-				h0[3] += t * g0[3]
-				if ngr > 1 {
-					g1 := (*[4]float64)(gk[k*ns+4 : k*ns+8])
-					h1 := (*[4]float64)(h[i+4 : i+8])
-					h1[0] += t * g1[0]
-					h1[1] += t * g1[1]
-					h1[2] += t * g1[2]
-					h1[3] += t * g1[3]
-				}
-			}
-			if off+x > touched {
-				touched = off + x
-			}
-		}
-	}
-	if seg >= 0 && curSeg >= 0 {
-		flushSeg()
-	}
-	flushTo(p.npix)
-	if seg >= 0 {
-		acc8[seg] = 0
-	}
-	copy(acc, acc8[:ns])
-	return acc, zone
+	return h
 }
 
-// maxSpan returns the largest number of pixels one placed line touches
-// over the velocity grid (computed once).
-func (p *ccfPlan) maxSpan() int {
-	if p.span > 0 {
-		return p.span
+// bandQuad returns gᵀ C g for the symmetric C whose upper band is
+// band[k*stride + j] = C[k][k+j].
+func bandQuad(band []float64, stride int, g []float64) float64 {
+	nk := len(g)
+	var q float64
+	for k, gk := range g {
+		row := band[k*stride : k*stride+min(stride, nk-k)]
+		s := 0.5 * row[0] * gk
+		for j := 1; j < len(row); j++ {
+			s += row[j] * g[k+j]
+		}
+		q += gk * s
 	}
-	dhi := p.dk[len(p.dk)-1] * (1 + p.h)
-	for _, pl := range p.places {
-		e := p.orders[pl.order].edges
-		end := searchEdges(e, pl.lambda*dhi) + 1
-		p.span = max(p.span, end-int(pl.start)+1)
-	}
-	return p.span
-}
-
-// propQ is the number of CCF quantities whose errors propagate computes.
-const propQ = 6
-
-// sig2 returns the pixel variances in the global pixel numbering.
-func (p *ccfPlan) sig2() []float64 {
-	if p.allSig2 != nil {
-		return p.allSig2
-	}
-	var all []float64
-	for _, o := range p.orders {
-		all = append(all, o.sig2...)
-	}
-	p.allSig2 = all
-	return all
+	return 2 * q
 }
 
 // coarseSearch finds the velocity of the CCF minimum on a coarse grid and
@@ -737,7 +812,7 @@ func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64
 			return 0, 0, err
 		}
 	}
-	c := p.run()
+	c := p.run(false)
 	res, ferr := fitGaussian(v, c.Value, nil)
 	if ferr != nil {
 		imin := 0

@@ -67,9 +67,9 @@ func integrateBand(s *Spectrum, orders []ccfOrder, b Band, rv float64) (bandSum,
 	half *= c / b.Center
 	lo, hi := c-half, c+half
 	best := -1
-	for i, o := range orders {
-		e := o.edges
-		if lo >= e[0] && hi <= e[len(e)-1] {
+	for i := range orders {
+		o := &orders[i]
+		if lo >= o.edge(0) && hi <= o.edge(o.n()) {
 			// Prefer the order where the band sits most centrally.
 			if best < 0 || centrality(orders[i], c) > centrality(orders[best], c) {
 				best = i
@@ -79,13 +79,12 @@ func integrateBand(s *Spectrum, orders []ccfOrder, b Band, rv float64) (bandSum,
 	if best < 0 {
 		return bandSum{}, fmt.Errorf("%w: %s band %.3f–%.3f Å (rest %.3f Å, %s) not covered", ErrOutsideSpectrum, b.Name, lo, hi, b.Center, "air")
 	}
-	o := orders[best]
-	e := o.edges
+	o := &orders[best]
 	// First pixel whose upper edge exceeds lo.
-	x := searchEdges(e, lo)
+	x := o.search(lo)
 	var r bandSum
-	for ; x < len(o.flux) && e[x] < hi; x++ {
-		a, bb := math.Max(e[x], lo), math.Min(e[x+1], hi)
+	for ; x < len(o.flux) && o.edge(x) < hi; x++ {
+		a, bb := math.Max(o.edge(x), lo), math.Min(o.edge(x+1), hi)
 		if bb <= a {
 			continue
 		}
@@ -96,28 +95,13 @@ func integrateBand(s *Spectrum, orders []ccfOrder, b Band, rv float64) (bandSum,
 			wgt = bb - a
 		}
 		r.sum += o.flux[x] * wgt
-		r.v += o.sig2[x] * wgt * wgt
+		r.v += o.sig2(x) * wgt * wgt
 	}
 	return r, nil
 }
 
 func centrality(o ccfOrder, c float64) float64 {
-	e := o.edges
-	return math.Min(c-e[0], e[len(e)-1]-c)
-}
-
-// searchEdges returns the pixel x with e[x] ≤ λ < e[x+1] (clamped).
-func searchEdges(e []float64, lambda float64) int {
-	lo, hi := 0, len(e)-1
-	for hi-lo > 1 {
-		m := (lo + hi) / 2
-		if e[m] <= lambda {
-			lo = m
-		} else {
-			hi = m
-		}
-	}
-	return lo
+	return math.Min(c-o.edge(0), o.edge(o.n())-c)
 }
 
 // triPrimitive is ∫_{−a}^{u} max(0, 1 − |t|/a) dt.

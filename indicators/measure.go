@@ -146,7 +146,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	}
 	r := &Result{Name: s.Name, BJD: s.BJD, BERV: s.BERV}
 	bary := s.BarycentricVelocity
-	ccf, err := computeCCF(s, m, opts.CCF)
+	ccf, err := computeCCF(s, m, opts.CCF, true)
 	restV := 0.0
 	if opts.CCF != nil {
 		restV = opts.CCF.Center
@@ -168,7 +168,6 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 		}
 		r.SIndex, r.LogRHK, r.HAlpha, r.NaD = e, e, e, e
 		if ccf != nil {
-			releaseSlab(ccf.plan.slab)
 			ccf.plan = nil
 		}
 		return r, err
@@ -177,14 +176,7 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	if opts.CCF != nil && opts.CCF.ReadNoise > 0 {
 		rn = opts.CCF.ReadNoise
 	}
-	var orders []ccfOrder
-	if ccf != nil {
-		orders = ccf.plan.orders
-	} else {
-		var slab *[]float64
-		orders, slab = prepareOrdersPooled(s, rn)
-		defer releaseSlab(slab)
-	}
+	orders := prepareOrders(s, rn)
 	est := func(v, sg float64, e error) Estimate {
 		if e != nil {
 			return failed(fmt.Errorf("%s: %w", s.Name, e))
@@ -204,9 +196,8 @@ func Measure(s *Spectrum, m *Mask, opts *Options) (*Result, error) {
 	r.NaD = est(naD(s, orders, restV))
 	r.Warnings = append(r.Warnings, checkBands(s, orders, restV)...)
 	if ccf != nil {
-		// The plan holds pixel-sized arrays; recycle them rather than keep
-		// them alive with the result.
-		releaseSlab(ccf.plan.slab)
+		// The plan holds the covariance; do not keep it alive with the
+		// result.
 		ccf.plan = nil
 	}
 	return r, err
@@ -479,18 +470,17 @@ func checkBands(s *Spectrum, orders []ccfOrder, rv float64) []string {
 		lo, hi := c-reach, c+reach
 		best := -1
 		for i, o := range orders {
-			e := o.edges
-			if lo >= e[0] && hi <= e[len(e)-1] && (best < 0 || centrality(o, c) > centrality(orders[best], c)) {
+			if lo >= o.edge(0) && hi <= o.edge(o.n()) && (best < 0 || centrality(o, c) > centrality(orders[best], c)) {
 				best = i
 			}
 		}
 		if best < 0 {
 			continue
 		}
-		o := orders[best]
-		e, f := o.edges, o.flux
-		x0 := searchEdges(e, lo)
-		x1 := searchEdges(e, hi)
+		o := &orders[best]
+		f := o.flux
+		x0 := o.search(lo)
+		x1 := o.search(hi)
 		if x1-x0 < 8 {
 			continue
 		}
@@ -503,13 +493,13 @@ func checkBands(s *Spectrum, orders []ccfOrder, rv float64) []string {
 		x := max(x0, 1)
 		for i := range grid {
 			w := lo + float64(i)*g
-			for x+1 < len(f)-1 && 0.5*(e[x+1]+e[x+2]) < w {
+			for x+1 < len(f)-1 && 0.5*(o.edge(x+1)+o.edge(x+2)) < w {
 				x++
 			}
-			for x > 0 && 0.5*(e[x]+e[x+1]) > w {
+			for x > 0 && 0.5*(o.edge(x)+o.edge(x+1)) > w {
 				x--
 			}
-			m0, m1 := 0.5*(e[x]+e[x+1]), 0.5*(e[x+1]+e[x+2])
+			m0, m1 := 0.5*(o.edge(x)+o.edge(x+1)), 0.5*(o.edge(x+1)+o.edge(x+2))
 			t := (w - m0) / (m1 - m0)
 			grid[i] = f[x] + t*(f[x+1]-f[x])
 		}

@@ -34,8 +34,8 @@ func TestPropagateExact(t *testing.T) {
 		}
 	}
 	vq, vs := p.propagate(g, sg)
-	// The serial one-pass version gives the same bits.
-	p.serial = true
+	// The serial walk gives the same bits.
+	p.serial, p.cov = true, nil
 	vq1, vs1 := p.propagate(g, sg)
 	p.serial = false
 	for q := range vq {
@@ -54,22 +54,22 @@ func TestPropagateExact(t *testing.T) {
 	for x := range o.flux {
 		orig := o.flux[x]
 		o.flux[x] = orig + 1
-		c1 := p.run()
+		c1 := p.run(false)
 		o.flux[x] = orig
-		c0 := p.run()
+		c0 := p.run(false)
 		for q := range g {
 			var d float64
 			for k := 0; k < nk; k++ {
 				d += g[q][k] * (c1.Value[k] - c0.Value[k])
 			}
-			want[q] += o.sig2[x] * d * d
+			want[q] += o.sig2(x) * d * d
 		}
 		for si := range sg {
 			var d float64
 			for k := 0; k < nk; k++ {
 				d += sg[si][k] * (c1.Segments[si].Value[k] - c0.Segments[si].Value[k])
 			}
-			wantS[si] += o.sig2[x] * d * d
+			wantS[si] += o.sig2(x) * d * d
 		}
 	}
 	for q := range want {
