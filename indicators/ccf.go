@@ -196,9 +196,12 @@ type ccfPlan struct {
 	dk     []float64   // Doppler factors of the grid
 	h      float64     // half hole width over c
 	nseg   int
+	// nshared is the number of (pixel, pair of neighbouring lines) whose
+	// windows hold the pixel.
+	nshared int
 	// w is the number of grid steps walk gives each (line, pixel) pair:
-	// at least the most steps whose holes reach one pixel (run doubles it
-	// when it is not).
+	// at least the most steps whose holes reach one pixel (run starts
+	// again with more when it is not).
 	w int
 	// serial reports whether run stays on the calling goroutine.
 	serial bool
@@ -374,11 +377,17 @@ func newPlan(orders []ccfOrder, m *Mask, v []float64, hole float64, chunks int, 
 		p.places[i].seg = seg
 	}
 	p.nseg = int(seg) + 1
+	// Pixels in the windows of two lines, to size the shared-pixel lists.
+	for i := 1; i < len(p.places); i++ {
+		if a, b := &p.places[i-1], &p.places[i]; a.order == b.order && a.end > b.start {
+			p.nshared += int(a.end - b.start)
+		}
+	}
 	// Runs: the grid steps whose hole centres lie within half a pixel
 	// plus half a hole of a pixel's centre, in velocity, from a sample of
 	// pixel widths (a wider pixel makes run start again with longer runs).
 	step := v[1] - v[0]
-	p.w = int((1.05*maxPixelWidth(orders)+hole)/step) + 2
+	p.w = int((1.05*maxPixelWidth(orders)+hole)/step) + 1
 	return p, nil
 }
 
@@ -476,22 +485,29 @@ func (p *ccfPlan) run(cov bool) *CCF {
 	var a, b *ccfAcc
 	for {
 		a, b = newAcc(nv, p.nseg, p.w, cov), newAcc(nv, p.nseg, p.w, cov)
-		var okA, okB bool
+		if cov {
+			// Room for the shared pixels: all in a, which b's join.
+			n := p.nshared + p.nshared/8
+			a.shared = make([]sharedPixel, 0, n)
+			a.runs = make([]sharedRun, 0, 2*n)
+			a.vals = make([]float64, 0, 2*n*p.w)
+		}
+		var needA, needB int
 		if p.serial {
-			okB = p.walkRange(b, cut, math.MaxInt)
-			okA = p.walkRange(a, 0, cut)
+			needB = p.walkRange(b, cut, math.MaxInt)
+			needA = p.walkRange(a, 0, cut)
 		} else {
 			var wg worker.Group
-			wg.Go(func() { okB = p.walkRange(b, cut, math.MaxInt) })
-			okA = p.walkRange(a, 0, cut)
+			wg.Go(func() { needB = p.walkRange(b, cut, math.MaxInt) })
+			needA = p.walkRange(a, 0, cut)
 			wg.Rethrow()
 		}
-		if okA && okB {
+		if needA == 0 && needB == 0 {
 			break
 		}
 		// A pixel wider than the run length allowed for: start again
 		// with longer runs.
-		p.w *= 2
+		p.w = max(p.w+1, needA, needB)
 	}
 	a.add(b)
 	if cov {
@@ -518,7 +534,7 @@ func (p *ccfPlan) run(cov bool) *CCF {
 }
 
 // walkRange walks the pixels of global numbers [lo, hi) of every order.
-func (p *ccfPlan) walkRange(a *ccfAcc, lo, hi int) bool {
+func (p *ccfPlan) walkRange(a *ccfAcc, lo, hi int) int {
 	for i := 0; i < len(p.places); {
 		j := i
 		for j < len(p.places) && p.places[j].order == p.places[i].order {
@@ -526,47 +542,54 @@ func (p *ccfPlan) walkRange(a *ccfAcc, lo, hi int) bool {
 		}
 		o := &p.orders[p.places[i].order]
 		xlo, xhi := max(0, lo-o.offset), min(o.n(), hi-o.offset)
-		if xlo < xhi && !p.walk(a, o, p.places[i:j], xlo, xhi) {
-			return false
+		if xlo < xhi {
+			if need := p.walk(a, o, p.places[i:j], xlo, xhi); need > 0 {
+				return need
+			}
 		}
 		i = j
 	}
-	return true
+	return 0
 }
 
 // walk accumulates into a the contributions of pixels [xlo, xhi) of order
 // o, reached by the given placements (all in o, sorted by wavelength). It
-// returns false, having stopped, when a hole reaches more than a.w grid
-// steps of one pixel.
+// returns 0, or, having stopped, the number of grid steps whose holes
+// reach one pixel when that is more than a.w.
 //
 // Pixel by pixel, each line whose window holds the pixel gives the run of
 // a.w grid steps from the first whose hole reaches the pixel, ka; steps
 // of the run whose hole misses the pixel give an overlap of exactly 0.
 // The fixed length keeps the loops free of unpredictable branches.
-func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int) bool {
+func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int) int {
 	lo, hi := 1-p.h, 1+p.h
 	dk := p.dk
 	nk := len(dk)
 	W := a.w
+	n := o.n()
+	wl, flux, errs := o.wl, o.flux, o.err
 	// Lines [i0, i1) have the current pixel in their window.
 	i0 := 0
 	for i0 < len(places) && int(places[i0].end) <= xlo {
 		i0++
 	}
 	i1 := i0
-	// Each line in the window has its hole edges A_k = λ D_k (1 − h) and
-	// B_k = λ D_k (1 + h) in a slot of ring (W steps of +Inf after the
-	// grid), and the line's B_k interpolated linearly in k for a first
+	// Each line in the window has a slot of ring (a power of two): its hole
+	// edges A_k = λ D_k (1 − h) and B_k = λ D_k (1 + h), with W steps of
+	// +Inf after the grid, and B_k interpolated linearly in k for a first
 	// guess of ka.
-	nring := 4
-	stride := 2 * (nk + W)
-	ring := make([]float64, nring*stride)
-	type lineGuess struct{ b0, inv float64 }
-	guess := make([]lineGuess, nring)
+	type lineState struct {
+		A, B    []float64
+		b0, inv float64
+	}
+	ring := make([]lineState, 4)
 	fill := func(i int) {
+		ls := &ring[i&(len(ring)-1)]
+		if ls.A == nil {
+			ls.A, ls.B = make([]float64, nk+W), make([]float64, nk+W)
+		}
 		lam := places[i].lambda
-		r := ring[(i%nring)*stride : (i%nring+1)*stride]
-		A, B := r[:nk+W], r[nk+W:]
+		A, B := ls.A, ls.B
 		for k, d := range dk {
 			A[k] = lam * d * lo
 			B[k] = lam * d * hi
@@ -574,23 +597,21 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 		for k := nk; k < nk+W; k++ {
 			A[k], B[k] = math.Inf(1), math.Inf(1)
 		}
-		guess[i%nring] = lineGuess{b0: B[0], inv: float64(nk-1) / (B[nk-1] - B[0])}
+		ls.b0, ls.inv = B[0], float64(nk-1)/(B[nk-1]-B[0])
 	}
 	t := make([]float64, W)
 	type pixRun struct{ line, k0, off int }
 	var prs []pixRun
 	tb := make([]float64, 0, 4*W)
 	sv := nk + W // stride of val and vr, rows of band, per segment
-	ex := -2     // the pixel whose upper edge is e1
+	ex := -2     // the pixel whose lower edge is e1
 	var e1 float64
 	for x := xlo; x < xhi; x++ {
 		for i1 < len(places) && int(places[i1].start) <= x {
-			if i1-i0 >= nring {
+			if i1-i0 >= len(ring) {
 				// More lines share a pixel than the ring holds: double
 				// it and refill the slots of the lines in the window.
-				nring *= 2
-				ring = make([]float64, nring*stride)
-				guess = make([]lineGuess, nring)
+				ring = make([]lineState, 2*len(ring))
 				for i := i0; i < i1; i++ {
 					fill(i)
 				}
@@ -613,20 +634,28 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 		if ex != x {
 			e0 = o.edge(x)
 		}
-		e1, ex = o.edge(x+1), x+1
+		if x+1 < n {
+			e1 = 0.5 * (wl[x] + wl[x+1])
+		} else {
+			e1 = o.edge(x + 1)
+		}
+		ex = x + 1
 		iw := 1 / (e1 - e0)
-		f := o.flux[x]
-		s2 := o.sig2(x)
+		f := flux[x]
+		var s2 float64
+		if errs != nil {
+			s2 = errs[x] * errs[x]
+		} else {
+			s2 = max(f, 1) + o.rn2
+		}
 		prs = prs[:0]
 		tb = tb[:0]
 		for i := i0; i < i1; i++ {
-			pl := &places[i]
-			slot := i % nring
-			r := ring[slot*stride : (slot+1)*stride]
-			A, B := r[:nk+W], r[nk+W:]
+			ls := &ring[i&(len(ring)-1)]
+			A, B := ls.A, ls.B
 			// ka: the first step whose hole ends above e0.
 			k := 0
-			if kf := (e0 - guess[slot].b0) * guess[slot].inv; kf >= 0 {
+			if kf := (e0 - ls.b0) * ls.inv; kf >= 0 {
 				k = min(int(kf)+1, nk)
 			}
 			for k < nk && B[k] <= e0 {
@@ -639,38 +668,25 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 				continue
 			}
 			if A[k+W] < e1 {
-				return false
+				need := W
+				for k+need < nk && A[k+need] < e1 {
+					need++
+				}
+				return need
 			}
+			pl := &places[i]
 			w := pl.weight
 			s := int(pl.seg)
-			Ak, Bk := A[k:k+W], B[k:k+W]
-			for j := range t {
-				l, r := max(Ak[j], e0), min(Bk[j], e1)
-				t[j] = w * (max(r-l, 0) * iw)
-			}
-			val := a.val[s*sv+k : s*sv+k+W]
-			for j, tj := range t {
-				val[j] += f * tj
-			}
+			overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 			if !a.cov {
-				vr := a.vr[s*sv+k : s*sv+k+W]
-				for j, tj := range t {
-					vr[j] += s2 * tj * tj
-				}
+				addValVar(a.val[s*sv+k:s*sv+k+W], a.vr[s*sv+k:s*sv+k+W], t, f, s2)
 				continue
 			}
-			band := a.band[(s*sv+k)*W : (s*sv+k+W)*W]
-			for m, tm := range t {
-				u := s2 * tm
-				row := band[m*W : m*W+W-m]
-				tt := t[m:]
-				tt = tt[:len(row)]
-				for j := range row {
-					row[j] += u * tt[j]
-				}
+			addValBand(a.val[s*sv+k:s*sv+k+W], a.band[(s*sv+k)*W:(s*sv+k+W)*W], t, f, s2)
+			if i1-i0 > 1 {
+				prs = append(prs, pixRun{line: i, k0: k, off: len(tb)})
+				tb = append(tb, t...)
 			}
-			prs = append(prs, pixRun{line: i, k0: k, off: len(tb)})
-			tb = append(tb, t...)
 		}
 		if len(prs) > 1 {
 			a.shared = append(a.shared, sharedPixel{sig2: s2, first: int32(len(a.runs)), nrun: int32(len(prs))})
@@ -681,7 +697,48 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 			}
 		}
 	}
-	return true
+	return 0
+}
+
+// overlaps sets t[j] = w · (overlap of the hole [A[j], B[j]] with the
+// pixel [e0, e1]) · iw, 0 when they do not overlap.
+func overlaps(t, A, B []float64, e0, e1, iw, w float64) {
+	A, B = A[:len(t)], B[:len(t)]
+	for j := range t {
+		l, r := max(A[j], e0), min(B[j], e1)
+		t[j] = w * (max(r-l, 0) * iw)
+	}
+}
+
+// addValVar adds a pixel's run t to a CCF (flux f) and its per-bin
+// variance (pixel variance s2).
+func addValVar(val, vr, t []float64, f, s2 float64) {
+	val, vr = val[:len(t)], vr[:len(t)]
+	for j, tj := range t {
+		val[j] += f * tj
+		vr[j] += s2 * tj * tj
+	}
+}
+
+// addValBand adds a pixel's run t (of w = len(t) steps) to a CCF (flux f)
+// and its outer product, times the pixel variance s2, to the upper band
+// (rows of w values from the diagonal).
+func addValBand(val, band, t []float64, f, s2 float64) {
+	w := len(t)
+	val = val[:w]
+	for j, tj := range t {
+		val[j] += f * tj
+	}
+	band = band[:w*w]
+	for m := 0; m < w; m++ {
+		u := s2 * t[m]
+		row := band[m*w : m*w+w-m]
+		tt := t[m:w]
+		tt = tt[:len(row)]
+		for j := range row {
+			row[j] += u * tt[j]
+		}
+	}
 }
 
 // propQ is the number of CCF quantities whose errors propagate computes.
