@@ -830,6 +830,44 @@ func bandQuad(band []float64, stride int, g []float64) float64 {
 	return 2 * q
 }
 
+// values returns the summed CCF alone, line by line: the flux a hole
+// covers is the difference of the cumulative flux (constant flux density
+// over each pixel) at its two ends. It suits holes several pixels wide
+// (the coarse search), where walk would give each pixel many steps.
+func (p *ccfPlan) values() []float64 {
+	out := make([]float64, len(p.dk))
+	lo, hi := 1-p.h, 1+p.h
+	var cum []float64
+	for _, pl := range p.places {
+		o := &p.orders[pl.order]
+		xs, xe := int(pl.start), int(pl.end)
+		// cum[x − xs] is the flux of pixels xs … x − 1.
+		cum = append(cum[:0], 0)
+		var c float64
+		for _, f := range o.flux[xs:xe] {
+			c += f
+			cum = append(cum, c)
+		}
+		// upTo returns the flux below λ, which lies in pixel x.
+		upTo := func(lam float64, x int) float64 {
+			e0, e1 := o.edge(x), o.edge(x+1)
+			return cum[x-xs] + (lam-e0)*o.flux[x]/(e1-e0)
+		}
+		xa, xb := xs, xs
+		for k, d := range p.dk {
+			a, b := pl.lambda*d*lo, pl.lambda*d*hi
+			for xa+1 < xe && o.edge(xa+1) <= a {
+				xa++
+			}
+			for xb+1 < xe && o.edge(xb+1) <= b {
+				xb++
+			}
+			out[k] += pl.weight * (upTo(b, xb) - upTo(a, xa))
+		}
+	}
+	return out
+}
+
 // coarseSearch finds the velocity of the CCF minimum on a coarse grid and
 // the FWHM of a Gaussian fitted there.
 func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64) (vc, fwhm float64, err error) {
@@ -869,12 +907,12 @@ func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64
 			return 0, 0, err
 		}
 	}
-	c := p.run(false)
-	res, ferr := fitGaussian(v, c.Value, nil)
+	val := p.values()
+	res, ferr := fitGaussian(v, val, nil)
 	if ferr != nil {
 		imin := 0
-		for k := range c.Value {
-			if c.Value[k] < c.Value[imin] {
+		for k := range val {
+			if val[k] < val[imin] {
 				imin = k
 			}
 		}

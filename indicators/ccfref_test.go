@@ -277,6 +277,12 @@ func TestCCFAgainstReference(t *testing.T) {
 				t.Errorf("trial %d bin %d: %.15g ± %.15g, reference %.15g ± %.15g", trial, k, c.Value[k], c.Var[k], val, vr)
 			}
 		}
+		// The line-by-line sum of the coarse search.
+		for k, val := range c.plan.values() {
+			if !near(val, c.Value[k]) {
+				t.Errorf("trial %d bin %d: cumulative-flux CCF %.15g, walk %.15g", trial, k, val, c.Value[k])
+			}
+		}
 		g := make([][]float64, propQ)
 		for q := range g {
 			g[q] = make([]float64, len(c.V))
