@@ -84,7 +84,6 @@ func keplerBatch(dst, sinE, cosE, M []float64, e float64) {
 		f3a := 1 - f1a
 		d3a := -f0a * f1a / (f1a*f1a - 0.5*f0a*f2a)
 		d4a := -f0a / (f1a + d3a*(0.5*f2a+d3a*f3a*(1.0/6)))
-		d5a := -f0a / (f1a + d4a*(0.5*f2a+d4a*(f3a*(1.0/6)-d4a*f2a*(1.0/24))))
 		signb := math.Copysign(1, mb)
 		mb = math.Abs(mb)
 		alphab := (c3pi2 + c16pi*(math.Pi-mb)*inv1pe) * invpi2m6
@@ -101,7 +100,6 @@ func keplerBatch(dst, sinE, cosE, M []float64, e float64) {
 		f3b := 1 - f1b
 		d3b := -f0b * f1b / (f1b*f1b - 0.5*f0b*f2b)
 		d4b := -f0b / (f1b + d3b*(0.5*f2b+d3b*f3b*(1.0/6)))
-		d5b := -f0b / (f1b + d4b*(0.5*f2b+d4b*(f3b*(1.0/6)-d4b*f2b*(1.0/24))))
 		signc := math.Copysign(1, mc)
 		mc = math.Abs(mc)
 		alphac := (c3pi2 + c16pi*(math.Pi-mc)*inv1pe) * invpi2m6
@@ -118,7 +116,6 @@ func keplerBatch(dst, sinE, cosE, M []float64, e float64) {
 		f3c := 1 - f1c
 		d3c := -f0c * f1c / (f1c*f1c - 0.5*f0c*f2c)
 		d4c := -f0c / (f1c + d3c*(0.5*f2c+d3c*f3c*(1.0/6)))
-		d5c := -f0c / (f1c + d4c*(0.5*f2c+d4c*(f3c*(1.0/6)-d4c*f2c*(1.0/24))))
 		signd := math.Copysign(1, md)
 		md = math.Abs(md)
 		alphad := (c3pi2 + c16pi*(math.Pi-md)*inv1pe) * invpi2m6
@@ -135,16 +132,15 @@ func keplerBatch(dst, sinE, cosE, M []float64, e float64) {
 		f3d := 1 - f1d
 		d3d := -f0d * f1d / (f1d*f1d - 0.5*f0d*f2d)
 		d4d := -f0d / (f1d + d3d*(0.5*f2d+d3d*f3d*(1.0/6)))
-		d5d := -f0d / (f1d + d4d*(0.5*f2d+d4d*(f3d*(1.0/6)-d4d*f2d*(1.0/24))))
-		dst[i+0] = signa*(e1a+d5a) + 2*math.Pi*ka
-		dst[i+1] = signb*(e1b+d5b) + 2*math.Pi*kb
-		dst[i+2] = signc*(e1c+d5c) + 2*math.Pi*kc
-		dst[i+3] = signd*(e1d+d5d) + 2*math.Pi*kd
+		dst[i+0] = signa*(e1a+d4a) + 2*math.Pi*ka
+		dst[i+1] = signb*(e1b+d4b) + 2*math.Pi*kb
+		dst[i+2] = signc*(e1c+d4c) + 2*math.Pi*kc
+		dst[i+3] = signd*(e1d+d4d) + 2*math.Pi*kd
 		if trig {
-			sinE[i+0], cosE[i+0] = rotateSinCos(sa, ca, d5a, signa, e1a)
-			sinE[i+1], cosE[i+1] = rotateSinCos(sb, cb, d5b, signb, e1b)
-			sinE[i+2], cosE[i+2] = rotateSinCos(sc, cc, d5c, signc, e1c)
-			sinE[i+3], cosE[i+3] = rotateSinCos(sd, cd, d5d, signd, e1d)
+			sinE[i+0], cosE[i+0] = rotateSinCos(sa, ca, d4a, signa, e1a)
+			sinE[i+1], cosE[i+1] = rotateSinCos(sb, cb, d4b, signb, e1b)
+			sinE[i+2], cosE[i+2] = rotateSinCos(sc, cc, d4c, signc, e1c)
+			sinE[i+3], cosE[i+3] = rotateSinCos(sd, cd, d4d, signd, e1d)
 		}
 	}
 	for ; i < len(M); i++ {

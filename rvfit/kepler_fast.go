@@ -22,9 +22,8 @@ func sinCosHalfTurn(x float64) (s, c float64) {
 }
 
 // pow23 returns x^(2/3) for x > 0 via a bit-level cube-root estimate and
-// one Halley step (relative error ≲ 1e-4; the
-// Markley correction that follows is of fifth order, so the solver's
-// residual is unaffected).
+// one Halley step (relative error ≲ 1e-4; the fourth-order correction
+// that follows takes the solver to float64 accuracy).
 func pow23(x float64) float64 {
 	b := math.Float64bits(x)
 	// Divide the biased exponent by three (Kahan's trick); about 5% error.
