@@ -3,6 +3,7 @@ package indicators
 import (
 	"bufio"
 	"bytes"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -113,6 +114,9 @@ func ReadMask(r io.Reader, name string, opts *ReadOptions) (*Mask, error) {
 			continue
 		}
 		f := strings.FieldsFunc(t, func(r rune) bool { return r == ' ' || r == '\t' || r == ',' || r == ';' })
+		if len(f) == 0 {
+			continue // separators only: an empty line
+		}
 		bad := func(what string, err error) error {
 			return &FileError{File: name, HDU: -1, Line: line, Keyword: what, Order: -1, Pixel: -1, Err: err}
 		}
@@ -133,6 +137,9 @@ func ReadMask(r io.Reader, name string, opts *ReadOptions) (*Mask, error) {
 		wt = append(wt, g)
 	}
 	if err := sc.Err(); err != nil {
+		if errors.Is(err, bufio.ErrTooLong) {
+			return nil, &FileError{File: name, HDU: -1, Line: line + 1, Order: -1, Pixel: -1, Err: fmt.Errorf("%w: line longer than %d bytes (a mask has short lines of a wavelength and a weight; is this a binary file?)", ErrParse, bufio.MaxScanTokenSize)}
+		}
 		return nil, fileErr(name, -1, "", err)
 	}
 	var vac bool

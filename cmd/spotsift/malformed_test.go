@@ -122,7 +122,8 @@ func TestMalformedCorpus(t *testing.T) {
 	os.Symlink("/dev/zero", filepath.Join(zeroSpectra, "epoch-1.fits"))
 
 	tables := []malformedCase{
-		{path: "tables/binary.csv", want: []string{":1:", "binary data at byte 1", "0x16"}},
+		{path: "tables/binary.csv", want: []string{":1:", "not UTF-8"}},
+		{path: "tables/control-chars.csv", want: []string{":1:", "binary data at byte 1", "0x16"}},
 		{path: "tables/cr-only.csv", valid: true},
 		{path: "tables/utf16.csv", valid: true},
 		{path: "tables/no-rv.csv", valid: true}, // "velocity" is recognised as the RV column
@@ -261,7 +262,7 @@ func TestSurveyBadStars(t *testing.T) {
 	if code != exitFailed {
 		t.Errorf("exit %d, want 1 (a partial survey)\n%s\n%s", code, stdout, stderr)
 	}
-	for _, w := range []string{"1 analysed", "2 failed", "failed: Piped: data " + fifo, "named pipe", "failed: BadSpectra: "} {
+	for _, w := range []string{"1 analysed", "2 failed", "failed: Piped: data " + fifo, "named pipe", "failed: BadSpectra: ", "epoch-1.fits: HDU 0: NAXIS0"} {
 		if !strings.Contains(stdout, w) {
 			t.Errorf("the summary does not say %q:\n%s", w, stdout)
 		}

@@ -25,6 +25,12 @@ def put(rel, data):
         f.write(data)
 
 
+def random_bytes(seed, n):
+    """n bytes drawn from random.Random(seed): one generator for all of them."""
+    r = random.Random(seed)
+    return bytes(r.randrange(256) for _ in range(n))
+
+
 def card(key, value):
     return ("%-8s= %20s" % (key, value)).ljust(80).encode()
 
@@ -66,7 +72,8 @@ put("tables/header-only.csv", "time,rv,rv_err,fwhm\n")
 put("tables/cr-only.csv", GOOD.replace("\n", "\r"))
 put("tables/utf16.csv", "\ufeff".encode("utf-16-le") + GOOD.encode("utf-16-le"))
 put("tables/nul-byte.csv", table(ok[:2] + ["2460007.90,2.5\x00,1.1,6999"] + ok[3:]))
-put("tables/binary.csv", bytes(random.Random(19).randrange(256) for _ in range(300)))
+put("tables/binary.csv", random_bytes(19, 300))
+put("tables/control-chars.csv", b"\x16" * 300)  # control characters only, valid UTF-8
 put("tables/ragged.csv", table(ok[:2] + ["2460007.90,2.5,1.1,6999,12"] + ok[3:]))
 put("tables/text-number.csv", table(ok[:3] + ["2460011.20,abc,1.0,7002"] + ok[4:]))
 put("tables/dup-column.csv", "time,rv,rv_err,rv\n" + "".join(r + "\n" for r in ok))
@@ -96,7 +103,7 @@ put("stars/syntax.toml", 'name = "Bad-1"\nteff = = 5700\n')
 put("stars/unknown-key.toml", 'name = "Bad-2"\ntemperature = 5700\n')
 put("stars/teff-range.toml", 'name = "Bad-3"\nteff = -5\n')
 put("stars/wrong-type.toml", 'name = "Bad-4"\nmass = "heavy"\n')
-put("stars/binary.toml", bytes(random.Random(20).randrange(256) for _ in range(200)))
+put("stars/binary.toml", random_bytes(20, 200))
 
 # --- spectra (measure --spectra: one folder each) ------------------------
 spec = open(os.path.join(ROOT, "testdata/indicators/astropy_linear.fits"), "rb").read()
@@ -111,7 +118,7 @@ put("spectra/cdelt-zero/epoch-1.fits", set_card(spec, "CDELT1", "0.0"))
 put("spectra/crval-huge/epoch-1.fits", set_card(spec, "CRVAL1", "1.7E308"))
 put("spectra/truncated/epoch-1.fits", spec[:2880 + 500])
 put("spectra/garbage-text/epoch-1.txt", "wavelength flux\n5000.0 abc\n5000.1 1.0\n")
-put("spectra/binary/epoch-1.fits", bytes(random.Random(21).randrange(256) for _ in range(3000)))
+put("spectra/binary/epoch-1.fits", random_bytes(21, 3000))
 
 # --- manifests (survey --manifest) ---------------------------------------
 put("manifests/no-data-column.csv", "name,star_file\nA-1,star.toml\n")
