@@ -630,6 +630,21 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 			x = int(places[i1].start) - 1
 			continue
 		}
+		if i1-i0 == 1 {
+			// One line until the next line's window opens or this
+			// one's closes: the tight loop of walkOne.
+			xend := min(xhi, int(places[i0].end))
+			if i1 < len(places) {
+				xend = min(xend, int(places[i1].start))
+			}
+			ls := &ring[i0&(len(ring)-1)]
+			if need := a.walkOne(o, ls.A, ls.B, ls.b0, ls.inv, places[i0].weight, int(places[i0].seg), x, xend, t); need > 0 {
+				return need
+			}
+			x = xend - 1
+			ex = -2
+			continue
+		}
 		e0 := e1
 		if ex != x {
 			e0 = o.edge(x)
@@ -695,6 +710,68 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 				a.runs = append(a.runs, sharedRun{seg: places[r.line].seg, k0: int32(r.k0), n: int32(n), off: int32(len(a.vals))})
 				a.vals = append(a.vals, tb[r.off:r.off+n]...)
 			}
+		}
+	}
+	return 0
+}
+
+// walkOne is walk over pixels [x0, x1) of o reached by one line only: the
+// line's hole edges A and B, the linear guess of the run's first step
+// (b0, inv), its weight w and segment s; t is scratch of a.w values.
+func (a *ccfAcc) walkOne(o *ccfOrder, A, B []float64, b0, inv, w float64, s, x0, x1 int, t []float64) int {
+	nk, W := a.nk, a.w
+	sv := nk + W
+	n := o.n()
+	wl, flux, errs := o.wl, o.flux, o.err
+	val := a.val[s*sv : (s+1)*sv]
+	var vr, band []float64
+	if a.cov {
+		band = a.band[s*sv*W : (s+1)*sv*W]
+	} else {
+		vr = a.vr[s*sv : (s+1)*sv]
+	}
+	A, B = A[:nk+W], B[:nk+W]
+	e1 := o.edge(x0)
+	for x := x0; x < x1; x++ {
+		e0 := e1
+		if x+1 < n {
+			e1 = 0.5 * (wl[x] + wl[x+1])
+		} else {
+			e1 = o.edge(x + 1)
+		}
+		iw := 1 / (e1 - e0)
+		f := flux[x]
+		var s2 float64
+		if errs != nil {
+			s2 = errs[x] * errs[x]
+		} else {
+			s2 = max(f, 1) + o.rn2
+		}
+		k := 0
+		if kf := (e0 - b0) * inv; kf >= 0 {
+			k = min(int(kf)+1, nk)
+		}
+		for k < nk && B[k] <= e0 {
+			k++
+		}
+		for k > 0 && B[k-1] > e0 {
+			k--
+		}
+		if k == nk {
+			continue
+		}
+		if A[k+W] < e1 {
+			need := W
+			for k+need < nk && A[k+need] < e1 {
+				need++
+			}
+			return need
+		}
+		overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
+		if band != nil {
+			addValBand(val[k:k+W], band[k*W:(k+W)*W], t, f, s2)
+		} else {
+			addValVar(val[k:k+W], vr[k:k+W], t, f, s2)
 		}
 	}
 	return 0
