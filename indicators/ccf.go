@@ -414,10 +414,12 @@ type ccfAcc struct {
 	val, vr []float64
 	cov     bool
 	// band[(s*(nk+w) + k)*w + j] is the covariance of bins k and k + j of
-	// segment s from each line with itself.
+	// segment s from each line with itself; nil when w > maxBandW, where
+	// every pixel is kept in shared instead.
 	band []float64
-	// The pixels reached by more than one line: their variance and the
-	// run of each line (values w_l overlap_x,l(v_k), k = k0 …).
+	// The pixels reached by more than one line (by any line when band is
+	// nil): their variance and the run of each line (values w_l
+	// overlap_x,l(v_k), k = k0 …).
 	shared []sharedPixel
 	runs   []sharedRun
 	vals   []float64
@@ -433,11 +435,38 @@ type sharedRun struct{ seg, k0, n, off int32 }
 func newAcc(nk, nseg, w int, cov bool) *ccfAcc {
 	rows := nseg * (nk + w)
 	a := &ccfAcc{nk: nk, nseg: nseg, w: w, val: make([]float64, rows), vr: make([]float64, rows), cov: cov}
-	if cov {
+	if cov && w <= maxBandW {
 		a.band = make([]float64, rows*w)
 	}
 	return a
 }
+
+// maxBandW is the longest run kept as a band: the band costs w²/2
+// products per (line, pixel) pair, keeping the pixel's run and using it in
+// the quadratic forms about 8w, so beyond this (pixels many grid steps
+// wide) every pixel's runs are kept.
+const maxBandW = 12
+
+// keep appends a pixel of variance s2 whose runs (line index, first
+// step, offset in tb) are rs; runs stop at the grid's end and, without a
+// band, after their last non-zero value.
+func (a *ccfAcc) keep(s2 float64, rs []pixRun, tb []float64, places []placement) {
+	a.shared = append(a.shared, sharedPixel{sig2: s2, first: int32(len(a.runs)), nrun: int32(len(rs))})
+	for _, r := range rs {
+		n := min(a.w, a.nk-r.k0)
+		if a.band == nil {
+			for n > 0 && tb[r.off+n-1] == 0 {
+				n--
+			}
+		}
+		a.runs = append(a.runs, sharedRun{seg: places[r.line].seg, k0: int32(r.k0), n: int32(n), off: int32(len(a.vals))})
+		a.vals = append(a.vals, tb[r.off:r.off+n]...)
+	}
+}
+
+// pixRun is one line's run at one pixel: the line, the first step, and
+// the values' offset in a scratch slice.
+type pixRun struct{ line, k0, off int }
 
 // add adds b's sums to a's (b's shared pixels after a's).
 func (a *ccfAcc) add(b *ccfAcc) {
@@ -448,8 +477,10 @@ func (a *ccfAcc) add(b *ccfAcc) {
 	if !a.cov {
 		return
 	}
-	for i, v := range b.band {
-		a.band[i] += v
+	if a.band != nil {
+		for i, v := range b.band {
+			a.band[i] += v
+		}
 	}
 	nr, nv := int32(len(a.runs)), int32(len(a.vals))
 	for _, sp := range b.shared {
@@ -485,7 +516,7 @@ func (p *ccfPlan) run(cov bool) *CCF {
 	var a, b *ccfAcc
 	for {
 		a, b = newAcc(nv, p.nseg, p.w, cov), newAcc(nv, p.nseg, p.w, cov)
-		if cov {
+		if cov && p.w <= maxBandW {
 			// Room for the shared pixels: all in a, which b's join.
 			n := p.nshared + p.nshared/8
 			a.shared = make([]sharedPixel, 0, n)
@@ -519,7 +550,7 @@ func (p *ccfPlan) run(cov bool) *CCF {
 		sg.Wavelength /= wsum[s]
 		sg.Value = a.val[s*sv : s*sv+nv : s*sv+nv]
 		sg.Var = a.vr[s*sv : s*sv+nv : s*sv+nv]
-		if cov {
+		if a.band != nil {
 			// The per-bin variance is the band's diagonal.
 			for k := range sg.Var {
 				sg.Var[k] = a.band[(s*sv+k)*p.w]
@@ -600,7 +631,6 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 		ls.b0, ls.inv = B[0], float64(nk-1)/(B[nk-1]-B[0])
 	}
 	t := make([]float64, W)
-	type pixRun struct{ line, k0, off int }
 	var prs []pixRun
 	tb := make([]float64, 0, 4*W)
 	sv := nk + W // stride of val and vr, rows of band, per segment
@@ -638,7 +668,7 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 				xend = min(xend, int(places[i1].start))
 			}
 			ls := &ring[i0&(len(ring)-1)]
-			if need := a.walkOne(o, ls.A, ls.B, ls.b0, ls.inv, places[i0].weight, int(places[i0].seg), x, xend, t); need > 0 {
+			if need := a.walkOne(o, places, i0, ls.A, ls.B, ls.b0, ls.inv, x, xend, t); need > 0 {
 				return need
 			}
 			x = xend - 1
@@ -693,43 +723,40 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 			w := pl.weight
 			s := int(pl.seg)
 			overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
-			if !a.cov {
+			if a.band == nil {
 				addValVar(a.val[s*sv+k:s*sv+k+W], a.vr[s*sv+k:s*sv+k+W], t, f, s2)
-				continue
+			} else {
+				addValBand(a.val[s*sv+k:s*sv+k+W], a.band[(s*sv+k)*W:(s*sv+k+W)*W], t, f, s2)
 			}
-			addValBand(a.val[s*sv+k:s*sv+k+W], a.band[(s*sv+k)*W:(s*sv+k+W)*W], t, f, s2)
-			if i1-i0 > 1 {
+			if a.cov && (i1-i0 > 1 || a.band == nil) {
 				prs = append(prs, pixRun{line: i, k0: k, off: len(tb)})
 				tb = append(tb, t...)
 			}
 		}
-		if len(prs) > 1 {
-			a.shared = append(a.shared, sharedPixel{sig2: s2, first: int32(len(a.runs)), nrun: int32(len(prs))})
-			for _, r := range prs {
-				n := min(W, nk-r.k0)
-				a.runs = append(a.runs, sharedRun{seg: places[r.line].seg, k0: int32(r.k0), n: int32(n), off: int32(len(a.vals))})
-				a.vals = append(a.vals, tb[r.off:r.off+n]...)
-			}
+		if len(prs) > 1 || (len(prs) == 1 && a.band == nil) {
+			a.keep(s2, prs, tb, places)
 		}
 	}
 	return 0
 }
 
 // walkOne is walk over pixels [x0, x1) of o reached by one line only: the
-// line's hole edges A and B, the linear guess of the run's first step
-// (b0, inv), its weight w and segment s; t is scratch of a.w values.
-func (a *ccfAcc) walkOne(o *ccfOrder, A, B []float64, b0, inv, w float64, s, x0, x1 int, t []float64) int {
+// line, its hole edges A and B and the linear guess of the run's first
+// step (b0, inv); t is scratch of a.w values.
+func (a *ccfAcc) walkOne(o *ccfOrder, places []placement, line int, A, B []float64, b0, inv float64, x0, x1 int, t []float64) int {
+	w, s := places[line].weight, int(places[line].seg)
 	nk, W := a.nk, a.w
 	sv := nk + W
 	n := o.n()
 	wl, flux, errs := o.wl, o.flux, o.err
 	val := a.val[s*sv : (s+1)*sv]
-	var vr, band []float64
-	if a.cov {
+	vr := a.vr[s*sv : (s+1)*sv]
+	var band []float64
+	if a.band != nil {
 		band = a.band[s*sv*W : (s+1)*sv*W]
-	} else {
-		vr = a.vr[s*sv : (s+1)*sv]
 	}
+	keep := a.cov && band == nil
+	prs := []pixRun{{line: line}}
 	A, B = A[:nk+W], B[:nk+W]
 	e1 := o.edge(x0)
 	for x := x0; x < x1; x++ {
@@ -772,6 +799,10 @@ func (a *ccfAcc) walkOne(o *ccfOrder, A, B []float64, b0, inv, w float64, s, x0,
 			addValBand(val[k:k+W], band[k*W:(k+W)*W], t, f, s2)
 		} else {
 			addValVar(val[k:k+W], vr[k:k+W], t, f, s2)
+		}
+		if keep {
+			prs[0].k0 = k
+			a.keep(s2, prs, t, places)
 		}
 	}
 	return 0
@@ -837,46 +868,56 @@ func (p *ccfPlan) propagate(g [][]float64, sg [][]float64) (vq, vs []float64) {
 	}
 	a := p.cov
 	nk, st := a.nk, a.w
-	rows := (nk + st) * st // one segment's band
-	// The summed CCF's band is the sum of the segments'.
-	tot := make([]float64, nk*st)
-	for s := 0; s < a.nseg; s++ {
-		for i, v := range a.band[s*rows : s*rows+nk*st] {
-			tot[i] += v
+	vq = make([]float64, len(g))
+	vs = make([]float64, len(sg))
+	if a.band != nil {
+		rows := (nk + st) * st // one segment's band
+		// The summed CCF's band is the sum of the segments'.
+		tot := make([]float64, nk*st)
+		for s := 0; s < a.nseg; s++ {
+			for i, v := range a.band[s*rows : s*rows+nk*st] {
+				tot[i] += v
+			}
+		}
+		for q, gq := range g {
+			vq[q] = bandQuad(tot, st, gq)
+		}
+		for s, gs := range sg {
+			vs[s] = bandQuad(a.band[s*rows:s*rows+nk*st], st, gs)
 		}
 	}
-	vq = make([]float64, len(g))
-	for q, gq := range g {
-		vq[q] = bandQuad(tot, st, gq)
+	// The pixels kept: with a band, those reached by several lines, whose
+	// different lines' terms are still to add, 2 Σ_{l<l'} h_l h_l' with
+	// h_l = Σ_k g_k J_lkx (within one segment for the segments' own
+	// CCFs); without, every pixel, whose lines' own terms h_l² are added
+	// too.
+	self := 0.0
+	if a.band == nil {
+		self = 1
 	}
-	vs = make([]float64, len(sg))
-	for s, gs := range sg {
-		vs[s] = bandQuad(a.band[s*rows:s*rows+nk*st], st, gs)
-	}
-	// Pixels reached by several lines: the products of different lines'
-	// terms, 2 Σ_{l<l'} h_l h_l' with h_l = Σ_k g_k J_lkx (within one
-	// segment for the segments' own CCFs).
 	for _, sp := range a.shared {
 		runs := a.runs[sp.first : sp.first+sp.nrun]
 		for q, gq := range g {
-			var sum, cross float64
+			var sum, cross, sq float64
 			for _, r := range runs {
 				h := dotRun(gq, a.vals, r)
 				cross += h * sum
 				sum += h
+				sq += h * h
 			}
-			vq[q] += 2 * sp.sig2 * cross
+			vq[q] += sp.sig2 * (2*cross + self*sq)
 		}
 		for i := 0; i < len(runs); {
 			s := runs[i].seg
 			gs := sg[s]
-			var sum, cross float64
+			var sum, cross, sq float64
 			for ; i < len(runs) && runs[i].seg == s; i++ {
 				h := dotRun(gs, a.vals, runs[i])
 				cross += h * sum
 				sum += h
+				sq += h * h
 			}
-			vs[s] += 2 * sp.sig2 * cross
+			vs[s] += sp.sig2 * (2*cross + self*sq)
 		}
 	}
 	return vq, vs
