@@ -63,7 +63,7 @@ func writeSummaryCSV(w io.Writer, rows []summaryRow, creator string) error {
 			units = append(units, c.name+"="+c.unit)
 		}
 	}
-	if _, err := io.WriteString(w, "# spotsift survey summary, one row per signal; written by "+creator+"\n# units: "+strings.Join(units, " ")+"\n"); err != nil {
+	if _, err := io.WriteString(w, "# spotsift survey summary, one row per signal; written by "+creator+"\n# units: "+strings.Join(units, " ")+"\n# amplitude: the signal's adopted K (the Keplerian fit of the orbital solution for planet-like and inconclusive signals, the joint sinusoid fit for activity-like ones), as in its report\n"); err != nil {
 		return err
 	}
 	cw := csv.NewWriter(w)
