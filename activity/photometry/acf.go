@@ -2,6 +2,7 @@ package photometry
 
 import (
 	"math"
+	"math/rand/v2"
 
 	"gonum.org/v1/gonum/dsp/fourier"
 )
@@ -25,6 +26,20 @@ type ACF struct {
 	Harmonic bool
 	// Fill is the fraction of the uniform grid's cells holding data.
 	Fill float64
+	// FAP is the fraction of red-noise surrogates (see acfSignificance)
+	// whose ACF has a peak at least as high as the adopted one: the
+	// probability that noise with the light curve's own correlation time
+	// and no periodicity shows such a peak. NaN when not computed.
+	FAP float64
+	// NoiseTau (days) and NoiseFrac are the correlation time and the red
+	// fraction of the variance of that noise, as read from the ACF.
+	NoiseTau, NoiseFrac float64
+
+	grid   []float64 // the uniform grid, mean removed, gaps zero
+	filled []bool    // cells holding data
+	sigma  float64   // the final smoothing (samples)
+	dt     float64
+	minLag int // the shortest lag searched (samples)
 }
 
 // acfMinHeight is the local peak height above which an ACF peak counts
@@ -172,7 +187,7 @@ func acfPeaks(r []float64) []acfPeak {
 // y is relative flux minus one, w the weights (1/σ²). The choices are
 // written up in docs/methods.md §14.2.
 func ACFRotation(t, y, w []float64, dt, maxLag, pMin float64) *ACF {
-	a := &ACF{Period: math.NaN(), Err: math.NaN(), Height: math.NaN()}
+	a := &ACF{Period: math.NaN(), Err: math.NaN(), Height: math.NaN(), FAP: math.NaN(), NoiseTau: math.NaN(), NoiseFrac: math.NaN(), dt: dt}
 	if len(t) < MinPoints || !(dt > 0) {
 		return a
 	}
@@ -190,11 +205,13 @@ func ACFRotation(t, y, w []float64, dt, maxLag, pMin float64) *ACF {
 		return a
 	}
 	mean /= float64(nf)
+	a.filled = make([]bool, len(g))
 	for k, v := range g {
 		if math.IsNaN(v) {
 			g[k] = 0
 		} else {
 			g[k] = v - mean
+			a.filled[k] = true
 		}
 	}
 	nLag := int(maxLag/dt) + 1
@@ -215,6 +232,7 @@ func ACFRotation(t, y, w []float64, dt, maxLag, pMin float64) *ACF {
 	}
 	peaks := acfPeaks(r)
 	first := firstPeak(peaks)
+	a.grid, a.sigma, a.minLag = g, sigma0, int(math.Ceil(pMin/dt))
 	if first >= 0 {
 		// Smooth again in proportion to the first peak's lag (a Gaussian of
 		// FWHM about a quarter of it), so that gaps' wiggles do not split
@@ -223,6 +241,7 @@ func ACFRotation(t, y, w []float64, dt, maxLag, pMin float64) *ACF {
 			r = gaussSmooth(raw, s)
 			peaks = acfPeaks(r)
 			first = firstPeak(peaks)
+			a.sigma = s
 		}
 	}
 	a.Lag = make([]float64, len(r))
@@ -338,4 +357,115 @@ func halfWidth(r []float64, k int, height float64) float64 {
 		hi++
 	}
 	return math.Max(1, 0.5*float64(hi-lo))
+}
+
+// acfSurrogates is the number of red-noise light curves the ACF's peak is
+// compared with, and acfFAP the false-alarm probability below which the
+// peak counts as rotation (5%: common practice for a detection).
+const (
+	acfSurrogates = 100
+	acfFAP        = 0.05
+)
+
+// significance sets a.FAP: how often red noise without any periodicity,
+// with the light curve's own correlation time, red fraction of the
+// variance and gaps, gives an ACF with a peak (beyond the shortest lag
+// searched) at least as high as the adopted one. An ACF peak of red noise
+// is a sampling fluctuation of a smooth, decaying ACF: its scatter at
+// long lags is about √(τ/T) for correlation time τ over a span T
+// (Bartlett 1946), so slow red noise over few correlation times gives
+// peaks of McQuillan et al.'s 0.1 and more. The noise is an AR(1) process
+// (the discrete Ornstein–Uhlenbeck process) plus white noise on the same
+// grid: the red fraction a and the lag-one correlation φ are read from
+// the ACF corrected for the gaps, ρ_k ≈ a φ^k (k ≥ 1), φ from the lag at
+// which ρ falls to ρ_1/e. Each surrogate is gridded, its ACF computed
+// and smoothed like the light curve's, and the highest local peak height
+// beyond the shortest lag searched kept: the comparison with the highest
+// peak anywhere allows for the many lags looked at (docs/methods.md
+// §14.2).
+func (a *ACF) significance(seed uint64) {
+	if math.IsNaN(a.Height) || len(a.grid) == 0 {
+		return
+	}
+	g := a.grid
+	n := len(g)
+	mask := make([]float64, n)
+	for k, f := range a.filled {
+		if f {
+			mask[k] = 1
+		}
+	}
+	// Lags up to the adopted peak's (and a little beyond) are all the
+	// noise model needs.
+	nLag := len(a.Value)
+	raw := autocorrelation(g, nLag)
+	cov := autocorrelation(mask, nLag)
+	rho := func(k int) float64 {
+		if cov[k] <= 0 {
+			return 0
+		}
+		return raw[k] / cov[k]
+	}
+	phi, frac := 0.0, 0.0
+	if nLag > 2 {
+		r1 := rho(1)
+		// Without a significant lag-one correlation the noise is white.
+		if r1 > 2/math.Sqrt(float64(n)) {
+			ke := nLag - 1
+			for k := 2; k < nLag; k++ {
+				if rho(k) <= r1/math.E {
+					ke = k
+					break
+				}
+			}
+			// ρ_k = a φ^k falls by 1/e between lag 1 and lag ke.
+			phi = math.Exp(-1 / float64(ke-1))
+			frac = math.Min(1, r1/phi)
+		}
+	}
+	a.NoiseFrac = frac
+	a.NoiseTau = math.NaN()
+	if phi > 0 {
+		a.NoiseTau = -a.dt / math.Log(phi)
+	}
+	rng := rand.New(rand.NewPCG(seed, 0xacf))
+	x := make([]float64, n)
+	higher := 0
+	sr, sw := math.Sqrt(frac), math.Sqrt(1-frac)
+	inn := math.Sqrt(1 - phi*phi)
+	for s := 0; s < acfSurrogates; s++ {
+		red := rng.NormFloat64()
+		var mean float64
+		var nf int
+		for k := range x {
+			red = phi*red + inn*rng.NormFloat64()
+			w := rng.NormFloat64()
+			if mask[k] == 0 {
+				x[k] = 0
+				continue
+			}
+			x[k] = sr*red + sw*w
+			mean += x[k]
+			nf++
+		}
+		mean /= float64(nf)
+		for k := range x {
+			if mask[k] != 0 {
+				x[k] -= mean
+			}
+		}
+		r := gaussSmooth(autocorrelation(x, nLag), a.sigma)
+		top := math.Inf(-1)
+		for _, p := range acfPeaks(r) {
+			if p.k >= a.minLag && p.height > top {
+				top = p.height
+			}
+		}
+		if top >= a.Height {
+			higher++
+		}
+	}
+	// (m + 1)/(N + 1): the surrogate estimate of a p-value, never zero
+	// (Davison & Hinkley 1997).
+	a.FAP = float64(higher+1) / float64(acfSurrogates+1)
 }

@@ -26,8 +26,9 @@ type Estimate struct {
 	// Detected is whether the method sees a rotation signal by its own
 	// criterion (GLS: false-alarm probability below 10⁻³ and the peak 20
 	// times the median power around it; ACF: local peak height above 0.1
-	// and, where the ACF is long enough, a second peak at twice the lag;
-	// GP: a fit whose amplitude is significant).
+	// and a peak higher than those of 95% of red-noise surrogates with the
+	// light curve's correlation time, see ACF.FAP; GP: the rotation kernel
+	// needed over red noise, ΔBIC > 10, with its amplitude at 3σ).
 	Detected bool `json:"detected"`
 	// Note says what the criterion gave (the FAP, the peak height...).
 	Note string `json:"note,omitempty"`
@@ -68,6 +69,8 @@ type RotationOptions struct {
 	PMin, PMax float64
 	// SkipGP leaves out the Gaussian-process fit (the slow part).
 	SkipGP bool
+	// Seed seeds the red-noise surrogates of the ACF's significance.
+	Seed uint64
 }
 
 // glsFAP is the false-alarm probability below which a GLS peak is a
@@ -88,10 +91,12 @@ func background(pow []float64, g rvfit.Grid, f float64) float64 {
 // methods — the GLS periodogram (Zechmeister & Kürster 2009, one offset
 // per sector), the autocorrelation function (McQuillan, Aigrain & Mazeh
 // 2013) and a maximum a posteriori GP fit with the two-mode rotation
-// kernel (gp.RotationSHO) — and adopts one: the ACF when the light curve
-// covers at least half its span (the method was made for near-continuous
-// space photometry), else the GP fit when it agrees with a detection of
-// the others, else the GLS peak. With no detection the result says so.
+// kernel plus red noise (gp.RotationSHO) — and adopts one: the GP fit
+// when it is needed over red noise and confirms a candidate period of the
+// others (directly or at twice it), else the ACF when it is significant
+// against red noise and the light curve covers at least half its span
+// (the method was made for near-continuous space photometry), else the
+// GLS peak, else the ACF. With no detection the result says so.
 func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) {
 	if err := lc.Validate(); err != nil {
 		return nil, err
@@ -129,6 +134,7 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 		sectors = lc.Sector
 	}
 	est := Estimate{Method: MethodGLS, Period: math.NaN(), Err: math.NaN()}
+	glsCand := false
 	pg, err := rvfit.GLS(lc.Time, y, lc.Err, g, &rvfit.GLSOptions{Instrument: sectors, Fast: true})
 	if err == nil {
 		rot.Periodogram = pg
@@ -153,7 +159,8 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 		// exceeds 20 times its median with probability 2⁻²⁰; common
 		// practice for peaks over a background).
 		bg := background(pg.Power, g, f)
-		est.Detected = fap < glsFAP && pg.Power[k] >= glsPeakOverBackground*bg
+		glsCand = fap < glsFAP
+		est.Detected = glsCand && pg.Power[k] >= glsPeakOverBackground*bg
 		est.Note = fmt.Sprintf("false-alarm probability %.2g, peak %.0f times the median power around it", fap, pg.Power[k]/bg)
 	} else {
 		est.Note = err.Error()
@@ -170,10 +177,9 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 	rot.ACF = acf
 	ae := Estimate{Method: MethodACF, Period: acf.Period, Err: acf.Err}
 	if !math.IsNaN(acf.Period) {
-		// A rotation repeats: where the ACF reaches 2.5 periods, a second
-		// peak at about twice the period is required too.
-		ae.Detected = acf.Period <= o.PMax*1.1 && (len(acf.Peaks) >= 2 || acf.Lag[len(acf.Lag)-1] < 2.5*acf.Period)
-		ae.Note = fmt.Sprintf("local peak height %.2f, %d peaks, %.0f%% of the grid filled", acf.Height, len(acf.Peaks), 100*acf.Fill)
+		acf.significance(o.Seed)
+		ae.Detected = acf.Period <= o.PMax*1.1 && acf.FAP < acfFAP
+		ae.Note = fmt.Sprintf("local peak height %.2f, %d peaks, %.0f%% of the grid filled; false-alarm probability %.2g against red noise (τ = %.2g d, %.0f%% of the variance)", acf.Height, len(acf.Peaks), 100*acf.Fill, acf.FAP, acf.NoiseTau, 100*acf.NoiseFrac)
 		if acf.Harmonic {
 			ae.Note += "; the second peak is higher: two dips per turn"
 		}
@@ -182,11 +188,22 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 	}
 	rot.Estimates = append(rot.Estimates, ae)
 
-	// GP fit, started from the other methods' periods and their doubles.
+	// GP fit, started from the other methods' candidate periods (detected
+	// or not: the GP's own comparison with red noise decides) and their
+	// doubles.
+	candidate := func(e Estimate) (Estimate, bool) {
+		if e.Detected {
+			return e, true
+		}
+		// A GLS peak significant against white noise, or any ACF peak.
+		ok := !math.IsNaN(e.Period) && (e.Method == MethodACF || e.Method == MethodGLS && glsCand)
+		e.Detected = ok
+		return e, ok
+	}
 	var starts []float64
 	for _, e := range rot.Estimates {
-		if e.Detected {
-			starts = append(starts, e.Period, 2*e.Period)
+		if c, ok := candidate(e); ok {
+			starts = append(starts, c.Period, 2*c.Period)
 		}
 	}
 	if !o.SkipGP && len(starts) > 0 {
@@ -196,11 +213,21 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 	// Adoption.
 	ge := find(rot.Estimates, MethodGLS)
 	gpe := find(rot.Estimates, MethodGP)
+	gc, _ := candidate(*ge)
+	ac, _ := candidate(ae)
+	// The GP first when it confirms a candidate, directly or at twice its
+	// period: its kernel models the modes at P and P/2 together, so it
+	// tells two dips per turn (a P/2 candidate) from a curve that
+	// repeats at P/2; the ACF's harmonic check only compares peak heights.
+	double := func(e Estimate) Estimate {
+		e.Period, e.Err = 2*e.Period, 2*e.Err
+		return e
+	}
 	switch {
+	case gpe != nil && gpe.Detected && (consistent(*gpe, ac) || consistent(*gpe, gc) || consistent(*gpe, double(ac)) || consistent(*gpe, double(gc))):
+		rot.adopt(*gpe)
 	case ae.Detected && acf.Fill >= 0.5:
 		rot.adopt(ae)
-	case gpe != nil && gpe.Detected && (consistent(*gpe, ae) || consistent(*gpe, *ge)):
-		rot.adopt(*gpe)
 	case ge.Detected:
 		rot.adopt(*ge)
 	case ae.Detected:
@@ -278,44 +305,58 @@ func agreement(est []Estimate, p, perr float64) string {
 	return s
 }
 
-// gpRotation fits gp.RotationSHO plus a white jitter to the light curve,
-// binned to a twentieth of the shortest starting period and cut to at most
-// 1000 bins (the stretch of that many bins with the most data), by MAP
-// through mapfit from each starting period, and returns the best fit's
-// period with its Laplace error. Priors are log-uniform over broad boxes:
-// the period over the search range, the quality factors over [0.05, 100]
-// and [0.001, 100], the half-period mode's variance over [0.001, 1] of the
-// rotation mode's (no stronger, so that P and P/2 stay distinct; as in
-// celerite2's rotation term, from memory), the amplitude and the jitter
-// over 10⁻⁴ to 20 times the binned scatter (common practice).
+// gpRotation fits the light curve, binned to a twentieth of the shortest
+// starting period and cut to at most 1000 bins (the stretch of that many
+// bins with the most data), with two Gaussian-process models by MAP
+// through mapfit: red noise alone (redNoiseKernel plus a white jitter),
+// and the same red noise plus the two-mode rotation kernel
+// (gp.RotationSHO, modes at P and P/2), started from each candidate
+// period. The rotation is detected when it is needed over and above the
+// red noise: ΔBIC = 2Δln L − 5 ln N > 10 for its five parameters
+// (very strong evidence, Kass & Raftery 1995), and its amplitude is 3σ.
+// The red-noise term keeps the rotation kernel to the rotation: without
+// it, the slow changes of the spot coverage pull the P mode to the
+// longest period allowed and leave the rotation to the P/2 mode.
+//
+// Priors are log-uniform over broad boxes: the period over the search
+// range, the quality factors over [0.05, 100] and [0.001, 100], the
+// half-period mode's variance over [0.001, 1] of the rotation mode's (no
+// stronger, so that P and P/2 stay distinct; as in celerite2's rotation
+// term, from memory), the amplitudes and the jitter over 10⁻⁴ to 20 times
+// the binned scatter (common practice). The period's error is the
+// Laplace approximation's.
 func gpRotation(lc *LightCurve, starts []float64, pMin, pMax float64) Estimate {
 	e := Estimate{Method: MethodGP, Period: math.NaN(), Err: math.NaN()}
 	pShort := math.Inf(1)
 	for _, p := range starts {
 		pShort = math.Min(pShort, p)
 	}
-	t, y, v := binLC(lc, math.Max(pShort/20, medianStep(lc.Time)), 1000)
+	dt := math.Max(pShort/20, medianStep(lc.Time))
+	t, y, v := binLC(lc, dt, 1000)
 	if len(t) < MinPoints {
 		e.Note = "too few points for the fit"
 		return e
 	}
 	sd := math.Sqrt(variance(y))
+	span := math.Max(t[len(t)-1]-t[0], dt)
 	inst := make([]int, len(t))
-	space := mapfit.Space{
-		{Name: "sigma", Kind: mapfit.LogBounded, Lo: 1e-4 * sd, Hi: 20 * sd},
-		{Name: "period", Kind: mapfit.LogBounded, Lo: pMin, Hi: pMax},
-		{Name: "q0", Kind: mapfit.LogBounded, Lo: 0.05, Hi: 100},
-		{Name: "dq", Kind: mapfit.LogBounded, Lo: 1e-3, Hi: 100},
-		{Name: "f", Kind: mapfit.LogBounded, Lo: 1e-3, Hi: 1},
-		{Name: "jitter", Kind: mapfit.LogBounded, Lo: 1e-4 * sd, Hi: 20 * sd},
-	}
-	prob := &mapfit.Problem{Space: space, LogPost: func(x []float64) float64 {
-		m := &gp.Noise{Kernel: gp.RotationSHO{Amp: x[0], Period: x[1], Quality: x[2], QualityGap: x[3], Mix: x[4]}, Jitter: []float64{x[5]}, Solver: gp.SemisepSolver}
+	loglike := func(k gp.Kernel, jitter float64) float64 {
+		m := &gp.Noise{Kernel: k, Jitter: []float64{jitter}, Solver: gp.SemisepSolver}
 		ll, err := m.LogLikelihood(t, y, v, inst)
 		if err != nil {
 			return math.Inf(-1)
 		}
 		return ll
+	}
+	amp := func(name string) mapfit.Param {
+		return mapfit.Param{Name: name, Kind: mapfit.LogBounded, Lo: 1e-4 * sd, Hi: 20 * sd}
+	}
+	redSpace := mapfit.Space{amp("red_sigma"),
+		{Name: "red_tau", Kind: mapfit.LogBounded, Lo: dt, Hi: span},
+		{Name: "red_q", Kind: mapfit.LogBounded, Lo: 0.05, Hi: 0.5},
+		amp("jitter")}
+	red := &mapfit.Problem{Space: redSpace, LogPost: func(x []float64) float64 {
+		return loglike(redNoiseKernel(x[0], x[1], x[2]), x[3])
 	}}
 	var used []float64
 next:
@@ -329,11 +370,40 @@ next:
 			}
 		}
 		used = append(used, p0)
-		prob.Starts = append(prob.Starts, []float64{sd, p0, 1, 1, 0.5, 0.1 * sd})
+		for _, f := range []float64{1.0 / 6, 1} {
+			// The decay a rotation's ACF suggests, and slower.
+			if tau := f * p0; tau > dt && tau < span {
+				red.Starts = append(red.Starts, []float64{sd, tau, 0.3, 0.1 * sd})
+			}
+		}
 	}
-	if len(prob.Starts) == 0 {
+	if len(used) == 0 {
 		e.Note = "no starting period within the search range"
 		return e
+	}
+	if len(red.Starts) == 0 {
+		red.Starts = append(red.Starts, []float64{sd, math.Sqrt(dt * span), 0.3, 0.1 * sd})
+	}
+	rres, err := mapfit.Fit(red, &mapfit.Settings{MaxEvaluations: 1000, Workers: 1, NoLaplace: true})
+	if err != nil || rres == nil {
+		e.Note = "the red-noise fit failed"
+		return e
+	}
+	llRed := red.LogPost(rres.X)
+
+	rotSpace := append(mapfit.Space{amp("sigma"),
+		{Name: "period", Kind: mapfit.LogBounded, Lo: pMin, Hi: pMax},
+		{Name: "q0", Kind: mapfit.LogBounded, Lo: 0.05, Hi: 100},
+		{Name: "dq", Kind: mapfit.LogBounded, Lo: 1e-3, Hi: 100},
+		{Name: "f", Kind: mapfit.LogBounded, Lo: 1e-3, Hi: 1}}, redSpace...)
+	prob := &mapfit.Problem{Space: rotSpace, LogPost: func(x []float64) float64 {
+		k := gp.Sum{gp.RotationSHO{Amp: x[0], Period: x[1], Quality: x[2], QualityGap: x[3], Mix: x[4]}, redNoiseKernel(x[5], x[6], x[7])}
+		return loglike(k, x[8])
+	}}
+	r := rres.X
+	for _, p0 := range used {
+		// Half the variance to each, the red noise's timescale as fitted.
+		prob.Starts = append(prob.Starts, []float64{0.7 * r[0], p0, 1, 1, 0.5, 0.7 * r[0], r[1], r[2], r[3]})
 	}
 	res, err := mapfit.Fit(prob, &mapfit.Settings{MaxEvaluations: 2000, Workers: 1})
 	if err != nil || res == nil {
@@ -345,12 +415,17 @@ next:
 	if res.Laplace != nil {
 		e.Err, sigErr = res.Laplace.Errors[1], res.Laplace.Errors[0]
 	}
-	e.Detected = true
-	e.Note = fmt.Sprintf("amplitude %.3g (relative flux), %d bins; %s", res.X[0], len(t), res.Summary())
+	assumed := false
 	if !(e.Err > 0) {
 		// The posterior's curvature was not usable: a 10% error (common
 		// practice).
-		e.Err = 0.1 * e.Period
+		e.Err, assumed = 0.1*e.Period, true
+	}
+	llRot := prob.LogPost(res.X)
+	dBIC := 2*(llRot-llRed) - 5*math.Log(float64(len(t)))
+	e.Detected = dBIC > 10
+	e.Note = fmt.Sprintf("amplitude %.3g (relative flux), %d bins; over red noise ΔBIC = %.1f; %s", res.X[0], len(t), dBIC, res.Summary())
+	if assumed {
 		e.Note += "; curvature not usable, 10% error assumed"
 	}
 	if sigErr > 0 && res.X[0] < 3*sigErr {
@@ -358,6 +433,17 @@ next:
 		e.Note += "; amplitude below 3σ"
 	}
 	return e
+}
+
+// redNoiseKernel is red noise without periodicity, of standard deviation
+// sigma and timescale tau: an overdamped stochastic harmonic oscillator
+// (quality factor q ≤ 1/2, ω0 = 1/tau), whose covariance is a sum of two
+// decaying exponentials and never turns negative — from a random walk's
+// f⁻² to granulation's f⁻⁴ above its knee (the non-periodic terms of
+// celerite, Foreman-Mackey et al. 2017).
+func redNoiseKernel(sigma, tau, q float64) gp.SHO {
+	w0 := 1 / tau
+	return gp.SHO{S0: sigma * sigma / (w0 * q), W0: w0, Q: q}
 }
 
 // binLC returns the light curve (relative flux minus one) in bins of width
