@@ -54,6 +54,10 @@ type Options struct {
 	// period joins the rotation estimates, and where it overlaps the RVs
 	// its FF' prediction is tested as evidence.
 	LightCurve *photometry.LightCurve
+	// LightCurveWeight is the weight of the light curve's rotation period
+	// against the indicators' rotation hypotheses (see withLightCurve);
+	// zero means DefaultLightCurveWeight, the calibrated value.
+	LightCurveWeight float64
 
 	// SingleOutput keeps the model comparison to the RVs alone (the GP of
 	// the rotation kernel), instead of the multi-output GP on the RVs and

@@ -360,15 +360,12 @@ func (d *data) estimateRotation(ctx context.Context, rng *rand.Rand) Rotation {
 		rot.Hypotheses = []RotationHypothesis{{Period: star.RotationPeriod, Err: e, Share: 1, Why: "given in the star file", FAP: Num(math.NaN())}}
 	}
 	// The light curve's rotation, when there is one, is a measurement
-	// of its own: adopted after the star file's.
-	for _, e := range d.lightCurveEstimates() {
-		est = append(est, e)
-		if rot.Source == "" {
-			rot.Period, rot.Err, rot.Source = Num(e.Period), Num(e.Err), e.Method
-			rot.Hypotheses = []RotationHypothesis{{Period: e.Period, Err: e.Err, Share: 1, Why: "measured in the light curve", FAP: Num(math.NaN())}}
-		}
-	}
+	// of its own: it joins the indicators' hypotheses below with its
+	// calibrated weight (see withLightCurve).
+	lcEst := d.lightCurveEstimates()
+	est = append(est, lcEst...)
 	rs := d.searchRotation(ctx, rel)
+	var indHyp []RotationHypothesis
 	const peakFAP = 0.01
 	if rs != nil {
 		for _, p := range rs.peaks {
@@ -394,13 +391,19 @@ func (d *data) estimateRotation(ctx context.Context, rng *rand.Rand) Rotation {
 					}
 				}
 			}
-			if rot.Source == "" {
+			if rot.Source == "" && len(lcEst) == 0 {
 				rot.Hypotheses = hyp
-				rot.Period, rot.Err, rot.Source = Num(hyp[0].Period), Num(hyp[0].Err), "joint periodogram of the indicators"
-				if strings.Contains(hyp[0].Why, "refined by") {
-					rot.Source = "gp fit to " + strings.SplitN(strings.SplitN(hyp[0].Why, "refined by gp fit to ", 2)[1], ";", 2)[0]
-				}
+				rot.Period, rot.Err, rot.Source = Num(hyp[0].Period), Num(hyp[0].Err), indicatorSource(hyp[0])
 			}
+			indHyp = hyp
+		}
+	}
+	if rot.Source == "" && len(lcEst) > 0 {
+		rot.Hypotheses = withLightCurve(lcEst[0], indHyp, d.opts.LightCurveWeight)
+		top := rot.Hypotheses[0]
+		rot.Period, rot.Err, rot.Source = Num(top.Period), Num(top.Err), lcEst[0].Method
+		if !strings.HasPrefix(top.Why, lightCurveWhy) {
+			rot.Source = indicatorSource(top)
 		}
 	}
 	est = append(est, rel...)
