@@ -722,10 +722,11 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 			pl := &places[i]
 			w := pl.weight
 			s := int(pl.seg)
-			overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 			if a.band == nil {
+				overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 				addValVar(a.val[s*sv+k:s*sv+k+W], a.vr[s*sv+k:s*sv+k+W], t, f, s2)
-			} else {
+			} else if !pixelKernel(t, A[k:k+W], B[k:k+W], a.val[s*sv+k:s*sv+k+W], a.band[(s*sv+k)*W:(s*sv+k+W)*W], e0, e1, iw, w, f, s2) {
+				overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 				addValBand(a.val[s*sv+k:s*sv+k+W], a.band[(s*sv+k)*W:(s*sv+k+W)*W], t, f, s2)
 			}
 			if a.cov && (i1-i0 > 1 || a.band == nil) {
@@ -794,10 +795,13 @@ func (a *ccfAcc) walkOne(o *ccfOrder, places []placement, line int, A, B []float
 			}
 			return need
 		}
-		overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 		if band != nil {
-			addValBand(val[k:k+W], band[k*W:(k+W)*W], t, f, s2)
+			if !pixelKernel(t, A[k:k+W], B[k:k+W], val[k:k+W], band[k*W:(k+W)*W], e0, e1, iw, w, f, s2) {
+				overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
+				addValBand(val[k:k+W], band[k*W:(k+W)*W], t, f, s2)
+			}
 		} else {
+			overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 			addValVar(val[k:k+W], vr[k:k+W], t, f, s2)
 		}
 		if keep {
@@ -807,6 +811,8 @@ func (a *ccfAcc) walkOne(o *ccfOrder, places []placement, line int, A, B []float
 	}
 	return 0
 }
+
+//go:generate go run ./internal/genkernels
 
 // overlaps sets t[j] = w · (overlap of the hole [A[j], B[j]] with the
 // pixel [e0, e1]) · iw, 0 when they do not overlap.

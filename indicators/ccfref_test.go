@@ -232,7 +232,7 @@ func randomCCFCase(rng *rand.Rand, kind int) (*Spectrum, *Mask, *CCFOptions) {
 func TestCCFAgainstReference(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 17))
 	const tol = 1e-9
-	restarted := 0
+	restarted, sweeps := 0, 0
 	for trial := 0; trial < 24; trial++ {
 		s, m, opts := randomCCFCase(rng, trial)
 		c, err := computeCCF(s, m, opts, true)
@@ -256,60 +256,76 @@ func TestCCFAgainstReference(t *testing.T) {
 				restarted++
 			}
 		}
-		if len(ref.seg) != len(c.Segments) {
-			t.Fatalf("trial %d: %d segments, reference %d", trial, len(c.Segments), len(ref.seg))
-		}
-		near := func(got, want float64) bool { return math.Abs(got-want) <= tol*math.Abs(want) }
-		all := make([]int, len(ref.seg))
-		for i := range all {
-			all[i] = i
-		}
-		for k := range c.V {
-			var val, vr float64
-			for si := range ref.seg {
-				val += ref.seg[si][k]
-				vr += ref.segVar[si][k]
-				if !near(c.Segments[si].Value[k], ref.seg[si][k]) || !near(c.Segments[si].Var[k], ref.segVar[si][k]) {
-					t.Errorf("trial %d segment %d bin %d: %.15g ± %.15g, reference %.15g ± %.15g", trial, si, k, c.Segments[si].Value[k], c.Segments[si].Var[k], ref.seg[si][k], ref.segVar[si][k])
+		check := func(c *CCF, tag string) {
+			if len(ref.seg) != len(c.Segments) {
+				t.Fatalf("trial %d%s: %d segments, reference %d", trial, tag, len(c.Segments), len(ref.seg))
+			}
+			near := func(got, want float64) bool { return math.Abs(got-want) <= tol*math.Abs(want) }
+			all := make([]int, len(ref.seg))
+			for i := range all {
+				all[i] = i
+			}
+			for k := range c.V {
+				var val, vr float64
+				for si := range ref.seg {
+					val += ref.seg[si][k]
+					vr += ref.segVar[si][k]
+					if !near(c.Segments[si].Value[k], ref.seg[si][k]) || !near(c.Segments[si].Var[k], ref.segVar[si][k]) {
+						t.Errorf("trial %d%s segment %d bin %d: %.15g ± %.15g, reference %.15g ± %.15g", trial, tag, si, k, c.Segments[si].Value[k], c.Segments[si].Var[k], ref.seg[si][k], ref.segVar[si][k])
+					}
+				}
+				if !near(c.Value[k], val) || !near(c.Var[k], vr) {
+					t.Errorf("trial %d%s bin %d: %.15g ± %.15g, reference %.15g ± %.15g", trial, tag, k, c.Value[k], c.Var[k], val, vr)
 				}
 			}
-			if !near(c.Value[k], val) || !near(c.Var[k], vr) {
-				t.Errorf("trial %d bin %d: %.15g ± %.15g, reference %.15g ± %.15g", trial, k, c.Value[k], c.Var[k], val, vr)
+			// The line-by-line sum of the coarse search.
+			for k, val := range c.plan.values() {
+				if !near(val, c.Value[k]) {
+					t.Errorf("trial %d%s bin %d: cumulative-flux CCF %.15g, walk %.15g", trial, tag, k, val, c.Value[k])
+				}
 			}
-		}
-		// The line-by-line sum of the coarse search.
-		for k, val := range c.plan.values() {
-			if !near(val, c.Value[k]) {
-				t.Errorf("trial %d bin %d: cumulative-flux CCF %.15g, walk %.15g", trial, k, val, c.Value[k])
+			g := make([][]float64, propQ)
+			for q := range g {
+				g[q] = make([]float64, len(c.V))
+				for k := range g[q] {
+					g[q][k] = rng.NormFloat64()
+					if q == 1 {
+						g[q][k] = 1 // a smooth gradient too
+					}
+				}
 			}
-		}
-		g := make([][]float64, propQ)
-		for q := range g {
-			g[q] = make([]float64, len(c.V))
-			for k := range g[q] {
-				g[q][k] = rng.NormFloat64()
-				if q == 1 {
-					g[q][k] = 1 // a smooth gradient too
+			sg := make([][]float64, len(c.Segments))
+			for i := range sg {
+				sg[i] = g[(i+2)%propQ]
+			}
+			vq, vs := c.plan.propagate(g, sg)
+			for q := range g {
+				if want := ref.variance(g[q], all); !near(vq[q], want) {
+					t.Errorf("trial %d%s quantity %d: variance %.15g, reference %.15g", trial, tag, q, vq[q], want)
+				}
+			}
+			for i := range sg {
+				if want := ref.variance(sg[i], []int{i}); !near(vs[i], want) {
+					t.Errorf("trial %d%s segment %d: variance %.15g, reference %.15g", trial, tag, i, vs[i], want)
 				}
 			}
 		}
-		sg := make([][]float64, len(c.Segments))
-		for i := range sg {
-			sg[i] = g[(i+2)%propQ]
-		}
-		vq, vs := c.plan.propagate(g, sg)
-		for q := range g {
-			if want := ref.variance(g[q], all); !near(vq[q], want) {
-				t.Errorf("trial %d quantity %d: variance %.15g, reference %.15g", trial, q, vq[q], want)
-			}
-		}
-		for i := range sg {
-			if want := ref.variance(sg[i], []int{i}); !near(vs[i], want) {
-				t.Errorf("trial %d segment %d: variance %.15g, reference %.15g", trial, i, vs[i], want)
+		check(c, "")
+		if c.plan.w <= 2 && sweeps < 2 {
+			// Longer runs than needed (padded with zeros) take every
+			// unrolled kernel, the general band and no band at all.
+			sweeps++
+			for w := 2; w <= maxBandW+2; w++ {
+				p := c.plan
+				p.w, p.cov = w, nil
+				v := c.V
+				cw := p.run(true)
+				cw.V = v
+				check(cw, fmt.Sprintf(" (runs of %d)", w))
 			}
 		}
 	}
-	if restarted == 0 {
-		t.Error("no walk started again with longer runs")
+	if restarted == 0 || sweeps == 0 {
+		t.Errorf("%d walks started again with longer runs, %d sweeps of run lengths; want some of each", restarted, sweeps)
 	}
 }

@@ -31,12 +31,14 @@
 //	fmt.Println(r.RV.Value, r.RV.Sigma, r.BIS.Value, r.SIndex.Err)
 //
 // The CCF (ComputeCCF) is computed order by order with fractional pixel
-// overlap: each mask line is located once by binary search and then walks
-// the few pixels its hole covers at each velocity. Because the CCF is linear
-// in the pixel fluxes, the errors of RV, FWHM, contrast, BIS, the
-// bi-Gaussian ΔV and the per-order RVs are propagated exactly from the pixel
-// errors through the linearised fits, correlations between CCF bins
-// included.
+// overlap, in one walk over the pixels: each pixel inside a mask line's
+// window gives the run of grid velocities whose hole it overlaps. Because
+// the CCF is linear in the pixel fluxes, the same walk builds its
+// photon-noise covariance (a band per order or chunk, from each line with
+// itself, and the pixels several lines share), and the errors of RV, FWHM,
+// contrast, BIS, the bi-Gaussian ΔV, Vspan and the per-order RVs follow
+// exactly from the pixel errors through the linearised fits, as quadratic
+// forms of that covariance, correlations between CCF bins included.
 //
 // Velocities are in m/s, wavelengths in Å (air or vacuum as the Spectrum or
 // Mask says; masks and index bands are converted to the spectrum's scale).
