@@ -10,7 +10,6 @@ import (
 	"runtime"
 	"strconv"
 	"strings"
-	"sync"
 	"sync/atomic"
 	"time"
 
@@ -243,16 +242,16 @@ func Run(ctx context.Context, m *Manifest, outDir string, opts *Options) (*Summa
 	}
 	jobs := make(chan int)
 	done := make(chan int)
-	var wg sync.WaitGroup
+	// runStar turns a star's panic into its failure; the group passes on
+	// any other (a bug of the pool itself) once the pool has stopped.
+	var wg worker.Group
 	for w := 0; w < min(o.Workers, len(pick)); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			for i := range jobs {
 				results[i] = runStar(ctx, m, &m.Stars[pick[i]], outDir, &o, rec.ID)
 				done <- i
 			}
-		}()
+		})
 	}
 	go func() {
 		defer close(jobs)
@@ -260,6 +259,8 @@ func Run(ctx context.Context, m *Manifest, outDir string, opts *Options) (*Summa
 			select {
 			case jobs <- i:
 			case <-ctx.Done():
+				return
+			case <-wg.Stopped():
 				return
 			}
 		}
@@ -272,6 +273,7 @@ func Run(ctx context.Context, m *Manifest, outDir string, opts *Options) (*Summa
 			o.Progress(n, len(pick))
 		}
 	}
+	wg.Rethrow()
 	interrupted := ctx.Err() != nil
 	for i := range results {
 		r := &results[i]
