@@ -1252,9 +1252,71 @@ func figCoherence(s *rvfit.Series, dg *Diagnosis) *figure {
 		plots: rows, key: key, w: 17 * vg.Centimeter, h: vg.Length(5*float64(len(rows))+1) * vg.Centimeter}
 }
 
-// reportFigures returns every figure the data allow, in report order, and
-// the correlation panels (for the checks).
+// maxAspect is the tallest a figure may be for its width (height / width)
+// and still be printed at full width on an A4 page (235 mm of height for
+// 180 mm of width, see writePDF).
+const maxAspect = 1.3
+
+// splitTall splits a figure whose rows make it taller than maxAspect into
+// figures of as many rows as fit, so that every part is printed at full
+// width with legible text: the first part keeps the name (and the HTML
+// anchor), the others are NAME-2, NAME-3, ... with "(continued)" titles.
+// Each part keeps the key, and the x-axis labels of the bottom row.
+func splitTall(f *figure) []*figure {
+	if f == nil || len(f.plots) < 2 || f.h <= vg.Length(maxAspect)*f.w {
+		return []*figure{f}
+	}
+	rows := len(f.plots)
+	extra := 1.6 * vg.Centimeter // key and bottom axis
+	rowH := (f.h - extra) / vg.Length(rows)
+	per := max(1, int((vg.Length(maxAspect)*f.w-extra)/rowH))
+	if per >= rows {
+		return []*figure{f}
+	}
+	// Balance the parts: 13 rows at most 6 a part go 5, 5, 3, not 6, 6, 1.
+	nParts := (rows + per - 1) / per
+	per = (rows + nParts - 1) / nParts
+	bottom := f.plots[rows-1]
+	var out []*figure
+	for from, k := 0, 1; from < rows; from, k = from+per, k+1 {
+		to := min(from+per, rows)
+		part := &figure{name: f.name, title: f.title, caption: f.caption, plots: f.plots[from:to], key: f.key,
+			w: f.w, h: rowH*vg.Length(to-from) + extra}
+		if k > 1 {
+			part.name = fmt.Sprintf("%s-%d", f.name, k)
+			part.title = f.title + " (continued)"
+			part.caption = "Continued from the figure above."
+		}
+		if to < rows {
+			last := part.plots[len(part.plots)-1]
+			for j, p := range last {
+				if p != nil && p.X.Label.Text == "" && j < len(bottom) && bottom[j] != nil {
+					p.X.Label.Text = bottom[j].X.Label.Text
+				}
+			}
+		}
+		out = append(out, part)
+	}
+	return out
+}
+
+// reportFigures returns every figure the data allow, in report order
+// (tall ones split, see splitTall), and the correlation panels (for the
+// checks).
 func reportFigures(r *Report) ([]*figure, []corrPanel, error) {
+	figs, info, err := reportFiguresWhole(r)
+	if err != nil {
+		return nil, nil, err
+	}
+	var out []*figure
+	for _, f := range figs {
+		out = append(out, splitTall(f)...)
+	}
+	return out, info, nil
+}
+
+// reportFiguresWhole makes the report's figures, each in one piece.
+func reportFiguresWhole(r *Report) ([]*figure, []corrPanel, error) {
 	s, dg := r.Series, r.Diagnosis
 	z := fitZeroPoints(s, dg)
 	figs := []*figure{figTimeSeries(s, z)}

@@ -161,3 +161,53 @@ func BenchmarkFigures(b *testing.B) {
 		}
 	}
 }
+
+// A figure too tall for a page at full width is split into parts that
+// each fit (at most maxAspect), keeping every panel once, in order, the
+// key, and an x-axis label under each part.
+func TestSplitTall(t *testing.T) {
+	s, _ := goldenCase()
+	for k := 0; k < 9; k++ {
+		ind := s.Indicators[1]
+		ind.Name = "extra_" + string(rune('a'+k))
+		s.Indicators = append(s.Indicators, ind)
+	}
+	_, dg := goldenCase()
+	f := figTimeSeries(s, fitZeroPoints(s, dg))
+	if len(f.plots) != 12 || f.h <= maxAspect*f.w {
+		t.Fatalf("the test figure has %d rows, aspect %.2f: not tall", len(f.plots), float64(f.h/f.w))
+	}
+	parts := splitTall(f)
+	if len(parts) < 2 || parts[0].name != "timeseries" || parts[1].name != "timeseries-2" {
+		t.Fatalf("%d parts", len(parts))
+	}
+	n := 0
+	for _, p := range parts {
+		if p.h > maxAspect*p.w {
+			t.Errorf("%s: aspect %.2f", p.name, float64(p.h/p.w))
+		}
+		if len(p.key) != len(f.key) {
+			t.Errorf("%s: key lost", p.name)
+		}
+		for _, row := range p.plots {
+			if row[0] != f.plots[n][0] {
+				t.Errorf("%s: panel %d out of order", p.name, n)
+			}
+			n++
+		}
+		if p.plots[len(p.plots)-1][0].X.Label.Text == "" {
+			t.Errorf("%s: no time axis label under the part", p.name)
+		}
+		if _, err := p.svg(); err != nil {
+			t.Errorf("%s: %v", p.name, err)
+		}
+	}
+	if n != len(f.plots) {
+		t.Errorf("%d panels in the parts, want %d", n, len(f.plots))
+	}
+	// A figure that fits stays whole.
+	s0, dg0 := goldenCase()
+	if g := figTimeSeries(s0, fitZeroPoints(s0, dg0)); len(splitTall(g)) != 1 {
+		t.Error("a short figure was split")
+	}
+}
