@@ -69,7 +69,8 @@ func FormatValErr(v, e float64) string { return fmtValErr(v, e) }
 
 // fmtValErr formats a value with its one-sigma error, both rounded to the
 // error's precision: "7.43 ± 0.21". An unknown or zero error gives the
-// value to four significant digits and "± —"; an unknown value gives "—".
+// value to six significant digits (whole units for larger numbers, such
+// as a BJD) and "± —"; an unknown value gives "—".
 func fmtValErr(v, e float64) string {
 	v1, e1 := fmtValErrParts(v, e)
 	if v1 == "—" {
