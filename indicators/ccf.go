@@ -723,8 +723,10 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 			w := pl.weight
 			s := int(pl.seg)
 			if a.band == nil {
-				overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
-				addValVar(a.val[s*sv+k:s*sv+k+W], a.vr[s*sv+k:s*sv+k+W], t, f, s2)
+				if !pixelKernelVar(t, A[k:k+W], B[k:k+W], a.val[s*sv+k:s*sv+k+W], a.vr[s*sv+k:s*sv+k+W], e0, e1, iw, w, f, s2) {
+					overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
+					addValVar(a.val[s*sv+k:s*sv+k+W], a.vr[s*sv+k:s*sv+k+W], t, f, s2)
+				}
 			} else if !pixelKernel(t, A[k:k+W], B[k:k+W], a.val[s*sv+k:s*sv+k+W], a.band[(s*sv+k)*W:(s*sv+k+W)*W], e0, e1, iw, w, f, s2) {
 				overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 				addValBand(a.val[s*sv+k:s*sv+k+W], a.band[(s*sv+k)*W:(s*sv+k+W)*W], t, f, s2)
@@ -800,7 +802,7 @@ func (a *ccfAcc) walkOne(o *ccfOrder, places []placement, line int, A, B []float
 				overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 				addValBand(val[k:k+W], band[k*W:(k+W)*W], t, f, s2)
 			}
-		} else {
+		} else if !pixelKernelVar(t, A[k:k+W], B[k:k+W], val[k:k+W], vr[k:k+W], e0, e1, iw, w, f, s2) {
 			overlaps(t, A[k:k+W], B[k:k+W], e0, e1, iw, w)
 			addValVar(val[k:k+W], vr[k:k+W], t, f, s2)
 		}

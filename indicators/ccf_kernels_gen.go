@@ -280,3 +280,160 @@ func pixelKernel8(t, A, B, val *[8]float64, band *[64]float64, e0, e1, iw, wt, f
 	u7 := s2 * t7
 	band[56] += u7 * t7
 }
+
+// pixelKernelVar is pixelKernel with the per-bin variance vr (s2·t²)
+// instead of the band.
+func pixelKernelVar(t, A, B, val, vr []float64, e0, e1, iw, wt, f, s2 float64) bool {
+	switch len(t) {
+	case 2:
+		pixelKernelVar2((*[2]float64)(t), (*[2]float64)(A), (*[2]float64)(B), (*[2]float64)(val), (*[2]float64)(vr), e0, e1, iw, wt, f, s2)
+	case 3:
+		pixelKernelVar3((*[3]float64)(t), (*[3]float64)(A), (*[3]float64)(B), (*[3]float64)(val), (*[3]float64)(vr), e0, e1, iw, wt, f, s2)
+	case 4:
+		pixelKernelVar4((*[4]float64)(t), (*[4]float64)(A), (*[4]float64)(B), (*[4]float64)(val), (*[4]float64)(vr), e0, e1, iw, wt, f, s2)
+	case 5:
+		pixelKernelVar5((*[5]float64)(t), (*[5]float64)(A), (*[5]float64)(B), (*[5]float64)(val), (*[5]float64)(vr), e0, e1, iw, wt, f, s2)
+	case 6:
+		pixelKernelVar6((*[6]float64)(t), (*[6]float64)(A), (*[6]float64)(B), (*[6]float64)(val), (*[6]float64)(vr), e0, e1, iw, wt, f, s2)
+	case 7:
+		pixelKernelVar7((*[7]float64)(t), (*[7]float64)(A), (*[7]float64)(B), (*[7]float64)(val), (*[7]float64)(vr), e0, e1, iw, wt, f, s2)
+	case 8:
+		pixelKernelVar8((*[8]float64)(t), (*[8]float64)(A), (*[8]float64)(B), (*[8]float64)(val), (*[8]float64)(vr), e0, e1, iw, wt, f, s2)
+	default:
+		return false
+	}
+	return true
+}
+
+func pixelKernelVar2(t, A, B, val, vr *[2]float64, e0, e1, iw, wt, f, s2 float64) {
+	t0 := wt * (max(min(B[0], e1)-max(A[0], e0), 0) * iw)
+	t1 := wt * (max(min(B[1], e1)-max(A[1], e0), 0) * iw)
+	t[0], t[1] = t0, t1
+	val[0] += f * t0
+	vr[0] += s2 * t0 * t0
+	val[1] += f * t1
+	vr[1] += s2 * t1 * t1
+}
+
+func pixelKernelVar3(t, A, B, val, vr *[3]float64, e0, e1, iw, wt, f, s2 float64) {
+	t0 := wt * (max(min(B[0], e1)-max(A[0], e0), 0) * iw)
+	t1 := wt * (max(min(B[1], e1)-max(A[1], e0), 0) * iw)
+	t2 := wt * (max(min(B[2], e1)-max(A[2], e0), 0) * iw)
+	t[0], t[1], t[2] = t0, t1, t2
+	val[0] += f * t0
+	vr[0] += s2 * t0 * t0
+	val[1] += f * t1
+	vr[1] += s2 * t1 * t1
+	val[2] += f * t2
+	vr[2] += s2 * t2 * t2
+}
+
+func pixelKernelVar4(t, A, B, val, vr *[4]float64, e0, e1, iw, wt, f, s2 float64) {
+	t0 := wt * (max(min(B[0], e1)-max(A[0], e0), 0) * iw)
+	t1 := wt * (max(min(B[1], e1)-max(A[1], e0), 0) * iw)
+	t2 := wt * (max(min(B[2], e1)-max(A[2], e0), 0) * iw)
+	t3 := wt * (max(min(B[3], e1)-max(A[3], e0), 0) * iw)
+	t[0], t[1], t[2], t[3] = t0, t1, t2, t3
+	val[0] += f * t0
+	vr[0] += s2 * t0 * t0
+	val[1] += f * t1
+	vr[1] += s2 * t1 * t1
+	val[2] += f * t2
+	vr[2] += s2 * t2 * t2
+	val[3] += f * t3
+	vr[3] += s2 * t3 * t3
+}
+
+func pixelKernelVar5(t, A, B, val, vr *[5]float64, e0, e1, iw, wt, f, s2 float64) {
+	t0 := wt * (max(min(B[0], e1)-max(A[0], e0), 0) * iw)
+	t1 := wt * (max(min(B[1], e1)-max(A[1], e0), 0) * iw)
+	t2 := wt * (max(min(B[2], e1)-max(A[2], e0), 0) * iw)
+	t3 := wt * (max(min(B[3], e1)-max(A[3], e0), 0) * iw)
+	t4 := wt * (max(min(B[4], e1)-max(A[4], e0), 0) * iw)
+	t[0], t[1], t[2], t[3], t[4] = t0, t1, t2, t3, t4
+	val[0] += f * t0
+	vr[0] += s2 * t0 * t0
+	val[1] += f * t1
+	vr[1] += s2 * t1 * t1
+	val[2] += f * t2
+	vr[2] += s2 * t2 * t2
+	val[3] += f * t3
+	vr[3] += s2 * t3 * t3
+	val[4] += f * t4
+	vr[4] += s2 * t4 * t4
+}
+
+func pixelKernelVar6(t, A, B, val, vr *[6]float64, e0, e1, iw, wt, f, s2 float64) {
+	t0 := wt * (max(min(B[0], e1)-max(A[0], e0), 0) * iw)
+	t1 := wt * (max(min(B[1], e1)-max(A[1], e0), 0) * iw)
+	t2 := wt * (max(min(B[2], e1)-max(A[2], e0), 0) * iw)
+	t3 := wt * (max(min(B[3], e1)-max(A[3], e0), 0) * iw)
+	t4 := wt * (max(min(B[4], e1)-max(A[4], e0), 0) * iw)
+	t5 := wt * (max(min(B[5], e1)-max(A[5], e0), 0) * iw)
+	t[0], t[1], t[2], t[3], t[4], t[5] = t0, t1, t2, t3, t4, t5
+	val[0] += f * t0
+	vr[0] += s2 * t0 * t0
+	val[1] += f * t1
+	vr[1] += s2 * t1 * t1
+	val[2] += f * t2
+	vr[2] += s2 * t2 * t2
+	val[3] += f * t3
+	vr[3] += s2 * t3 * t3
+	val[4] += f * t4
+	vr[4] += s2 * t4 * t4
+	val[5] += f * t5
+	vr[5] += s2 * t5 * t5
+}
+
+func pixelKernelVar7(t, A, B, val, vr *[7]float64, e0, e1, iw, wt, f, s2 float64) {
+	t0 := wt * (max(min(B[0], e1)-max(A[0], e0), 0) * iw)
+	t1 := wt * (max(min(B[1], e1)-max(A[1], e0), 0) * iw)
+	t2 := wt * (max(min(B[2], e1)-max(A[2], e0), 0) * iw)
+	t3 := wt * (max(min(B[3], e1)-max(A[3], e0), 0) * iw)
+	t4 := wt * (max(min(B[4], e1)-max(A[4], e0), 0) * iw)
+	t5 := wt * (max(min(B[5], e1)-max(A[5], e0), 0) * iw)
+	t6 := wt * (max(min(B[6], e1)-max(A[6], e0), 0) * iw)
+	t[0], t[1], t[2], t[3], t[4], t[5], t[6] = t0, t1, t2, t3, t4, t5, t6
+	val[0] += f * t0
+	vr[0] += s2 * t0 * t0
+	val[1] += f * t1
+	vr[1] += s2 * t1 * t1
+	val[2] += f * t2
+	vr[2] += s2 * t2 * t2
+	val[3] += f * t3
+	vr[3] += s2 * t3 * t3
+	val[4] += f * t4
+	vr[4] += s2 * t4 * t4
+	val[5] += f * t5
+	vr[5] += s2 * t5 * t5
+	val[6] += f * t6
+	vr[6] += s2 * t6 * t6
+}
+
+func pixelKernelVar8(t, A, B, val, vr *[8]float64, e0, e1, iw, wt, f, s2 float64) {
+	t0 := wt * (max(min(B[0], e1)-max(A[0], e0), 0) * iw)
+	t1 := wt * (max(min(B[1], e1)-max(A[1], e0), 0) * iw)
+	t2 := wt * (max(min(B[2], e1)-max(A[2], e0), 0) * iw)
+	t3 := wt * (max(min(B[3], e1)-max(A[3], e0), 0) * iw)
+	t4 := wt * (max(min(B[4], e1)-max(A[4], e0), 0) * iw)
+	t5 := wt * (max(min(B[5], e1)-max(A[5], e0), 0) * iw)
+	t6 := wt * (max(min(B[6], e1)-max(A[6], e0), 0) * iw)
+	t7 := wt * (max(min(B[7], e1)-max(A[7], e0), 0) * iw)
+	t[0], t[1], t[2], t[3], t[4], t[5], t[6], t[7] = t0, t1, t2, t3, t4, t5, t6, t7
+	val[0] += f * t0
+	vr[0] += s2 * t0 * t0
+	val[1] += f * t1
+	vr[1] += s2 * t1 * t1
+	val[2] += f * t2
+	vr[2] += s2 * t2 * t2
+	val[3] += f * t3
+	vr[3] += s2 * t3 * t3
+	val[4] += f * t4
+	vr[4] += s2 * t4 * t4
+	val[5] += f * t5
+	vr[5] += s2 * t5 * t5
+	val[6] += f * t6
+	vr[6] += s2 * t6 * t6
+	val[7] += f * t7
+	vr[7] += s2 * t7 * t7
+}

@@ -233,8 +233,17 @@ func TestCCFAgainstReference(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 17))
 	const tol = 1e-9
 	restarted, sweeps := 0, 0
-	for trial := 0; trial < 24; trial++ {
+	widths := map[int]bool{}
+	for trial := 0; trial < 24+13; trial++ {
 		s, m, opts := randomCCFCase(rng, trial)
+		if trial >= 24 {
+			// Grid steps that make the runs 2, 3, … 14 steps long, so
+			// that every unrolled kernel sees runs as long as itself.
+			want := trial - 24 + 2
+			opts.HoleWidth = medianPixelWidth(s)
+			opts.Step = 2 * opts.HoleWidth / (float64(want) - 0.5)
+			opts.HalfWidth = max(opts.HalfWidth, 8*opts.Step)
+		}
 		c, err := computeCCF(s, m, opts, true)
 		if err != nil {
 			t.Fatalf("trial %d: %v", trial, err)
@@ -311,6 +320,11 @@ func TestCCFAgainstReference(t *testing.T) {
 			}
 		}
 		check(c, "")
+		widths[c.plan.w] = true
+		// The CCF alone, as ComputeCCF computes it.
+		cv := c.plan.run(false)
+		cv.V = c.V
+		check(cv, " (no covariance)")
 		if c.plan.w <= 2 && sweeps < 2 {
 			// Longer runs than needed (padded with zeros) take every
 			// unrolled kernel, the general band and no band at all.
@@ -322,7 +336,15 @@ func TestCCFAgainstReference(t *testing.T) {
 				cw := p.run(true)
 				cw.V = v
 				check(cw, fmt.Sprintf(" (runs of %d)", w))
+				cv := p.run(false)
+				cv.V = v
+				check(cv, fmt.Sprintf(" (runs of %d, no covariance)", w))
 			}
+		}
+	}
+	for w := 2; w <= 8; w++ {
+		if !widths[w] {
+			t.Errorf("no case with runs of %d steps", w)
 		}
 	}
 	if restarted == 0 || sweeps == 0 {

@@ -56,6 +56,36 @@ func main() {
 		}
 		p("}")
 	}
+	p("")
+	p("// pixelKernelVar is pixelKernel with the per-bin variance vr (s2·t²)")
+	p("// instead of the band.")
+	p("func pixelKernelVar(t, A, B, val, vr []float64, e0, e1, iw, wt, f, s2 float64) bool {")
+	p("\tswitch len(t) {")
+	for w := 2; w <= 8; w++ {
+		p("\tcase %d:", w)
+		p("\t\tpixelKernelVar%d((*[%d]float64)(t), (*[%d]float64)(A), (*[%d]float64)(B), (*[%d]float64)(val), (*[%d]float64)(vr), e0, e1, iw, wt, f, s2)", w, w, w, w, w, w)
+	}
+	p("\tdefault:")
+	p("\t\treturn false")
+	p("\t}")
+	p("\treturn true")
+	p("}")
+	for w := 2; w <= 8; w++ {
+		p("")
+		p("func pixelKernelVar%d(t, A, B, val, vr *[%d]float64, e0, e1, iw, wt, f, s2 float64) {", w, w)
+		var ts, tv []string
+		for j := 0; j < w; j++ {
+			p("\tt%d := wt * (max(min(B[%d], e1)-max(A[%d], e0), 0) * iw)", j, j, j)
+			ts = append(ts, fmt.Sprintf("t[%d]", j))
+			tv = append(tv, fmt.Sprintf("t%d", j))
+		}
+		p("\t%s = %s", strings.Join(ts, ", "), strings.Join(tv, ", "))
+		for j := 0; j < w; j++ {
+			p("\tval[%d] += f * t%d", j, j)
+			p("\tvr[%d] += s2 * t%d * t%d", j, j, j)
+		}
+		p("}")
+	}
 	src, err := format.Source(b.Bytes())
 	if err != nil {
 		log.Fatal(err)
