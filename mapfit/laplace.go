@@ -210,53 +210,18 @@ func (s Space) diskQuantiles(L *Laplace, i int, u []float64, covU *mat.SymDense)
 // gradient (step 1e-4) when Grad is given, else second differences of
 // the objective (step 1e-3; u is in natural units of each parameter).
 func (p *Problem) hessianU(u []float64) *mat.SymDense {
-	d := len(u)
-	H := mat.NewSymDense(d, nil)
-	v := append([]float64(nil), u...)
-	if p.Grad != nil {
-		const h = 1e-4
-		gp := make([]float64, d)
-		gm := make([]float64, d)
-		rows := make([][]float64, d)
-		for j := 0; j < d; j++ {
-			v[j] = u[j] + h
-			p.gradU(gp, v, true)
-			v[j] = u[j] - h
-			p.gradU(gm, v, true)
-			v[j] = u[j]
-			rows[j] = make([]float64, d)
-			for i := range rows[j] {
-				rows[j][i] = (gp[i] - gm[i]) / (2 * h)
-			}
-		}
-		for i := 0; i < d; i++ {
-			for j := 0; j <= i; j++ {
-				H.SetSym(i, j, 0.5*(rows[i][j]+rows[j][i]))
-			}
-		}
-		return H
-	}
-	const h = 1e-3
 	f := func(w []float64) float64 { return p.objective(w, true) }
-	f0 := f(u)
-	for i := 0; i < d; i++ {
-		v[i] = u[i] + h
-		fp := f(v)
-		v[i] = u[i] - h
-		fm := f(v)
-		v[i] = u[i]
-		H.SetSym(i, i, (fp-2*f0+fm)/(h*h))
-		for j := 0; j < i; j++ {
-			var s [4]float64
-			for k, sg := range [4][2]float64{{1, 1}, {1, -1}, {-1, 1}, {-1, -1}} {
-				v[i], v[j] = u[i]+sg[0]*h, u[j]+sg[1]*h
-				s[k] = f(v)
-			}
-			v[i], v[j] = u[i], u[j]
-			H.SetSym(i, j, (s[0]-s[1]-s[2]+s[3])/(4*h*h))
-		}
+	h := 1e-3
+	var grad func(g, v []float64)
+	if p.Grad != nil {
+		h = 1e-4
+		grad = func(g, v []float64) { p.gradU(g, v, true) }
 	}
-	return H
+	steps := make([]float64, len(u))
+	for i := range steps {
+		steps[i] = h
+	}
+	return hessianFD(f, grad, u, steps)
 }
 
 // invertCurvature returns H⁻¹ and ln det H when H is positive definite;
