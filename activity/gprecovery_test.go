@@ -3,6 +3,7 @@ package activity
 import (
 	"math"
 	"os"
+	"strconv"
 	"sync"
 	"testing"
 
@@ -17,14 +18,25 @@ import (
 // period set log-uniformly in [3, 60] d and its equatorial velocity
 // scaled as 1/P (a fixed radius); the spots' lifetime stays 3 rotations
 // and the active longitudes are one or two (by seed), so the strongest
-// RV signal sits at P or at P/2. The seeds run 1…n; SPOTSIFT_LONG=1 runs
+// RV signal sits at P or at P/2. The seeds run 1…n (SPOTSIFT_SEED_BASE=b
+// runs b+1…b+n, to check the rate on other stars); SPOTSIFT_LONG=1 runs
 // 48 stars and asks for a rate of at least 90 %; by default it is
 // skipped (each star is simulated and fitted, about a second of CPU).
+// Measured: 46 of 48 on seeds 1–48 (the two misses rotate in 3.4 and
+// 4.0 d; one fit took the half period).
 func TestMultiRotationRecovery(t *testing.T) {
 	if os.Getenv("SPOTSIFT_LONG") != "1" {
 		t.Skip("simulates and fits 48 active stars; set SPOTSIFT_LONG=1 to run it")
 	}
 	const n = 48
+	var seed0 uint64
+	if v := os.Getenv("SPOTSIFT_SEED_BASE"); v != "" {
+		b, err := strconv.ParseUint(v, 10, 64)
+		if err != nil {
+			t.Fatalf("SPOTSIFT_SEED_BASE: %v", err)
+		}
+		seed0 = b
+	}
 	base, err := starsim.DemoScenario("active-no-planet")
 	if err != nil {
 		t.Fatal(err)
@@ -42,7 +54,7 @@ func TestMultiRotationRecovery(t *testing.T) {
 		go func() {
 			defer wg.Done()
 			for i := range jobs {
-				out[i] = recoverRotation(base, uint64(i+1), i, n)
+				out[i] = recoverRotation(base, seed0+uint64(i+1), i, n)
 			}
 		}()
 	}
