@@ -31,7 +31,9 @@ import (
 // constrained when the data shrink its prior several-fold).
 //
 // The chains run 6,000 steps (3,000 for the dense qp model on the larger
-// star), enough for about 50 autocorrelation times; their own Monte Carlo
+// star): about 30 autocorrelation times of these posteriors (τ ≈ 180–230
+// steps), short of the 50 the sampler's convergence flag asks; their own
+// Monte Carlo
 // error on a 16 % quantile is a few per cent, up to 10 % on the far tail
 // of a skewed parameter (SPOTSIFT_LAPLACE_STEPS=n sets the steps). Long
 // (minutes per model, the dense qp model on the larger star much more):
