@@ -963,32 +963,39 @@ func bandQuad(band []float64, stride int, g []float64) float64 {
 func (p *ccfPlan) values() []float64 {
 	out := make([]float64, len(p.dk))
 	lo, hi := 1-p.h, 1+p.h
-	var cum []float64
+	var cum, edges []float64
 	for _, pl := range p.places {
 		o := &p.orders[pl.order]
 		xs, xe := int(pl.start), int(pl.end)
-		// cum[x − xs] is the flux of pixels xs … x − 1.
+		// cum[x − xs] is the flux of pixels xs … x − 1, edges[x − xs] the
+		// lower edge of pixel x.
 		cum = append(cum[:0], 0)
+		edges = append(edges[:0], o.edge(xs))
 		var c float64
-		for _, f := range o.flux[xs:xe] {
-			c += f
+		for x := xs; x < xe; x++ {
+			c += o.flux[x]
 			cum = append(cum, c)
+			if x+1 < o.n() {
+				edges = append(edges, 0.5*(o.wl[x]+o.wl[x+1]))
+			} else {
+				edges = append(edges, o.edge(x+1))
+			}
 		}
-		// upTo returns the flux below λ, which lies in pixel x.
-		upTo := func(lam float64, x int) float64 {
-			e0, e1 := o.edge(x), o.edge(x+1)
-			return cum[x-xs] + (lam-e0)*o.flux[x]/(e1-e0)
+		flux := o.flux[xs:xe]
+		// upTo returns the flux below λ, which lies in pixel xs + j.
+		upTo := func(lam float64, j int) float64 {
+			return cum[j] + (lam-edges[j])*flux[j]/(edges[j+1]-edges[j])
 		}
-		xa, xb := xs, xs
+		ja, jb, n := 0, 0, xe-xs
 		for k, d := range p.dk {
 			a, b := pl.lambda*d*lo, pl.lambda*d*hi
-			for xa+1 < xe && o.edge(xa+1) <= a {
-				xa++
+			for ja+1 < n && edges[ja+1] <= a {
+				ja++
 			}
-			for xb+1 < xe && o.edge(xb+1) <= b {
-				xb++
+			for jb+1 < n && edges[jb+1] <= b {
+				jb++
 			}
-			out[k] += pl.weight * (upTo(b, xb) - upTo(a, xa))
+			out[k] += pl.weight * (upTo(b, jb) - upTo(a, ja))
 		}
 	}
 	return out
