@@ -118,6 +118,7 @@ func NewActivity(kind string, s *rvfit.Series, o ActivityOptions) (rvfit.NoiseMo
 	n.periodIdx = 1
 	if kind == QuasiPeriodic {
 		n.periodIdx = 2
+		n.evolIdx, n.longEvol = 1, math.Max(3*p0, T)
 	}
 	n.starts = starts
 	n.start = k.Params(nil)

@@ -30,6 +30,10 @@ type Noise struct {
 	start     []float64 // the kernel's starting parameters and jitters
 	first     []float64 // the first start, when given (ActivityOptions.Start)
 	rot       *rotationSolver
+	// evolIdx > 0 indexes an evolution time whose odd starts take
+	// longEvol (a long-coherence start, as well as a short one)
+	evolIdx  int
+	longEvol float64
 }
 
 var (
@@ -106,10 +110,16 @@ func (n *Noise) PredictNoise(t, resid, variance []float64, inst []int, params []
 // NoiseStart implements rvfit.NoiseStarter: with starting periods set (as
 // NewActivity does), start st takes the st-th (cycling), the other kernel
 // parameters those of the kernel given to New and the jitters those set
-// by NewActivity.
+// by NewActivity; for the quasi-periodic kernel every odd start begins
+// with a long evolution time (the baseline), so that a long-coherence
+// optimum is reached as well as a short one.
 func (n *Noise) NoiseStart(st int, rng *rand.Rand) []float64 {
 	if st == 0 && n.first != nil {
 		return append([]float64(nil), n.first...)
 	}
-	return periodStart(n.start, n.periodIdx, n.starts, st)
+	out := periodStart(n.start, n.periodIdx, n.starts, st)
+	if out != nil && n.evolIdx > 0 && st%2 == 1 {
+		out[n.evolIdx] = n.longEvol
+	}
+	return out
 }
