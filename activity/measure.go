@@ -251,13 +251,11 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 	}
 	items := make([]item, len(paths))
 	jobs := make(chan int)
-	var wg sync.WaitGroup
+	var wg worker.Group
 	var mu sync.Mutex
 	done := 0
 	for w := 0; w < min(workers, len(paths)); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
+		wg.Go(func() {
 			for i := range jobs {
 				items[i].err = guard(paths[i], func() error {
 					s, err := readSpectrum(paths[i], opts)
@@ -276,16 +274,27 @@ func Measure(ctx context.Context, paths []string, opts *MeasureOptions) (*rvfit.
 					mu.Unlock()
 				}
 			}
-		}()
+		})
 	}
+feed:
 	for i := range paths {
 		if ctx.Err() != nil {
 			break
 		}
-		jobs <- i
+		select {
+		case <-ctx.Done():
+			break feed
+		case <-wg.Stopped():
+			break feed
+		case jobs <- i:
+		}
 	}
 	close(jobs)
-	wg.Wait()
+	// guard turns a spectrum's panic into its failure; this is any other
+	// (in opts.Progress, say).
+	if err := wg.Wait(); err != nil {
+		return nil, nil, err
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, nil, err
 	}
