@@ -257,9 +257,6 @@ func (tr *trial) indicatorTests() {
 		// would show if the signal were activity.
 		ratio, sens float64
 		ratioHow    string
-		// neff is the effective number of independent epochs of the
-		// correlation test.
-		neff int
 	}
 	var rs []res
 	for _, ind := range d.s.Indicators {
@@ -309,18 +306,7 @@ func (tr *trial) indicatorTests() {
 				}
 			}
 		}
-		// The correlation's p-value counts the epochs as independent; the
-		// indicator's residuals carry red noise (β ≥ 1, as in its power
-		// test), which leaves about n/β² independent values (the
-		// effective sample size of autocorrelated series; Bretherton et
-		// al. 1999, J. Climate 12, 1990). Both tests of the indicator
-		// then make the same allowance for it.
 		r.corr = Pearson(tr.comp, vals)
-		r.neff = r.corr.N
-		if beta > 1 && r.corr.N >= 4 {
-			r.neff = max(4, int(float64(r.corr.N)/(beta*beta)))
-			r.corr.P = correlationP(r.corr.R, r.neff)
-		}
 		r.raw = Pearson(tr.own, vals)
 		period := 1 / tr.f
 		bin := math.Max(period/20, 0.5)
@@ -395,11 +381,7 @@ func (tr *trial) indicatorTests() {
 		return Evidence{Reason: fmt.Sprintf("%s shows no significant power at the signal's period (Holm-corrected false-alarm probability %.2g)", r.name, p)}
 	})
 	group("indicator_correlation", hc, tr.d.w.IndicatorCorrelation, func(k int, r res, p float64, sig bool) Evidence {
-		ne := ""
-		if r.neff < r.corr.N {
-			ne = fmt.Sprintf(", worth %d independent ones for the indicator's red noise", r.neff)
-		}
-		return Evidence{Reason: fmt.Sprintf("%s against the fitted signal: r = %.2f (Holm-corrected p = %.2g, %d epochs%s; against the signal's own RVs r = %.2f)", r.name, r.corr.R, p, r.corr.N, ne, r.raw.R)}
+		return Evidence{Reason: fmt.Sprintf("%s against the fitted signal: r = %.2f (Holm-corrected p = %.2g, %d epochs; against the signal's own RVs r = %.2f)", r.name, r.corr.R, p, r.corr.N, r.raw.R)}
 	})
 	// The lagged correlation uses the signal's own RVs, which keep whatever
 	// activity the other sinusoids did not remove, so it is not specific to
