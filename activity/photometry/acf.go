@@ -75,25 +75,41 @@ func uniform(t, y, w []float64, dt float64) []float64 {
 // autocorrelation returns r_k = Σ x_i x_(i+k) / Σ x_i² for k < maxLag,
 // by FFT.
 func autocorrelation(x []float64, maxLag int) []float64 {
-	n := len(x)
+	return newAutocorrelator(len(x)).of(x, maxLag)
+}
+
+// autocorrelator computes autocorrelations of series of one length with
+// one FFT plan and its buffers (the surrogates of ACF.significance).
+type autocorrelator struct {
+	n   int
+	fft *fourier.FFT
+	buf []float64
+	c   []complex128
+	r   []float64
+}
+
+func newAutocorrelator(n int) *autocorrelator {
 	m := 1
 	for m < 2*n {
 		m <<= 1
 	}
-	buf := make([]float64, m)
-	copy(buf, x)
-	fft := fourier.NewFFT(m)
-	c := fft.Coefficients(nil, buf)
-	for i, v := range c {
-		c[i] = complex(real(v)*real(v)+imag(v)*imag(v), 0)
+	return &autocorrelator{n: n, fft: fourier.NewFFT(m), buf: make([]float64, m)}
+}
+
+func (a *autocorrelator) of(x []float64, maxLag int) []float64 {
+	clear(a.buf)
+	copy(a.buf, x)
+	a.c = a.fft.Coefficients(a.c, a.buf)
+	for i, v := range a.c {
+		a.c[i] = complex(real(v)*real(v)+imag(v)*imag(v), 0)
 	}
-	r := fft.Sequence(nil, c)
-	out := make([]float64, min(maxLag, n))
-	if r[0] <= 0 {
+	a.r = a.fft.Sequence(a.r, a.c)
+	out := make([]float64, min(maxLag, a.n))
+	if a.r[0] <= 0 {
 		return out
 	}
 	for k := range out {
-		out[k] = r[k] / r[0]
+		out[k] = a.r[k] / a.r[0]
 	}
 	return out
 }
@@ -429,6 +445,7 @@ func (a *ACF) significance(seed uint64) {
 		a.NoiseTau = -a.dt / math.Log(phi)
 	}
 	rng := rand.New(rand.NewPCG(seed, 0xacf))
+	ac := newAutocorrelator(n)
 	x := make([]float64, n)
 	higher := 0
 	sr, sw := math.Sqrt(frac), math.Sqrt(1-frac)
@@ -454,7 +471,7 @@ func (a *ACF) significance(seed uint64) {
 				x[k] -= mean
 			}
 		}
-		r := gaussSmooth(autocorrelation(x, nLag), a.sigma)
+		r := gaussSmooth(ac.of(x, nLag), a.sigma)
 		top := math.Inf(-1)
 		for _, p := range acfPeaks(r) {
 			if p.k >= a.minLag && p.height > top {

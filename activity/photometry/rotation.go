@@ -384,7 +384,7 @@ next:
 	if len(red.Starts) == 0 {
 		red.Starts = append(red.Starts, []float64{sd, math.Sqrt(dt * span), 0.3, 0.1 * sd})
 	}
-	rres, err := mapfit.Fit(red, &mapfit.Settings{MaxEvaluations: 1000, Workers: 1, NoLaplace: true})
+	rres, err := mapfit.Fit(red, &mapfit.Settings{MaxEvaluations: 1000, NoLaplace: true})
 	if err != nil || rres == nil {
 		e.Note = "the red-noise fit failed"
 		return e
@@ -405,7 +405,7 @@ next:
 		// Half the variance to each, the red noise's timescale as fitted.
 		prob.Starts = append(prob.Starts, []float64{0.7 * r[0], p0, 1, 1, 0.5, 0.7 * r[0], r[1], r[2], r[3]})
 	}
-	res, err := mapfit.Fit(prob, &mapfit.Settings{MaxEvaluations: 2000, Workers: 1})
+	res, err := mapfit.Fit(prob, &mapfit.Settings{MaxEvaluations: 2000})
 	if err != nil || res == nil {
 		e.Note = "the fit failed"
 		return e
