@@ -18,10 +18,14 @@ const lightCurveWhy = "measured in the light curve"
 
 // DefaultLightCurveWeight is the weight of the light curve's rotation
 // period against the indicators' hypotheses taken together (which weigh
-// 1): the odds that the light curve is right where the two disagree, as
-// measured on the calibration's training stars (TestCalibrationPhotometry
-// prints them; the README gives the figures).
-const DefaultLightCurveWeight = 4
+// 1): the odds, with the rule of succession, that the light curve is
+// right where the two disagree, measured on the calibration's training
+// stars (TestCalibrationPhotometry, seeds 1–3: the light curve right 2
+// times, the indicators 0, (2+1)/(0+1) = 3). Its share is then 3/4; an
+// indicators' hypothesis elsewhere keeps a share of 10% or more (the
+// level at which a rotation hypothesis bars a planet-like verdict at its
+// P_rot and P_rot/2) when it held 40% or more of the indicators' own.
+const DefaultLightCurveWeight = 3
 
 // lightCurveEstimates returns the rotation period the light curve gives
 // (see photometry.EstimateRotation), as one estimate; none when there is
