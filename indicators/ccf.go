@@ -3,6 +3,7 @@ package indicators
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 
 	"spotsift/internal/worker"
@@ -258,7 +259,7 @@ func computeCCF(s *Spectrum, m *Mask, opts *CCFOptions, cov bool) (*CCF, error) 
 		if search == 0 {
 			search = 200e3
 		}
-		vc, fwhm, err := coarseSearch(orders, m, center, search, math.Max(2000, hole), hole)
+		vc, fwhm, err := coarseSearch(orders, m, center, search, math.Max(2000, hole), hole, o.Serial)
 		if err != nil {
 			return nil, fmt.Errorf("%s: %w", s.Name, err)
 		}
@@ -960,11 +961,32 @@ func bandQuad(band []float64, stride int, g []float64) float64 {
 // covers is the difference of the cumulative flux (constant flux density
 // over each pixel) at its two ends. It suits holes several pixels wide
 // (the coarse search), where walk would give each pixel many steps.
-func (p *ccfPlan) values() []float64 {
+// Unless serial, the two halves of the lines are summed in two goroutines;
+// the result does not depend on the number of processors.
+func (p *ccfPlan) values(serial bool) []float64 {
+	mid := len(p.places) / 2
 	out := make([]float64, len(p.dk))
+	hi := make([]float64, len(p.dk))
+	if serial {
+		p.valuesOf(p.places[mid:], hi)
+		p.valuesOf(p.places[:mid], out)
+	} else {
+		var wg worker.Group
+		wg.Go(func() { p.valuesOf(p.places[mid:], hi) })
+		p.valuesOf(p.places[:mid], out)
+		wg.Rethrow()
+	}
+	for k := range out {
+		out[k] += hi[k]
+	}
+	return out
+}
+
+// valuesOf adds the CCF of the lines placed at places to out.
+func (p *ccfPlan) valuesOf(places []placement, out []float64) {
 	lo, hi := 1-p.h, 1+p.h
 	var cum, edges []float64
-	for _, pl := range p.places {
+	for _, pl := range places {
 		o := &p.orders[pl.order]
 		xs, xe := int(pl.start), int(pl.end)
 		// cum[x − xs] is the flux of pixels xs … x − 1, edges[x − xs] the
@@ -998,27 +1020,42 @@ func (p *ccfPlan) values() []float64 {
 			out[k] += pl.weight * (upTo(b, jb) - upTo(a, ja))
 		}
 	}
-	return out
+}
+
+// heaviest returns the n lines of m with the largest weights, in their
+// order in m; of lines of equal weight at the cut, the first are kept.
+func heaviest(m *Mask, n int) *Mask {
+	w := slices.Clone(m.Weight)
+	slices.Sort(w)
+	cut := w[len(w)-n]
+	above := 0 // lines heavier than the cut
+	for _, x := range m.Weight {
+		if x > cut {
+			above++
+		}
+	}
+	atCut := n - above // lines at the cut to keep
+	sub := &Mask{Vacuum: m.Vacuum, Wavelength: make([]float64, 0, n), Weight: make([]float64, 0, n)}
+	for i, x := range m.Weight {
+		if x > cut || (x == cut && atCut > 0) {
+			if x == cut {
+				atCut--
+			}
+			sub.Wavelength = append(sub.Wavelength, m.Wavelength[i])
+			sub.Weight = append(sub.Weight, x)
+		}
+	}
+	return sub
 }
 
 // coarseSearch finds the velocity of the CCF minimum on a coarse grid and
 // the FWHM of a Gaussian fitted there.
-func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64) (vc, fwhm float64, err error) {
+func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64, serial bool) (vc, fwhm float64, err error) {
 	// Use the heaviest lines only: the search needs the position, not
 	// precision.
 	sub := m
 	if m.Len() > 200 {
-		idx := make([]int, m.Len())
-		for i := range idx {
-			idx[i] = i
-		}
-		sort.Slice(idx, func(a, b int) bool { return m.Weight[idx[a]] > m.Weight[idx[b]] })
-		idx = idx[:200]
-		sort.Ints(idx)
-		sub = &Mask{Vacuum: m.Vacuum, Wavelength: make([]float64, len(idx)), Weight: make([]float64, len(idx))}
-		for i, j := range idx {
-			sub.Wavelength[i], sub.Weight[i] = m.Wavelength[j], m.Weight[j]
-		}
+		sub = heaviest(m, 200)
 	}
 	n := int(math.Ceil(search / step))
 	v := make([]float64, 2*n+1)
@@ -1040,7 +1077,7 @@ func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64
 			return 0, 0, err
 		}
 	}
-	val := p.values()
+	val := p.values(serial)
 	res, ferr := fitGaussian(v, val, nil)
 	if ferr != nil {
 		imin := 0
