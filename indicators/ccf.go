@@ -991,24 +991,32 @@ func (p *ccfPlan) valuesOf(places []placement, out []float64) {
 		xs, xe := int(pl.start), int(pl.end)
 		// cum[x − xs] is the flux of pixels xs … x − 1, edges[x − xs] the
 		// lower edge of pixel x.
-		cum = append(cum[:0], 0)
-		edges = append(edges[:0], o.edge(xs))
-		var c float64
-		for x := xs; x < xe; x++ {
-			c += o.flux[x]
-			cum = append(cum, c)
-			if x+1 < o.n() {
-				edges = append(edges, 0.5*(o.wl[x]+o.wl[x+1]))
-			} else {
-				edges = append(edges, o.edge(x+1))
-			}
+		n := xe - xs
+		if cap(cum) < n+1 {
+			cum, edges = make([]float64, 2*n+1), make([]float64, 2*n+1)
 		}
+		cum, edges = cum[:n+1], edges[:n+1]
+		cum[0], edges[0] = 0, o.edge(xs)
 		flux := o.flux[xs:xe]
+		// Pixels followed by another: their upper edge is a midpoint.
+		inner := min(n, o.n()-1-xs)
+		wl := o.wl[xs : xs+inner+1]
+		var c float64
+		for j := 0; j < inner; j++ {
+			c += flux[j]
+			cum[j+1] = c
+			edges[j+1] = 0.5 * (wl[j] + wl[j+1])
+		}
+		for j := inner; j < n; j++ {
+			c += flux[j]
+			cum[j+1] = c
+			edges[j+1] = o.edge(xs + j + 1)
+		}
 		// upTo returns the flux below λ, which lies in pixel xs + j.
 		upTo := func(lam float64, j int) float64 {
 			return cum[j] + (lam-edges[j])*flux[j]/(edges[j+1]-edges[j])
 		}
-		ja, jb, n := 0, 0, xe-xs
+		ja, jb := 0, 0
 		for k, d := range p.dk {
 			a, b := pl.lambda*d*lo, pl.lambda*d*hi
 			for ja+1 < n && edges[ja+1] <= a {
