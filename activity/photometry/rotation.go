@@ -27,7 +27,8 @@ type Estimate struct {
 	// criterion (GLS: false-alarm probability below 10⁻³ and the peak 20
 	// times the median power around it; ACF: local peak height above 0.1
 	// and a peak higher than those of 95% of red-noise surrogates with the
-	// light curve's correlation time, see ACF.FAP; GP: the rotation kernel
+	// light curve's correlation time, see ACF.FAP, and where the ACF reaches
+	// 2.5 periods a second peak near twice the period; GP: the rotation kernel
 	// needed over red noise, ΔBIC > 10, with its amplitude at 3σ).
 	Detected bool `json:"detected"`
 	// Note says what the criterion gave (the FAP, the peak height...).
@@ -178,7 +179,10 @@ func EstimateRotation(lc *LightCurve, opts *RotationOptions) (*Rotation, error) 
 	ae := Estimate{Method: MethodACF, Period: acf.Period, Err: acf.Err}
 	if !math.IsNaN(acf.Period) {
 		acf.significance(o.Seed)
-		ae.Detected = acf.Period <= o.PMax*1.1 && acf.FAP < acfFAP
+		// A rotation repeats: where the ACF reaches 2.5 periods, a second
+		// peak near twice the period is required too.
+		repeats := len(acf.Peaks) >= 2 || acf.Lag[len(acf.Lag)-1] < 2.5*acf.Period
+		ae.Detected = acf.Period <= o.PMax*1.1 && acf.FAP < acfFAP && repeats
 		ae.Note = fmt.Sprintf("local peak height %.2f, %d peaks, %.0f%% of the grid filled; false-alarm probability %.2g against red noise (τ = %.2g d, %.0f%% of the variance)", acf.Height, len(acf.Peaks), 100*acf.Fill, acf.FAP, acf.NoiseTau, 100*acf.NoiseFrac)
 		if acf.Harmonic {
 			ae.Note += "; the second peak is higher: two dips per turn"
