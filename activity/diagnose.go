@@ -160,6 +160,9 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	if err := s.Require(MinEpochs, "the diagnosis"); err != nil {
 		return nil, err
 	}
+	if err := s.RequireTimeOrder("the diagnosis"); err != nil {
+		return nil, err
+	}
 	if !(o.FAPThreshold > 0 && o.FAPThreshold < 1) {
 		return nil, fmt.Errorf("%w: false-alarm threshold %g must lie in (0, 1)", ErrBadOption, o.FAPThreshold)
 	}

@@ -196,6 +196,26 @@ func TestDiagnoseBadInput(t *testing.T) {
 	if _, err := Diagnose(context.Background(), s, &Options{FAPThreshold: 2}); !errors.Is(err, ErrBadOption) {
 		t.Errorf("FAP threshold 2: err = %v, want ErrBadOption", err)
 	}
+	// Epochs grouped by instrument, not by time (as some merged archive
+	// tables are): refused with the epoch named, and accepted once sorted.
+	idx := make([]int, 0, s.Len())
+	for i := 1; i < s.Len(); i += 2 {
+		idx = append(idx, i)
+	}
+	for i := 0; i < s.Len(); i += 2 {
+		idx = append(idx, i)
+	}
+	grouped := s.Subset(idx)
+	_, err := Diagnose(context.Background(), grouped, &Options{Seed: 1, SkipModels: true})
+	if !errors.Is(err, rvfit.ErrUnsorted) || !strings.Contains(err.Error(), "SortByTime") {
+		t.Errorf("epochs out of time order: err = %v, want ErrUnsorted naming SortByTime", err)
+	}
+	if !grouped.SortByTime() {
+		t.Fatal("SortByTime reports the grouped epochs as already sorted")
+	}
+	if _, err := Diagnose(context.Background(), grouped, &Options{Seed: 1, SkipModels: true}); err != nil {
+		t.Errorf("after SortByTime: %v", err)
+	}
 }
 
 func TestDiagnosisJSON(t *testing.T) {

@@ -23,6 +23,7 @@ var (
 	ErrMismatch        = errors.New("rvfit: mismatched lengths")
 	ErrImplausible     = errors.New("rvfit: value not plausible for its quantity")
 	ErrNotRegular      = errors.New("rvfit: not a regular file")
+	ErrUnsorted        = errors.New("rvfit: epochs not in time order")
 )
 
 // TableError reports a problem at a place in a table file. Line is the

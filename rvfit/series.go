@@ -124,6 +124,20 @@ func (s *Series) Require(n int, what string) error {
 	return nil
 }
 
+// RequireTimeOrder returns an error naming the first epoch out of time
+// order. The analyses assume increasing times (the O(N) GP solvers, the
+// season split); a table grouped by instrument, for example, must be sorted
+// first (SortByTime; the table readers do it).
+func (s *Series) RequireTimeOrder(what string) error {
+	for i := 1; i < len(s.Time); i++ {
+		if s.Time[i] < s.Time[i-1] {
+			return fmt.Errorf("%s: %w: %s needs epochs in time order, but epoch %d (t = %.6f) comes before epoch %d (t = %.6f); sort the series by time first (Series.SortByTime)",
+				s.Name, ErrUnsorted, what, i+1, s.Time[i], i, s.Time[i-1])
+		}
+	}
+	return nil
+}
+
 // Clone returns a deep copy of s.
 func (s *Series) Clone() *Series {
 	c := &Series{
@@ -169,9 +183,10 @@ func (s *Series) Subset(idx []int) *Series {
 	return c
 }
 
-// sortByTime sorts the epochs in place by time (stable, so equal times keep
-// their order) and reports whether they were out of order.
-func (s *Series) sortByTime() bool {
+// SortByTime sorts the epochs in place by time (stable, so equal times keep
+// their order) and reports whether they were out of order. The readers sort
+// what they read; a Series built by hand must be sorted before analysis.
+func (s *Series) SortByTime() bool {
 	if sort.Float64sAreSorted(s.Time) {
 		return false
 	}

@@ -530,7 +530,7 @@ func (rt *rawTable) build(p *rolePlan, opts *ReadOptions) (*Series, []string, er
 		s.meanDuplicates(groups)
 		note("%d epochs share their time with another of the same instrument: averaged, weighted by their uncertainties (first on line %d)", len(groups), lines[groups[0][1]])
 	}
-	if s.sortByTime() {
+	if s.SortByTime() {
 		note("epochs were not in time order; sorted")
 	}
 	s.Notes = notes

@@ -356,7 +356,7 @@ func Combine(parts []*Series) (*Series, []string, error) {
 		}
 		off += p.Len()
 	}
-	out.sortByTime()
+	out.SortByTime()
 	labels := uniqueStrings(out.Instrument)
 	out.Notes = append(out.Notes, fmt.Sprintf("%d tables combined: %d epochs, %d instrument zero points (%s)", len(parts), out.Len(), len(labels), strings.Join(labels, ", ")))
 	return out, warns, nil
