@@ -160,7 +160,7 @@ func TestWriteFITSFileAtomic(t *testing.T) {
 func TestFitsverify(t *testing.T) {
 	bin, err := exec.LookPath("fitsverify")
 	if err != nil {
-		t.Skip("fitsverify not installed: skipping the FITS conformance check")
+		t.Skip("fitsverify not installed: skipping the FITS conformance check (apt-get install fitsverify)")
 	}
 	dir := t.TempDir()
 	for _, s := range []*Spectrum{logGridSpectrum(300, 3800, 1e-5), linGridSpectrum(200), echelleSpectrum(4, 100)} {

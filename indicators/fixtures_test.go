@@ -115,10 +115,10 @@ func TestBrokenFixtures(t *testing.T) {
 func TestAstropyReadsOurs(t *testing.T) {
 	py := "/usr/bin/python3"
 	if _, err := os.Stat(py); err != nil {
-		t.Skip("no /usr/bin/python3: skipping the astropy cross-check")
+		t.Skip("no /usr/bin/python3: skipping the astropy cross-check (apt-get install python3-astropy)")
 	}
 	if err := exec.Command(py, "-c", "import astropy.wcs").Run(); err != nil {
-		t.Skip("astropy not installed: skipping the astropy cross-check")
+		t.Skip("astropy not installed: skipping the astropy cross-check (apt-get install python3-astropy)")
 	}
 	s := logGridSpectrum(500, 4321.5, 3e-6)
 	path := filepath.Join(t.TempDir(), "ours.fits")
