@@ -599,7 +599,7 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 	nk := len(dk)
 	W := a.w
 	n := o.n()
-	wl, flux, errs := o.wl, o.flux, o.err
+	wl, flux := o.wl, o.flux
 	// Lines [i0, i1) have the current pixel in their window.
 	i0 := 0
 	for i0 < len(places) && int(places[i0].end) <= xlo {
@@ -688,37 +688,18 @@ func (p *ccfPlan) walk(a *ccfAcc, o *ccfOrder, places []placement, xlo, xhi int)
 		ex = x + 1
 		iw := 1 / (e1 - e0)
 		f := flux[x]
-		var s2 float64
-		if errs != nil {
-			s2 = errs[x] * errs[x]
-		} else {
-			s2 = max(f, 1) + o.rn2
-		}
+		s2 := o.sig2(x)
 		prs = prs[:0]
 		tb = tb[:0]
 		for i := i0; i < i1; i++ {
 			ls := &ring[i&(len(ring)-1)]
 			A, B := ls.A, ls.B
-			// ka: the first step whose hole ends above e0.
-			k := 0
-			if kf := (e0 - ls.b0) * ls.inv; kf >= 0 {
-				k = min(int(kf)+1, nk)
-			}
-			for k < nk && B[k] <= e0 {
-				k++
-			}
-			for k > 0 && B[k-1] > e0 {
-				k--
+			k, need := firstStep(A, B, ls.b0, ls.inv, e0, e1, nk, W)
+			if need > 0 {
+				return need
 			}
 			if k == nk {
 				continue
-			}
-			if A[k+W] < e1 {
-				need := W
-				for k+need < nk && A[k+need] < e1 {
-					need++
-				}
-				return need
 			}
 			pl := &places[i]
 			w := pl.weight
@@ -752,7 +733,7 @@ func (a *ccfAcc) walkOne(o *ccfOrder, places []placement, line int, A, B []float
 	nk, W := a.nk, a.w
 	sv := nk + W
 	n := o.n()
-	wl, flux, errs := o.wl, o.flux, o.err
+	wl, flux := o.wl, o.flux
 	val := a.val[s*sv : (s+1)*sv]
 	vr := a.vr[s*sv : (s+1)*sv]
 	var band []float64
@@ -772,31 +753,13 @@ func (a *ccfAcc) walkOne(o *ccfOrder, places []placement, line int, A, B []float
 		}
 		iw := 1 / (e1 - e0)
 		f := flux[x]
-		var s2 float64
-		if errs != nil {
-			s2 = errs[x] * errs[x]
-		} else {
-			s2 = max(f, 1) + o.rn2
-		}
-		k := 0
-		if kf := (e0 - b0) * inv; kf >= 0 {
-			k = min(int(kf)+1, nk)
-		}
-		for k < nk && B[k] <= e0 {
-			k++
-		}
-		for k > 0 && B[k-1] > e0 {
-			k--
+		s2 := o.sig2(x)
+		k, need := firstStep(A, B, b0, inv, e0, e1, nk, W)
+		if need > 0 {
+			return need
 		}
 		if k == nk {
 			continue
-		}
-		if A[k+W] < e1 {
-			need := W
-			for k+need < nk && A[k+need] < e1 {
-				need++
-			}
-			return need
 		}
 		if band != nil {
 			if !pixelKernel(t, A[k:k+W], B[k:k+W], val[k:k+W], band[k*W:(k+W)*W], e0, e1, iw, w, f, s2) {
@@ -1097,4 +1060,29 @@ func coarseSearch(orders []ccfOrder, m *Mask, center, search, step, hole float64
 		return v[imin], 10e3, nil
 	}
 	return res.theta[2], 2.3548200450309493 * res.theta[3], nil
+}
+
+// firstStep returns the first grid step k whose hole ends above the pixel's
+// lower edge e0 (nk when none; the guess from b0 and inv, the holes' start
+// and inverse spacing, is corrected both ways), and, when the W steps from
+// k end below the pixel's upper edge e1, the number of steps the pixel
+// needs (0 when W suffice).
+func firstStep(A, B []float64, b0, inv, e0, e1 float64, nk, W int) (k, need int) {
+	if kf := (e0 - b0) * inv; kf >= 0 {
+		k = min(int(kf)+1, nk)
+	}
+	for k < nk && B[k] <= e0 {
+		k++
+	}
+	for k > 0 && B[k-1] > e0 {
+		k--
+	}
+	if k == nk || A[k+W] >= e1 {
+		return k, 0
+	}
+	need = W
+	for k+need < nk && A[k+need] < e1 {
+		need++
+	}
+	return k, need
 }
