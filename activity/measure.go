@@ -107,6 +107,7 @@ func ReadSideTable(r io.Reader, name string) (map[string]SideEntry, error) {
 	sc := bufio.NewScanner(r)
 	out := map[string]SideEntry{}
 	col := map[string]int{}
+	nHeader := 0
 	line := 0
 	bad := func(msg string, a ...any) error {
 		return fmt.Errorf("%s:%d: %w: %s", name, line, ErrSideTable, fmt.Sprintf(msg, a...))
@@ -123,8 +124,13 @@ func ReadSideTable(r io.Reader, name string) (map[string]SideEntry, error) {
 		f := split(t)
 		if len(col) == 0 {
 			for i, c := range f {
-				col[strings.ToLower(c)] = i
+				c = strings.ToLower(c)
+				if _, dup := col[c]; dup {
+					return nil, bad("header names the column %q twice; name each column once", c)
+				}
+				col[c] = i
 			}
+			nHeader = len(f)
 			_, hasB := col["bjd"]
 			_, hasV := col["berv"]
 			if _, ok := col["file"]; !ok || !(hasB || hasV) {
@@ -132,8 +138,8 @@ func ReadSideTable(r io.Reader, name string) (map[string]SideEntry, error) {
 			}
 			continue
 		}
-		if len(f) != len(col) {
-			return nil, bad("%d fields, header has %d", len(f), len(col))
+		if len(f) != nHeader {
+			return nil, bad("%d fields, header has %d", len(f), nHeader)
 		}
 		var e SideEntry
 		for key, dst := range map[string]*float64{"bjd": &e.BJD, "berv": &e.BERV} {
