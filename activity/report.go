@@ -269,8 +269,11 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 			ov.Inst = append(ov.Inst, []string{VisibleText(in), fmtValErr(orb.Offsets[j], orb.OffsetErrs[j]), jit})
 		}
 		how := "errors: half-width of the 16–84% interval of 2000 draws from the fit's Laplace covariance"
-		if !orb.HessianOK || orb.Draws == 0 {
+		switch {
+		case orb.Draws == 0:
 			how = "errors not available: the fit's Hessian is not positive definite"
+		case !orb.HessianOK:
+			how += "; the data leave some orbital parameters unconstrained (shown as —: for a circular orbit, the eccentricity vector), and the other errors are conditional on them at their best values"
 		}
 		ov.Stats = fmt.Sprintf("Maximum a posteriori fit of %s with one offset and one jitter per instrument (white noise) and the eccentricity prior of Kipping (2013), %d epochs; residual rms %s m/s, ln L = %s, BIC = %s; %s.",
 			plural(len(orb.Planets), "Keplerian", "Keplerians"), orb.NObs, fmtSig(orb.ResidualRMS, 3), fmtSig(orb.LogLikelihood, 6), fmtSig(orb.BIC, 6), how)

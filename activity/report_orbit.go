@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 
 	"gonum.org/v1/gonum/mat"
@@ -151,7 +152,7 @@ func fitOrbits(s *rvfit.Series, dg *Diagnosis, star *Star) *OrbitSolution {
 	out.Instruments = res.Instruments
 	out.LogLikelihood, out.BIC, out.ResidualRMS, out.NObs, out.HessianOK = res.LogLikelihood, res.BIC, res.ResidualRMS, res.NObs, res.HessianOK
 	errAt := func(i int) float64 {
-		if !res.HessianOK || i >= len(res.Errors) || !(res.Errors[i] > 0) {
+		if i >= len(res.Errors) || !(res.Errors[i] > 0) || !isFinite(res.Errors[i]) {
 			return math.NaN()
 		}
 		return res.Errors[i]
@@ -188,7 +189,7 @@ func fitOrbits(s *rvfit.Series, dg *Diagnosis, star *Star) *OrbitSolution {
 			errs[p][q] = math.NaN()
 		}
 	}
-	if res.HessianOK && len(res.Covariance) == len(res.Params) {
+	if len(res.Covariance) == len(res.Params) {
 		errs = drawErrors(res, derive, best, dg.Provenance.Seed)
 		out.Draws = 2000
 	}
@@ -259,6 +260,26 @@ func drawErrors(res *rvfit.FitResult, derive func([]float64) [][6]float64, best 
 	if len(samples) < draws/4 {
 		return out
 	}
+	// A derived quantity that moves with a parameter the data leave
+	// unconstrained (no error, not at a bound: √e cos ω and √e sin ω of
+	// a circular orbit) has no error either; the draws hold that
+	// parameter fixed and would show too small a spread.
+	depends := make([][6]bool, len(best))
+	for j := 0; j < n; j++ {
+		if slices.Contains(free, j) || (j < len(res.AtBound) && res.AtBound[j] != "") {
+			continue
+		}
+		copy(theta, res.Params)
+		theta[j] += 1e-4 * (math.Abs(theta[j]) + 1)
+		moved := derive(theta)
+		for p := range best {
+			for q := 0; q < 6; q++ {
+				if d := moved[p][q] - best[p][q]; !(math.Abs(d) <= 1e-12*(math.Abs(best[p][q])+1)) {
+					depends[p][q] = true
+				}
+			}
+		}
+	}
 	col := make([]float64, len(samples))
 	for p := range best {
 		for q := 0; q < 6; q++ {
@@ -274,7 +295,7 @@ func drawErrors(res *rvfit.FitResult, derive func([]float64) [][6]float64, best 
 			}
 			sort.Float64s(col)
 			lo, hi := col[len(col)*16/100], col[len(col)*84/100]
-			if isFinite(lo) && isFinite(hi) {
+			if isFinite(lo) && isFinite(hi) && !depends[p][q] {
 				out[p][q] = (hi - lo) / 2
 			}
 		}

@@ -193,3 +193,24 @@ func TestWriteReportBadInput(t *testing.T) {
 	}
 	_ = rvfit.DefaultInstrument
 }
+
+// TestCircularOrbitKeepsErrors: the report fixture's planet is on a
+// circular orbit, where ln L is flat to second order in the eccentricity
+// vector. P, K and Tc still have errors (conditional on the eccentricity
+// vector at its best value); the report shows ω as undefined.
+func TestCircularOrbitKeepsErrors(t *testing.T) {
+	r, _ := reportFixture(t)
+	orb := r.Diagnosis.details.orbit
+	if orb == nil || orb.Err != "" || len(orb.Planets) == 0 {
+		t.Fatalf("no orbital solution: %+v", orb)
+	}
+	p := orb.Planets[0]
+	if p.E > 0.05 {
+		t.Skipf("the fixture's orbit came out eccentric (e = %.3f); the test needs a circular one", p.E)
+	}
+	for name, e := range map[string]float64{"P": p.PErr, "K": p.KErr, "Tc": p.TcErr} {
+		if !(e > 0) || !isFinite(e) {
+			t.Errorf("%s error %v on a circular orbit, want a finite error", name, e)
+		}
+	}
+}

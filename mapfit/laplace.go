@@ -224,11 +224,16 @@ func (p *Problem) hessianU(u []float64) *mat.SymDense {
 	return hessianFD(f, grad, u, steps)
 }
 
-// invertCurvature returns H⁻¹ and ln det H when H is positive definite;
-// otherwise the inverse on the subspace of positive curvature, with bad
-// flagging the coordinates that have weight (squared component above
-// 1e-6) in the other directions. It returns a nil covariance when no
-// direction has positive curvature or H holds a NaN.
+// invertCurvature returns H⁻¹ and ln det H when H is positive definite.
+// Otherwise it finds the coordinates that carry the directions without
+// positive curvature (for each such eigenvector, its largest component and
+// every component with a squared weight above 0.1), flags them in bad, and
+// returns the inverse of H restricted to the other coordinates: their
+// covariance conditional on the flagged ones held at the mode. A circular
+// orbit is the common case: ln L is quartic in √e cos ω and √e sin ω at
+// e = 0, while K, P and the phase keep a proper curvature and so an error.
+// The rows and columns of flagged coordinates are zero. It returns a nil
+// covariance when no coordinate is left or H holds a NaN.
 func invertCurvature(H *mat.SymDense) (cov *mat.SymDense, logdet float64, pd bool, bad []bool) {
 	d := H.SymmetricDim()
 	bad = make([]bool, d)
@@ -246,37 +251,88 @@ func invertCurvature(H *mat.SymDense) (cov *mat.SymDense, logdet float64, pd boo
 			return &inv, ch.LogDet(), true, bad
 		}
 	}
-	var eig mat.EigenSym
-	if !eig.Factorize(H, true) {
-		return nil, 0, false, bad
+	// keep maps the coordinates of the current sub-matrix to H's.
+	keep := make([]int, d)
+	for i := range keep {
+		keep[i] = i
 	}
-	vals := eig.Values(nil)
-	var vecs mat.Dense
-	eig.VectorsTo(&vecs)
-	maxv := 0.0
-	for _, v := range vals {
-		maxv = math.Max(maxv, v)
-	}
-	if !(maxv > 0) {
-		return nil, 0, false, bad
-	}
-	cov = mat.NewSymDense(d, nil)
-	for k, lam := range vals {
-		if lam > 1e-10*maxv {
-			for i := 0; i < d; i++ {
-				for j := 0; j <= i; j++ {
-					cov.SetSym(i, j, cov.At(i, j)+vecs.At(i, k)*vecs.At(j, k)/lam)
+	sub := H
+	for len(keep) > 0 {
+		m := len(keep)
+		var eig mat.EigenSym
+		if !eig.Factorize(sub, true) {
+			return nil, 0, false, bad
+		}
+		vals := eig.Values(nil)
+		var vecs mat.Dense
+		eig.VectorsTo(&vecs)
+		maxv := 0.0
+		for _, v := range vals {
+			maxv = math.Max(maxv, v)
+		}
+		if !(maxv > 0) {
+			break
+		}
+		flag := make([]bool, m)
+		for k, lam := range vals {
+			if lam > 1e-10*maxv {
+				continue
+			}
+			big, at := 0.0, 0
+			for i := 0; i < m; i++ {
+				w := vecs.At(i, k)
+				if w*w > 0.1 {
+					flag[i] = true
+				}
+				if math.Abs(w) > big {
+					big, at = math.Abs(w), i
 				}
 			}
-			continue
+			flag[at] = true
 		}
-		for i := 0; i < d; i++ {
-			if w := vecs.At(i, k); w*w > 1e-6 {
-				bad[i] = true
+		var next []int
+		for i, f := range flag {
+			if f {
+				bad[keep[i]] = true
+			} else {
+				next = append(next, keep[i])
 			}
 		}
+		if len(next) == len(keep) {
+			// Every eigenvalue is positive yet the Cholesky failed:
+			// the matrix is too ill-conditioned to invert.
+			break
+		}
+		keep = next
+		if len(keep) == 0 {
+			break
+		}
+		sub = mat.NewSymDense(len(keep), nil)
+		for i, a := range keep {
+			for j, b := range keep[:i+1] {
+				sub.SetSym(i, j, H.At(a, b))
+			}
+		}
+		var c mat.Cholesky
+		if !c.Factorize(sub) {
+			continue
+		}
+		var inv mat.SymDense
+		if err := c.InverseTo(&inv); err != nil {
+			continue
+		}
+		cov = mat.NewSymDense(d, nil)
+		for i, a := range keep {
+			for j, b := range keep[:i+1] {
+				cov.SetSym(a, b, inv.At(i, j))
+			}
+		}
+		return cov, 0, false, bad
 	}
-	return cov, 0, false, bad
+	for i := range bad {
+		bad[i] = true
+	}
+	return nil, 0, false, bad
 }
 
 // LaplaceAt returns the Laplace approximation of p's posterior about the

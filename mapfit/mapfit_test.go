@@ -1,6 +1,7 @@
 package mapfit
 
 import (
+	"gonum.org/v1/gonum/mat"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -240,5 +241,23 @@ func TestUnconstrainedIsNaN(t *testing.T) {
 	}
 	if math.Abs(L.Errors[0]-1) > 1e-3 {
 		t.Errorf("error of the constrained parameter %v, want 1", L.Errors[0])
+	}
+}
+
+func TestFlatDirectionLeavesOthersConstrained(t *testing.T) {
+	// A curvature without curvature along (−e, 1, 0) and (0, 0, 1), as at
+	// a circular orbit, where ln L is quartic in √e cos ω and √e sin ω:
+	// the flat pair is flagged, and the first coordinate, barely coupled
+	// to it, keeps its error (conditional on the pair at the mode). The
+	// earlier rule flagged every coordinate with a squared weight above
+	// 1e-6 in a flat direction, here all three.
+	const e = 3e-3
+	H := mat.NewSymDense(3, []float64{1, e, 0, e, e * e, 0, 0, 0, 0})
+	cov, _, pd, bad := invertCurvature(H)
+	if pd || bad[0] || !bad[1] || !bad[2] {
+		t.Fatalf("positive definite %v, flagged %v; want only the flat pair flagged", pd, bad)
+	}
+	if math.Abs(cov.At(0, 0)-1) > 1e-12 {
+		t.Errorf("variance of the constrained coordinate %v, want 1", cov.At(0, 0))
 	}
 }

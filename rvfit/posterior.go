@@ -103,7 +103,7 @@ func SampleModel(fit *FitResult, opts *SampleOptions) (*Posterior, error) {
 	}
 	sc := m.scales(fit.Params)
 	for i := range sc {
-		if fit.HessianOK && fit.Errors[i] > 0 {
+		if e := fit.Errors[i]; e > 0 && !math.IsInf(e, 1) {
 			sc[i] = fit.Errors[i]
 		}
 	}
