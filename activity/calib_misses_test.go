@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"os"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
@@ -24,6 +25,18 @@ func TestCalibrationMisses(t *testing.T) {
 		t.Skip("a diagnostic tool; set SPOTSIFT_CALIBRATION_MISSES=1 to run it")
 	}
 	n := calibrationSeeds(t, 5)
+	// SPOTSIFT_CALIBRATION_MISSES_FIRST moves the first seed (default 1;
+	// training seeds only, below 1001), to study fresh training stars;
+	// SPOTSIFT_CALIBRATION_GENERATOR=simulator (or ff) keeps one generator.
+	first := 1
+	if v := os.Getenv("SPOTSIFT_CALIBRATION_MISSES_FIRST"); v != "" {
+		f, err := strconv.Atoi(v)
+		if err != nil || f < 1 || f+2*n > 1001 {
+			t.Fatalf("SPOTSIFT_CALIBRATION_MISSES_FIRST=%q: the seeds must stay in the training range 1–1000", v)
+		}
+		first = f
+	}
+	only := strings.ToLower(os.Getenv("SPOTSIFT_CALIBRATION_GENERATOR"))
 	sim, err := CalibrationCases()
 	if err != nil {
 		t.Fatal(err)
@@ -33,14 +46,18 @@ func TestCalibrationMisses(t *testing.T) {
 		seed uint64
 	}
 	var items []item
-	for _, cs := range sim {
-		for s := 1; s <= n; s++ {
-			items = append(items, item{cs, uint64(s)})
+	if only == "" || only == "simulator" {
+		for _, cs := range sim {
+			for s := first; s < first+n; s++ {
+				items = append(items, item{cs, uint64(s)})
+			}
 		}
 	}
-	for _, cs := range ffCases() {
-		for s := 1; s <= 2*n; s++ {
-			items = append(items, item{cs, uint64(s)})
+	if only == "" || only == "ff" {
+		for _, cs := range ffCases() {
+			for s := first; s < first+2*n; s++ {
+				items = append(items, item{cs, uint64(s)})
+			}
 		}
 	}
 	out := make([]string, len(items))

@@ -219,6 +219,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	}
 	var all *sineFit
 	var rels []*relation
+	var rivals []*aliasRival
 	var jointPow, jointBeta []float64
 	if len(freqs) > 0 {
 		all, err = fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
@@ -231,6 +232,13 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		}
 		rels = d.relations(freqs, amps)
 		jointPow, jointBeta = d.jointSignificance(freqs)
+		rivals = make([]*aliasRival, len(freqs))
+		win := d.samplingPeaks()
+		for k := range freqs {
+			if rels[k] == nil {
+				rivals[k] = d.aliasRivals(freqs, k, win, jointBeta[k])
+			}
+		}
 		tEff := d.tEff()
 		for k := range sigs {
 			sigs[k].freq = freqs[k]
@@ -276,8 +284,19 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 			sig.RelatedTo = r.label
 			sig.Caveat = "it is " + r.label
 		}
+		if r := rivals[k]; r != nil && sig.Caveat == "" {
+			sig.Caveat = fmt.Sprintf("its period is ambiguous: the %s at %.4g d fits the data about as well", r.label, 1/r.freq)
+		}
 		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
+		if r := rivals[k]; r != nil {
+			how := "fits about as well as"
+			if r.dchi < 0 {
+				how = "fits better than"
+			}
+			sig.Evidence = append(sig.Evidence, Evidence{Name: "period_alias", Value: Num(r.dchi), Threshold: Num(aliasAmbiguityLimit), Points: TowardNeither,
+				Reason: fmt.Sprintf("the %s at %.4g d %s the period, the other signals in the fit: Δχ² = %+.1f in units of the residual scatter (red noise allowed for), below %.1f; the verdict cannot rest on the period", r.label, 1/r.freq, how, r.dchi, aliasAmbiguityLimit)})
+		}
 		// A planet claim needs the signal to stay significant once
 		// correlated noise is allowed for: by the red-noise factor of the
 		// joint fit's residuals, by surviving the GP activity model, or by

@@ -110,9 +110,29 @@ func (tr *trial) significance(sig *Signal) {
 	tr.add(e)
 }
 
+// diffRotationBlur is the relative spread of the frequencies at which a
+// star's spots rotate: with surface shear ΔΩ/Ω_eq ≈ 0.2 (the Sun's, from
+// memory) and spots up to about 40° of latitude, spot rotation
+// frequencies span Ω_eq (1 − 0.2 sin²40°) to Ω_eq, about 8 %; a rotation
+// period measured from one set of spots may sit anywhere in that span, so
+// activity from other latitudes (or other seasons) lies up to about that
+// far from it.
+const diffRotationBlur = 0.08
+
+// rotationWindow is the half-width in frequency of the window about the
+// harmonic n/P_rot in which a signal cannot be told from rotation: the
+// resolution res, twice the error of n/P_rot from the error perr of P_rot
+// (a one-sigma window would let a third of true rotation signals through),
+// and the differential-rotation spread of n/P_rot, added in quadrature.
+func rotationWindow(n, prot, perr, res float64) float64 {
+	df := n * perr / (prot * prot)
+	dr := n * diffRotationBlur / prot
+	return math.Sqrt(res*res + 4*df*df + dr*dr)
+}
+
 // rotationMatch is test 2: is the period near a rotation period, its
-// harmonics or their aliases, within the frequency resolution and the
-// rotation period's uncertainty? Every rotation hypothesis is considered
+// harmonics or their aliases, within rotationWindow (the resolution,
+// twice the rotation period's error, differential rotation)? Every rotation hypothesis is considered
 // and weighs by its share; P_rot and P_rot/2 are checked before any alias.
 // A signal at P_rot or P_rot/2 of a hypothesis with a share of 10 % or
 // more is never planet-like.
@@ -135,9 +155,7 @@ func (tr *trial) rotationMatch() {
 		var match *harmonic
 		var matchD, matchTol float64
 		for _, h := range harmonicsOf(prot, estimated) {
-			// Uncertainty of the harmonic's frequency n/P from that of P.
-			df := h.n * perr / (prot * prot)
-			tol := math.Hypot(res, df)
+			tol := rotationWindow(h.n, prot, perr, res)
 			dist := math.Abs(tr.f-h.freq) / tol
 			bestD = math.Min(bestD, dist)
 			if dist <= 1 && (match == nil || (!match.strong() && h.strong()) || (match.strong() == h.strong() && dist < matchD)) {
@@ -187,7 +205,7 @@ func (tr *trial) rotationMatch() {
 		default:
 			// A mismatch with a poorly known period says little: it weighs
 			// by how narrow the rotation's own window is.
-			q := tr.d.logShare(1/prot, math.Hypot(res, perr/(prot*prot)))
+			q := tr.d.logShare(1/prot, rotationWindow(1, prot, perr, res))
 			ww := windowWeight(q)
 			total -= hy.Share * w.RotationMismatch * ww
 			parts = append(parts, fmt.Sprintf("unrelated to %s (weight ×%.2f)", lbl, ww))

@@ -163,3 +163,120 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 	}
 	return out
 }
+
+// aliasAmbiguityLimit is the Δχ² (in units of the residual scatter, red
+// noise allowed for) below which an alias of a signal's period fits about
+// as well as the period itself: 2 ln 100, an alias at least 1 % as likely
+// as the period.
+var aliasAmbiguityLimit = 2 * math.Log(100)
+
+// aliasRival is an alias of a signal's period that fits the data about
+// as well as the period itself.
+type aliasRival struct {
+	freq  float64 // the alias's best frequency
+	dchi  float64 // χ²(alias) − χ²(period), in units of the residual scatter and over β²
+	label string  // what kind of alias
+}
+
+// aliasRivals tests, for signal k of freqs, its aliases |f ± f_w| through
+// the sampling's window: the nominal 1-day (sidereal and solar) and 1-year
+// shifts, and the window's own strongest peaks up to 1.1 c/d (samplingPeaks;
+// a programme's nightly visits drift in clock time, so its daily alias
+// need not sit at either nominal day). Each alias frequency is refined
+// within 1.5 resolution elements (noise and activity shift a peak by about
+// one), the other signals held in the joint fit, and its χ² compared with
+// that at f. The difference is taken in units of the joint fit's reduced
+// χ² and divided by β², the residuals' red-noise factor at the period
+// (Pont, Zucker & Queloz 2006). It returns the best alias when it comes
+// within aliasAmbiguityLimit (or fits better), nil otherwise. This is the
+// question Dawson & Fabrycky (2010) answer by comparing periodograms, in
+// its simplest form: the fit of each candidate.
+func (d *data) aliasRivals(freqs []float64, k int, win []float64, beta float64) *aliasRival {
+	base, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
+	if err != nil || base.Dof <= 0 || !isFinite(base.ChiSq) {
+		return nil
+	}
+	b2 := 1.0
+	if isFinite(beta) {
+		b2 = math.Max(1, beta*beta)
+	}
+	scale := math.Max(1, base.ChiSq/float64(base.Dof)) * b2
+	const sidereal, year = 1.0027379, 1 / 365.25
+	type shift struct {
+		df    float64
+		label string
+	}
+	shifts := []shift{{sidereal, "1-day alias"}, {1, "1-day alias"}, {year, "1-year alias"}}
+	for _, fw := range win {
+		label := fmt.Sprintf("alias through the sampling's window peak at %.4g d", 1/fw)
+		switch {
+		case math.Abs(fw-1) < 0.05:
+			label = "1-day alias"
+		case math.Abs(fw-year) < 1.5/d.T:
+			label = "1-year alias"
+		}
+		shifts = append(shifts, shift{fw, label})
+	}
+	f := freqs[k]
+	res := 1 / d.T
+	var best *aliasRival
+	trial := append([]float64(nil), freqs...)
+	for _, sh := range shifts {
+		for _, fa := range []float64{math.Abs(f - sh.df), f + sh.df} {
+			if fa < d.grid.FMin || fa > d.grid.FMax() || math.Abs(fa-f) < res {
+				continue
+			}
+			bestChi, bestF := math.Inf(1), fa
+			for s := -12; s <= 12; s++ {
+				trial[k] = fa + float64(s)*res/8
+				// The refinement stays half a resolution element
+				// away from the period itself.
+				if trial[k] <= 0 || math.Abs(trial[k]-f) < res/2 {
+					continue
+				}
+				if fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0); err == nil && fit.ChiSq < bestChi {
+					bestChi, bestF = fit.ChiSq, trial[k]
+				}
+			}
+			dchi := (bestChi - base.ChiSq) / scale
+			if dchi < aliasAmbiguityLimit && (best == nil || dchi < best.dchi) {
+				best = &aliasRival{freq: bestF, dchi: dchi, label: sh.label}
+			}
+		}
+		if d.ctx.Err() != nil {
+			return best
+		}
+	}
+	return best
+}
+
+// samplingPeaks returns the frequencies of the sampling's spectral-window
+// peaks above 0.3 of W(0), from 1.5/T to 1.1 c/d (so that the daily
+// alias is seen whatever the periods searched), the strongest first, at
+// most six.
+func (d *data) samplingPeaks() []float64 {
+	g, err := rvfit.NewGrid(d.t, &rvfit.GridOptions{FMin: 1.5 / d.T, FMax: 1.1})
+	if err != nil {
+		return nil
+	}
+	w, err := rvfit.Window(d.t, nil, g, &rvfit.GLSOptions{Context: d.ctx})
+	if err != nil {
+		return nil
+	}
+	type pk struct{ f, w float64 }
+	var pks []pk
+	for k := 1; k+1 < len(w); k++ {
+		if w[k] > 0.3 && w[k] >= w[k-1] && w[k] >= w[k+1] {
+			pks = append(pks, pk{g.Freq(k), w[k]})
+		}
+	}
+	sort.SliceStable(pks, func(a, b int) bool { return pks[a].w > pks[b].w })
+	var out []float64
+	for _, p := range pks {
+		if len(out) == 6 {
+			break
+		}
+		out = append(out, p.f)
+	}
+	return out
+}

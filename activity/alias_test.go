@@ -1,0 +1,74 @@
+package activity
+
+import (
+	"context"
+	"math"
+	"strings"
+	"testing"
+)
+
+// TestAliasRival: nightly sampling puts a 15.46 d signal's 1-day alias at
+// 1/(1.0027379 − 1/15.46) ≈ 1.069 d (sidereal day, common practice).
+// Judged at the alias, the signal must be flagged as ambiguous, with the
+// true period found fitting better; judged at its own period with a
+// strong signal, no alias comes close. A weak signal (K/σ_K about 3) at its
+// own period is ambiguous: its 1-day alias fits nearly as well.
+func TestAliasRival(t *testing.T) {
+	const p = 15.46
+	alias := 1 / (1.0027379 - 1/p)
+	diag := func(amp float64, period float64) *Signal {
+		t.Helper()
+		s := synth(5, 1, sine(amp, p, 0.3), nil, nil)
+		dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{period}, SkipModels: true, Seed: 5})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return &dg.Signals[0]
+	}
+	sg := diag(5, alias)
+	e := evidence(sg, "period_alias")
+	if e == nil || !strings.Contains(sg.Caveat, "ambiguous") || sg.Verdict == PlanetLike {
+		t.Fatalf("judged at the alias %.4f d: caveat %q, verdict %s, alias evidence %+v", alias, sg.Caveat, sg.Verdict, e)
+	}
+	if !(float64(e.Value) < 0) || !strings.Contains(e.Reason, "15.4") {
+		t.Errorf("the true period should fit better: %s", e.Reason)
+	}
+	if e := evidence(diag(5, p), "period_alias"); e != nil {
+		t.Errorf("a strong signal at its own period: %s", e.Reason)
+	}
+	// K/σ_K = amp/sqrt(2/N) ≈ 3 for N ≈ 195 epochs.
+	weak := diag(0.3, p)
+	if e := evidence(weak, "period_alias"); e == nil || math.IsNaN(float64(e.Value)) {
+		t.Errorf("a weak signal under nightly sampling: no alias rival (verdict %s, caveat %q)", weak.Verdict, weak.Caveat)
+	}
+}
+
+// TestRotationWindowDifferentialRotation: a star file gives P_rot = 25 ±
+// 0.25 d, measured from spots at some latitude; a signal 7 % faster is
+// within the spread of the star's spot rotation periods (differential
+// rotation) and must match the rotation, though it lies 1.4 resolution
+// elements and 11 errors of P_rot away.
+func TestRotationWindowDifferentialRotation(t *testing.T) {
+	p := 25 / 1.07
+	s := synth(9, 1, sine(6, p, 0.2), nil, nil)
+	star := &Star{Name: "Tessal-4", RotationPeriod: 25, RotationPeriodErr: 0.25}
+	dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{p}, Star: star, SkipModels: true, Seed: 9})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sg := dg.Signals[0]
+	e := evidence(&sg, "rotation_match")
+	if e == nil || e.Points != TowardActivity || sg.Caveat == "" || sg.Verdict == PlanetLike {
+		t.Fatalf("a signal at %.3f d with P_rot = 25 d: verdict %s, caveat %q, rotation match %+v", p, sg.Verdict, sg.Caveat, e)
+	}
+	// Far outside the spread (P_rot/1.3), the period is unrelated.
+	q := 25 / 1.3
+	s = synth(9, 1, sine(6, q, 0.2), nil, nil)
+	dg, err = Diagnose(context.Background(), s, &Options{Periods: []float64{q}, Star: star, SkipModels: true, Seed: 9})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e := evidence(&dg.Signals[0], "rotation_match"); e == nil || e.Points != TowardPlanet {
+		t.Errorf("a signal at %.3f d with P_rot = 25 d: rotation match %+v", q, e)
+	}
+}
