@@ -208,7 +208,7 @@ func (d *data) aliasRivals(freqs []float64, k int, win []float64, beta float64) 
 	}
 	shifts := []shift{{sidereal, "1-day alias"}, {1, "1-day alias"}, {year, "1-year alias"}}
 	for _, fw := range win {
-		label := fmt.Sprintf("alias through the sampling's window peak at %.4g d", 1/fw)
+		label := fmt.Sprintf("alias (through the sampling's window peak at %.4g d)", 1/fw)
 		switch {
 		case math.Abs(fw-1) < 0.05:
 			label = "1-day alias"
@@ -229,9 +229,10 @@ func (d *data) aliasRivals(freqs []float64, k int, win []float64, beta float64) 
 			bestChi, bestF := math.Inf(1), fa
 			for s := -12; s <= 12; s++ {
 				trial[k] = fa + float64(s)*res/8
-				// The refinement stays half a resolution element
-				// away from the period itself.
-				if trial[k] <= 0 || math.Abs(trial[k]-f) < res/2 {
+				// The refinement stays outside the main lobe of the
+				// period's own peak (one resolution element), where
+				// the fit is the period's, not an alias's.
+				if trial[k] <= 0 || math.Abs(trial[k]-f) < res {
 					continue
 				}
 				if fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0); err == nil && fit.ChiSq < bestChi {
