@@ -170,6 +170,13 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 // as the period.
 var aliasAmbiguityLimit = 2 * math.Log(100)
 
+// aliasMinSeparation is the smallest relative separation in frequency
+// at which an alias can change a verdict: a 1-year alias of a 3.7 d
+// period moves it by 0.4 %, far less than the rotation windows' own
+// differential-rotation spread (diffRotationBlur), so the two are one
+// answer to "planet or activity?", only the period's last digits differ.
+const aliasMinSeparation = 0.05
+
 // aliasRival is an alias of a signal's period that fits the data about
 // as well as the period itself.
 type aliasRival struct {
@@ -223,7 +230,7 @@ func (d *data) aliasRivals(freqs []float64, k int, win []float64, beta float64) 
 	trial := append([]float64(nil), freqs...)
 	for _, sh := range shifts {
 		for _, fa := range []float64{math.Abs(f - sh.df), f + sh.df} {
-			if fa < d.grid.FMin || fa > d.grid.FMax() || math.Abs(fa-f) < res {
+			if fa < d.grid.FMin || fa > d.grid.FMax() || math.Abs(fa-f) < res || math.Abs(math.Log(fa/f)) < aliasMinSeparation {
 				continue
 			}
 			bestChi, bestF := math.Inf(1), fa
@@ -232,7 +239,7 @@ func (d *data) aliasRivals(freqs []float64, k int, win []float64, beta float64) 
 				// The refinement stays outside the main lobe of the
 				// period's own peak (one resolution element), where
 				// the fit is the period's, not an alias's.
-				if trial[k] <= 0 || math.Abs(trial[k]-f) < res {
+				if trial[k] <= 0 || math.Abs(trial[k]-f) < res || math.Abs(math.Log(trial[k]/f)) < aliasMinSeparation {
 					continue
 				}
 				if fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0); err == nil && fit.ChiSq < bestChi {
