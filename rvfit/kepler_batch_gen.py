@@ -1,4 +1,4 @@
-# Generates kepler_batch.go (run: python3 kepler_batch_gen.py a,b,c,d; then gofmt -w kepler_batch.go).
+# Generates kepler_batch.go (run: python3 kepler_batch_gen.py a,b,c,d,g,h; then gofmt -w kepler_batch.go).
 # The lane body mirrors markley() in kepler.go; keep the two in step.
 import sys
 lanes = sys.argv[1].split(',')

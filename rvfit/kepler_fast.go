@@ -2,23 +2,40 @@ package rvfit
 
 import "math"
 
-// sinCosHalfTurn returns sin x and cos x for x in [0, π] by Taylor
-// polynomials about π/2 (|y| ≤ π/2, truncation error below 3e-16). It
-// avoids the general argument reduction of math.Sincos, which the Kepler
-// solver never needs.
+// Minimax polynomials for sin y and cos y on |y| ≤ π/2, fitted by a Remez
+// exchange in extended precision (kepler_minimax.py; numpy 1.24.2
+// longdouble): sin y ≈ y + y³(ksin3 + ksin5 y² + … + ksin15 y¹²) and
+// cos y ≈ 1 − y²/2 + y⁴(kcos4 + kcos6 y² + … + kcos16 y¹²). Their largest
+// errors against math.Sin and math.Cos, evaluated in float64, are checked
+// by TestSinCosHalfTurn.
+const (
+	ksin3  = -0.1666666666666572
+	ksin5  = 0.008333333333257186
+	ksin7  = -0.00019841269818564
+	ksin9  = 2.7557315879185666e-06
+	ksin11 = -2.50518386651645e-08
+	ksin13 = 1.6046897556781105e-10
+	ksin15 = -7.359742149915328e-13
+
+	kcos4  = 0.04166666666666643
+	kcos6  = -0.0013888888888863925
+	kcos8  = 2.4801587292863337e-05
+	kcos10 = -2.7557317788871577e-07
+	kcos12 = 2.087663099714682e-09
+	kcos14 = -1.1464666993890705e-11
+	kcos16 = 4.627153587226547e-14
+)
+
+// sinCosHalfTurn returns sin x and cos x for x in [0, π] from the minimax
+// polynomials above about y = x − π/2. It avoids the general argument
+// reduction of math.Sincos, which the Kepler solver never needs.
 func sinCosHalfTurn(x float64) (s, c float64) {
 	y := x - math.Pi/2
 	z := y * y
-	// cos y, to y^22/22!.
-	cy := 1 + z*(-1.0/2+z*(1.0/24+z*(-1.0/720+z*(1.0/40320+z*(-1.0/3628800+z*(1.0/479001600+
-		z*(-1.0/87178291200+z*(1.0/20922789888000+z*(-1.0/6402373705728000+z*(1.0/2432902008176640000+
-			z*(-1.0/1124000727777607680000)))))))))))
-	// sin y, to y^21/21!.
-	sy := y * (1 + z*(-1.0/6+z*(1.0/120+z*(-1.0/5040+z*(1.0/362880+z*(-1.0/39916800+z*(1.0/6227020800+
-		z*(-1.0/1307674368000+z*(1.0/355687428096000+z*(-1.0/121645100408832000+
-			z*(1.0/51090942171709440000)))))))))))
 	// sin x = cos y, cos x = −sin y.
-	return cy, -sy
+	s = 1 + z*(-0.5+z*(kcos4+z*(kcos6+z*(kcos8+z*(kcos10+z*(kcos12+z*(kcos14+z*kcos16)))))))
+	c = -y - y*z*(ksin3+z*(ksin5+z*(ksin7+z*(ksin9+z*(ksin11+z*(ksin13+z*ksin15))))))
+	return s, c
 }
 
 // pow23 returns x^(2/3) for x > 0 via a bit-level cube-root estimate and

@@ -168,6 +168,45 @@ func BenchmarkKeplerBatch(b *testing.B) {
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/nm, "ns/solve")
 }
 
+// BenchmarkKeplerBatchSinCos times the batch as the RV model uses it, with
+// sin E and cos E written beside E; same inputs as BenchmarkKeplerBatch.
+func BenchmarkKeplerBatchSinCos(b *testing.B) {
+	const ne, nm = 96, 1024
+	M := make([]float64, nm)
+	for i := range M {
+		M[i] = 2 * math.Pi * math.Mod(float64(i)*0.6180339887498949, 1)
+	}
+	E := make([]float64, nm)
+	s := make([]float64, nm)
+	c := make([]float64, nm)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		e := 0.95 * float64(i%ne) / (ne - 1)
+		keplerBatch(E, s, c, M, e)
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/nm, "ns/solve")
+}
+
+// TestSinCosHalfTurn checks the solver's minimax sine and cosine against
+// math.Sincos on 10^6 + 1 points of [0, π] (its whole domain). The bound,
+// 5e-16, is a few float64 rounding units: measured 3.8e-16 (sine) and
+// 4.4e-16 (cosine).
+func TestSinCosHalfTurn(t *testing.T) {
+	const n = 1000000
+	ws, wc := 0.0, 0.0
+	for i := 0; i <= n; i++ {
+		x := math.Pi * float64(i) / n
+		s, c := sinCosHalfTurn(x)
+		rs, rc := math.Sincos(x)
+		ws = math.Max(ws, math.Abs(s-rs))
+		wc = math.Max(wc, math.Abs(c-rc))
+	}
+	if !(ws <= 5e-16 && wc <= 5e-16) {
+		t.Errorf("largest error: sine %.3g, cosine %.3g; want ≤ 5e-16", ws, wc)
+	}
+	t.Logf("largest error: sine %.3g, cosine %.3g", ws, wc)
+}
+
 func TestKeplerBatchSinCos(t *testing.T) {
 	M := make([]float64, 1003)
 	for i := range M {
