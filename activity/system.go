@@ -92,7 +92,13 @@ type relation struct {
 // sampling's spectral window (above 0.2 of W(0), at most three, away from
 // zero frequency): a true frequency f has aliases at |f ± f_w|.
 func (d *data) windowPeaks() []float64 {
-	g := d.grid
+	return d.peaksOfWindow(d.grid, 2/d.T, 0.2, 3)
+}
+
+// peaksOfWindow returns the frequencies of the local maxima of the
+// sampling's spectral window on grid g above fmin and above level (a
+// fraction of W(0)), the strongest first, at most max.
+func (d *data) peaksOfWindow(g rvfit.Grid, fmin, level float64, max int) []float64 {
 	w, err := rvfit.Window(d.t, nil, g, &rvfit.GLSOptions{Context: d.ctx})
 	if err != nil {
 		return nil
@@ -100,14 +106,14 @@ func (d *data) windowPeaks() []float64 {
 	type pk struct{ f, w float64 }
 	var pks []pk
 	for k := 1; k+1 < len(w); k++ {
-		if w[k] > 0.2 && w[k] >= w[k-1] && w[k] >= w[k+1] && g.Freq(k) > 2/d.T {
+		if w[k] > level && w[k] >= w[k-1] && w[k] >= w[k+1] && g.Freq(k) > fmin {
 			pks = append(pks, pk{g.Freq(k), w[k]})
 		}
 	}
 	sort.SliceStable(pks, func(a, b int) bool { return pks[a].w > pks[b].w })
 	var out []float64
 	for _, p := range pks {
-		if len(out) == 3 {
+		if len(out) == max {
 			break
 		}
 		out = append(out, p.f)
@@ -267,24 +273,5 @@ func (d *data) samplingPeaks() []float64 {
 	if err != nil {
 		return nil
 	}
-	w, err := rvfit.Window(d.t, nil, g, &rvfit.GLSOptions{Context: d.ctx})
-	if err != nil {
-		return nil
-	}
-	type pk struct{ f, w float64 }
-	var pks []pk
-	for k := 1; k+1 < len(w); k++ {
-		if w[k] > 0.3 && w[k] >= w[k-1] && w[k] >= w[k+1] {
-			pks = append(pks, pk{g.Freq(k), w[k]})
-		}
-	}
-	sort.SliceStable(pks, func(a, b int) bool { return pks[a].w > pks[b].w })
-	var out []float64
-	for _, p := range pks {
-		if len(out) == 6 {
-			break
-		}
-		out = append(out, p.f)
-	}
-	return out
+	return d.peaksOfWindow(g, 0, 0.3, 6)
 }
