@@ -236,7 +236,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		win := d.samplingPeaks()
 		for k := range freqs {
 			if rels[k] == nil {
-				rivals[k] = d.aliasRivals(freqs, k, win, jointBeta[k])
+				rivals[k] = d.aliasRivals(all, freqs, k, win, jointBeta[k])
 			}
 		}
 		tEff := d.tEff()

@@ -174,7 +174,7 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 // noise allowed for) below which an alias of a signal's period fits about
 // as well as the period itself: 2 ln 100, an alias at least 1 % as likely
 // as the period.
-var aliasAmbiguityLimit = 2 * math.Log(100)
+const aliasAmbiguityLimit = 9.210340371976184 // 2 ln 100
 
 // aliasMinSeparation is the smallest relative separation in frequency
 // at which an alias can change a verdict: a 1-year alias of a 3.7 d
@@ -200,13 +200,12 @@ type aliasRival struct {
 // one), the other signals held in the joint fit, and its χ² compared with
 // that at f. The difference is taken in units of the joint fit's reduced
 // χ² and divided by β², the residuals' red-noise factor at the period
-// (Pont, Zucker & Queloz 2006). It returns the best alias when it comes
+// (Pont, Zucker & Queloz 2006); base is the joint fit at freqs. It returns the best alias when it comes
 // within aliasAmbiguityLimit (or fits better), nil otherwise. This is the
 // question Dawson & Fabrycky (2010) answer by comparing periodograms, in
 // its simplest form: the fit of each candidate.
-func (d *data) aliasRivals(freqs []float64, k int, win []float64, beta float64) *aliasRival {
-	base, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
-	if err != nil || base.Dof <= 0 || !isFinite(base.ChiSq) {
+func (d *data) aliasRivals(base *sineFit, freqs []float64, k int, win []float64, beta float64) *aliasRival {
+	if base == nil || base.Dof <= 0 || !isFinite(base.ChiSq) {
 		return nil
 	}
 	b2 := 1.0
