@@ -123,7 +123,8 @@ const diffRotationBlur = 0.08
 // harmonic n/P_rot in which a signal cannot be told from rotation: the
 // resolution res, twice the error of n/P_rot from the error perr of P_rot
 // (a one-sigma window would let a third of true rotation signals through),
-// and the differential-rotation spread of n/P_rot, added in quadrature.
+// and the differential-rotation spread of n/P_rot, added in quadrature
+// (docs/methods.md §14.9).
 func rotationWindow(n, prot, perr, res float64) float64 {
 	df := n * perr / (prot * prot)
 	dr := n * diffRotationBlur / prot

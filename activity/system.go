@@ -203,7 +203,7 @@ type aliasRival struct {
 // (Pont, Zucker & Queloz 2006); base is the joint fit at freqs. It returns the best alias when it comes
 // within aliasAmbiguityLimit (or fits better), nil otherwise. This is the
 // question Dawson & Fabrycky (2010) answer by comparing periodograms, in
-// its simplest form: the fit of each candidate.
+// its simplest form: the fit of each candidate (docs/methods.md §14.6).
 func (d *data) aliasRivals(base *sineFit, freqs []float64, k int, win []float64, beta float64) *aliasRival {
 	if base == nil || base.Dof <= 0 || !isFinite(base.ChiSq) {
 		return nil
