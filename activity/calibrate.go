@@ -431,7 +431,7 @@ func CalibrationCases() ([]CalibrationCase, error) {
 	activityOr := func(sc *starsim.Scenario, planets ...float64) func(float64) string {
 		return func(p float64) string {
 			for _, q := range planets {
-				if near(p, 0.01, q) || near(p, 0.01, 1/math.Abs(1/q-1.0027379)) {
+				if near(p, 0.01, q) || near(p, 0.01, 1/math.Abs(1/q-siderealFreq)) {
 					if nearHarmonic(1/q, sc.Star.RotationPeriod, sc.Star.DiffRotation, 1.5/(sc.Observing.End-sc.Observing.Start)) {
 						return "planet near a harmonic"
 					}

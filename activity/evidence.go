@@ -19,8 +19,6 @@ import (
 // is added: a star with spots on opposite hemispheres shows its strongest
 // indicator signal at P_rot/2, so the estimate may itself be a harmonic.
 func harmonicsOf(prot float64, estimated bool) []harmonic {
-	const sidereal = 1.0027379 // c/d, one sidereal day (from memory)
-	const year = 1 / 365.25    // c/d
 	var out []harmonic
 	ns := []float64{1, 2, 3, 4}
 	if estimated {
@@ -41,7 +39,7 @@ func harmonicsOf(prot float64, estimated bool) []harmonic {
 		for _, a := range []struct {
 			label string
 			df    float64
-		}{{"1-day alias", sidereal}, {"1-year alias", year}} {
+		}{{"1-day alias", siderealFreq}, {"1-year alias", yearFreq}} {
 			for _, sgn := range []float64{-1, 1} {
 				if g := math.Abs(f + sgn*a.df); g > 0 {
 					out = append(out, harmonic{fmt.Sprintf("%s of %s", a.label, out[slices.IndexFunc(out, func(h harmonic) bool { return h.n == n && !h.alias })].label), g, n, true})
@@ -51,6 +49,13 @@ func harmonicsOf(prot float64, estimated bool) []harmonic {
 	}
 	return out
 }
+
+// The frequencies of the sampling's usual aliases, in c/d: one sidereal
+// day (1.0027379 c/d, from memory) and one Julian year.
+const (
+	siderealFreq = 1.0027379
+	yearFreq     = 1 / 365.25
+)
 
 type harmonic struct {
 	label string

@@ -692,7 +692,7 @@ func periodMarkers(dg *Diagnosis, pmin, pmax float64) []marker {
 	in := func(p float64) bool { return p >= pmin && p <= pmax && plottable(p) }
 	for _, sg := range dg.Signals {
 		f := float64(sg.Freq)
-		for _, a := range []float64{math.Abs(f - 1.0027379), f + 1.0027379} {
+		for _, a := range []float64{math.Abs(f - siderealFreq), f + siderealFreq} {
 			if a > 0 && in(1/a) {
 				out = append(out, marker{1 / a, "", inkAlias, 1})
 			}

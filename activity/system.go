@@ -135,7 +135,6 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 	}
 	sort.SliceStable(order, func(a, b int) bool { return amps[order[a]] > amps[order[b]] })
 	tol := 1 / d.T
-	const sidereal, year = 1.0027379, 1 / 365.25
 	win := d.windowPeaks()
 	for r, k := range order {
 		for _, j := range order[:r] {
@@ -155,7 +154,7 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 			for _, a := range []struct {
 				df   float64
 				what string
-			}{{sidereal, "1-day alias"}, {year, "1-year alias"}} {
+			}{{siderealFreq, "1-day alias"}, {yearFreq, "1-year alias"}} {
 				if out[k] == nil && (math.Abs(fk-math.Abs(fj-a.df)) <= tol || math.Abs(fk-(fj+a.df)) <= tol) {
 					out[k] = &relation{j, fmt.Sprintf("the %s of %s", a.what, name)}
 				}
@@ -213,18 +212,17 @@ func (d *data) aliasRivals(base *sineFit, freqs []float64, k int, win []float64,
 		b2 = math.Max(1, beta*beta)
 	}
 	scale := math.Max(1, base.ChiSq/float64(base.Dof)) * b2
-	const sidereal, year = 1.0027379, 1 / 365.25
 	type shift struct {
 		df    float64
 		label string
 	}
-	shifts := []shift{{sidereal, "1-day alias"}, {1, "1-day alias"}, {year, "1-year alias"}}
+	shifts := []shift{{siderealFreq, "1-day alias"}, {1, "1-day alias"}, {yearFreq, "1-year alias"}}
 	for _, fw := range win {
 		label := fmt.Sprintf("alias (through the sampling's window peak at %.4g d)", 1/fw)
 		switch {
 		case math.Abs(fw-1) < 0.05:
 			label = "1-day alias"
-		case math.Abs(fw-year) < 1.5/d.T:
+		case math.Abs(fw-yearFreq) < 1.5/d.T:
 			label = "1-year alias"
 		}
 		shifts = append(shifts, shift{fw, label})
