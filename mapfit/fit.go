@@ -31,8 +31,9 @@ type Problem struct {
 	// Starts are the starting points in natural parameters (at least one).
 	Starts [][]float64
 
-	natural bool            // Settings.NaturalMAP of the current fit
-	ctx     context.Context // Settings.Context of the current fit, or nil
+	natural   bool            // Settings.NaturalMAP of the current fit
+	marginals bool            // Settings.Marginals of the current fit
+	ctx       context.Context // Settings.Context of the current fit, or nil
 }
 
 // Settings controls Fit. A nil *Settings means the defaults.
@@ -56,6 +57,13 @@ type Settings struct {
 	// themselves, scales included (by default a scale's optimum is that of
 	// ln x; see Fit). For callers whose priors are flat in x.
 	NaturalMAP bool
+	// Marginals replaces the Laplace percentiles (Laplace.Median, Lo,
+	// Hi) of every parameter whose posterior the Gaussian describes
+	// badly by those of its marginal, integrated over the others by a
+	// Laplace approximation at each of its values (see marginal.go):
+	// two conditional optima per parameter to test, ten to thirty for a
+	// parameter that fails the test.
+	Marginals bool
 	// Context, when not nil, stops the fit soon after it is cancelled:
 	// every later evaluation of the posterior is skipped (the optimisers
 	// give up) and Fit returns the context's error. Nil: never cancelled.
@@ -152,6 +160,7 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	pc := *p
 	pc.natural = s.NaturalMAP
 	pc.ctx = s.Context
+	pc.marginals = s.Marginals
 	p = &pc
 	d := len(p.Space)
 	if len(p.Starts) == 0 {

@@ -55,6 +55,9 @@ type Laplace struct {
 	Median []float64 `json:"median"`
 	Lo     []float64 `json:"p16"`
 	Hi     []float64 `json:"p84"`
+	// Marginal flags the parameters whose Median, Lo and Hi are those of
+	// the marginal found where the Gaussian failed (Settings.Marginals).
+	Marginal []bool `json:"marginal"`
 
 	covU *mat.SymDense // H⁻¹ in u
 }
@@ -63,7 +66,7 @@ type Laplace struct {
 func (p *Problem) laplace(xhat []float64) *Laplace {
 	d := len(p.Space)
 	out := &Laplace{LogEvidence: math.NaN(), Errors: make([]float64, d), Unconstrained: make([]bool, d),
-		Median: make([]float64, d), Lo: make([]float64, d), Hi: make([]float64, d)}
+		Median: make([]float64, d), Lo: make([]float64, d), Hi: make([]float64, d), Marginal: make([]bool, d)}
 	for i := range out.Errors {
 		out.Errors[i], out.Median[i], out.Lo[i], out.Hi[i] = math.NaN(), math.NaN(), math.NaN(), math.NaN()
 	}

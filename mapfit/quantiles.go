@@ -206,6 +206,14 @@ func (p *Problem) naturalQuantiles(L *Laplace, xhat []float64, cu *curvatureU) {
 	if n < d && cu != nil && cu.pd {
 		addBoundVariance(&cov, p, idx, xhat, cu)
 	}
+	if p.marginals {
+		// Where the Gaussian fails, the marginal (see marginal.go).
+		var u []float64
+		if cu != nil {
+			u = cu.u
+		}
+		defer p.refineMarginals(L, xhat, u, idx, steps)
+	}
 	var chc mat.Cholesky
 	if !chc.Factorize(&cov) {
 		return
