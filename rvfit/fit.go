@@ -39,6 +39,11 @@ type FitOptions struct {
 	// MaxEvaluations caps the log-posterior evaluations per start; zero
 	// means 4000 per parameter.
 	MaxEvaluations int
+	// Marginals gives a parameter whose posterior the Laplace Gaussian
+	// describes badly the percentiles (Median, Lo, Hi) of its marginal
+	// instead (mapfit.Settings.Marginals): slower by a few conditional
+	// optima per parameter.
+	Marginals bool
 }
 
 // FitResult is the outcome of FitModel: the maximum a posteriori (MAP)
@@ -64,6 +69,10 @@ type FitResult struct {
 	Median []float64 `json:"laplace_median"`
 	Lo     []float64 `json:"laplace_p16"`
 	Hi     []float64 `json:"laplace_p84"`
+	// Marginal flags the parameters whose Median, Lo and Hi are those of
+	// the marginal found where the Gaussian failed (FitOptions.Marginals,
+	// mapfit.Settings.Marginals).
+	Marginal []bool `json:"laplace_marginal,omitempty"`
 	// HessianOK reports whether the Hessian was positive definite (else the
 	// covariance is taken on the subspace of positive curvature and
 	// LogEvidence is NaN).
@@ -225,7 +234,7 @@ func FitModel(s *Series, nPlanets int, noise NoiseModel, opts *FitOptions) (*Fit
 	if m.HasGradient() {
 		prob.Grad = m.wrappedLogPosteriorGrad
 	}
-	fit, err := mapfit.Fit(prob, &mapfit.Settings{MaxEvaluations: o.MaxEvaluations, NelderMead: true, Workers: workers(o.Workers)})
+	fit, err := mapfit.Fit(prob, &mapfit.Settings{MaxEvaluations: o.MaxEvaluations, NelderMead: true, Workers: workers(o.Workers), Marginals: o.Marginals})
 	if err != nil {
 		if errors.Is(err, mapfit.ErrNoStart) {
 			return nil, fmt.Errorf("%s: %w: no start reached a finite posterior", s.Name, ErrNoConvergence)
@@ -540,6 +549,12 @@ func (m *Model) finish(out *FitResult, theta []float64, mstar float64, L *mapfit
 		copy(out.Median, L.Median)
 		copy(out.Lo, L.Lo)
 		copy(out.Hi, L.Hi)
+		for _, m := range L.Marginal {
+			if m {
+				out.Marginal = append([]bool(nil), L.Marginal...)
+				break
+			}
+		}
 		// The tc of the interval in the same one-period window as θ̂.
 		for p := 0; p < m.nPlanets; p++ {
 			if i := 5*p + 4; m.tcFree[p] && !math.IsNaN(out.Median[i]) {

@@ -91,7 +91,14 @@ func (r *FitResult) WriteParams(w io.Writer) error {
 		if i < len(r.AtBound) && r.AtBound[i] != "" {
 			note = "at " + r.AtBound[i] + " of its prior"
 		}
-		if i < len(r.Median) && (r.Params[i] < r.Lo[i] || r.Params[i] > r.Hi[i]) {
+		if i < len(r.Marginal) && r.Marginal[i] {
+			// Percentiles of the marginal (the Gaussian failed): its own
+			// median, which need not be the MAP.
+			note += fmt.Sprintf("; marginal 68%%: %.3g to %.3g, median %.3g", r.Lo[i], r.Hi[i], r.Median[i])
+			if r.Params[i] < r.Lo[i] || r.Params[i] > r.Hi[i] {
+				lo, hi = "—", "—"
+			}
+		} else if i < len(r.Median) && (r.Params[i] < r.Lo[i] || r.Params[i] > r.Hi[i]) {
 			// A MAP outside its own 68% interval (on a bound): the
 			// interval itself.
 			note += fmt.Sprintf("; Laplace 68%%: %.3g to %.3g", r.Lo[i], r.Hi[i])

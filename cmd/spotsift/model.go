@@ -91,7 +91,7 @@ autocorrelation time and convergence.`)
 	if err != nil {
 		return fail(e, exitUsage, fmt.Errorf("model: --activity: %w", err))
 	}
-	opts := &rvfit.FitOptions{Starts: *starts, Seed: c.seed, Workers: c.workers, Periods: ps, Model: &rvfit.ModelOptions{Priors: priors}}
+	opts := &rvfit.FitOptions{Starts: *starts, Seed: c.seed, Workers: c.workers, Periods: ps, Model: &rvfit.ModelOptions{Priors: priors}, Marginals: true}
 	if star != nil {
 		opts.StarMass = star.Mass
 	}
