@@ -33,6 +33,7 @@ type Problem struct {
 
 	natural   bool            // Settings.NaturalMAP of the current fit
 	marginals bool            // Settings.Marginals of the current fit
+	workers   int             // Settings.Workers of the current fit (≥ 1)
 	ctx       context.Context // Settings.Context of the current fit, or nil
 }
 
@@ -45,8 +46,8 @@ type Settings struct {
 	// quasi-Newton polish (for rough, multimodal posteriors such as
 	// Keplerian ones).
 	NelderMead bool
-	// Workers runs starts in parallel; zero means GOMAXPROCS. Results do
-	// not depend on it.
+	// Workers runs starts (and the marginals of Marginals) in parallel;
+	// zero means GOMAXPROCS. Results do not depend on it.
 	Workers int
 	// AgreeTol is the difference in ln posterior within which a start is
 	// counted as reaching the best optimum; zero means 0.5.
@@ -62,7 +63,8 @@ type Settings struct {
 	// badly by those of its marginal, integrated over the others by a
 	// Laplace approximation at each of its values (see marginal.go):
 	// two conditional optima per parameter to test, ten to thirty for a
-	// parameter that fails the test.
+	// parameter that fails the test (about half the fit's own cost for
+	// the GP models of "model").
 	Marginals bool
 	// Context, when not nil, stops the fit soon after it is cancelled:
 	// every later evaluation of the posterior is skipped (the optimisers
@@ -185,6 +187,7 @@ func Fit(p *Problem, set *Settings) (*Result, error) {
 	if nw <= 0 {
 		nw = runtime.GOMAXPROCS(0)
 	}
+	p.workers = nw
 	nw = min(nw, len(u0))
 	jobs := make(chan int)
 	var wg worker.Group

@@ -6,6 +6,8 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/optimize"
+
+	"spotsift/internal/worker"
 )
 
 // Marginal percentiles where the Gaussian fails (Settings.Marginals).
@@ -19,7 +21,7 @@ import (
 // the marginal density is approximated by the Laplace approximation of
 // the integral over all the others at each fixed value t of its
 // coordinate (Tierney & Kadane 1986, JASA 81, 82, from memory; see
-// docs/methods.md, "Laplace errors and marginals"):
+// docs/methods.md §9):
 //
 //	ln m(t) ≈ max_o ln p_v(t, o) − ½ ln det H_oo(t),
 //
@@ -469,7 +471,7 @@ func (h *vProblem) marginal(k int, c mpoint, cov *mat.SymDense, med float64) (q 
 			break
 		}
 	}
-	return gridQuantiles(pts, edgeL, edgeR, 0)
+	return gridQuantiles(pts, edgeL, edgeR)
 }
 
 // refineMarginals replaces the percentiles of every parameter inside its
@@ -565,12 +567,15 @@ func (p *Problem) refineMarginals(L *Laplace, xhat, u []float64, free []int, wst
 	if !found {
 		return
 	}
-	for k, i := range h.idx {
+	// One parameter per job; each writes only its own entries of L, so the
+	// result does not depend on the number of workers.
+	one1 := func(k int) {
+		i := h.idx[k]
 		if ab[i] != Inside {
-			continue
+			return
 		}
 		one := Space{p.Space[i]}
-		// toV and toX map between x_i and v_k.
+		// toX maps v_k back to x_i.
 		toX := func(t float64) float64 {
 			if h.inU[k] {
 				return one.ToX(nil, []float64{t})[0]
@@ -579,36 +584,51 @@ func (p *Problem) refineMarginals(L *Laplace, xhat, u []float64, free []int, wst
 			w[i] = t
 			return p.naturalX(w)[i]
 		}
+		// The Gaussian median in v_k.
 		med := math.NaN()
 		if h.inU[k] {
 			if uu, err := one.ToU(nil, []float64{L.Median[i]}); err == nil {
 				med = uu[0]
 			}
-		} else {
-			med = p.naturalW(h.x(c.v))[i]
-			if !math.IsNaN(L.Median[i]) {
-				xm := h.x(c.v)
-				xm[i] = L.Median[i]
-				med = p.naturalW(xm)[i]
-			}
+		} else if !math.IsNaN(L.Median[i]) {
+			xm := h.x(c.v)
+			xm[i] = L.Median[i]
+			med = p.naturalW(xm)[i]
 		}
 		ck := c
 		ck.lm -= 0.5 * math.Log(cov.At(k, k))
 		q, ok := h.marginal(k, ck, &cov, med)
 		if !ok {
-			continue
+			return
 		}
 		L.Lo[i], L.Median[i], L.Hi[i] = toX(q[0]), toX(q[1]), toX(q[2])
 		L.Marginal[i] = true
 	}
+	nw := min(max(p.workers, 1), n)
+	if nw == 1 {
+		for k := range h.idx {
+			one1(k)
+		}
+		return
+	}
+	jobs := make(chan int)
+	var wg worker.Group
+	for w := 0; w < nw; w++ {
+		wg.Go(func() {
+			for k := range jobs {
+				one1(k)
+			}
+		})
+	}
+	wg.Feed(jobs, n)
+	wg.Rethrow()
 }
 
 // gridQuantiles returns the 16th, 50th and 84th percentiles of the
-// density exp(lm) given at the points (sorted by t), ln-linear between
+// density exp(lm) given at the points (sorted by t), ln m a cubic between
 // them; beyond an end the last slope goes on (half a step where the
-// support ends, edge, else to infinity); delta2 > 0 convolves a Gaussian
-// of that variance in.
-func gridQuantiles(pts []mpoint, edgeLo, edgeHi bool, delta2 float64) (q [3]float64, ok bool) {
+// support ends, edge, else to infinity).
+func gridQuantiles(pts []mpoint, edgeLo, edgeHi bool) (q [3]float64, ok bool) {
 	if len(pts) < 3 {
 		return q, false
 	}
@@ -677,14 +697,14 @@ func gridQuantiles(pts []mpoint, edgeLo, edgeHi bool, delta2 float64) (q [3]floa
 	cdf := func(t float64) float64 {
 		s := 0.0
 		for _, b := range bins {
-			sd := math.Sqrt(delta2 + b.w*b.w/12)
+			sd := b.w / math.Sqrt(12)
 			s += b.m * 0.5 * math.Erfc(-(t-b.c)/(sd*math.Sqrt2))
 		}
 		return s / total
 	}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, b := range bins {
-		sd := math.Sqrt(delta2 + b.w*b.w/12)
+		sd := b.w / math.Sqrt(12)
 		lo, hi = math.Min(lo, b.c-10*sd), math.Max(hi, b.c+10*sd)
 	}
 	for j, f := range []float64{0.15865525393145707, 0.5, 0.8413447460685429} {

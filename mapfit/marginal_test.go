@@ -72,9 +72,19 @@ func TestMarginalsCurvedSkewed(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		r, err := Fit(p, &Settings{Marginals: true})
+		r, err := Fit(p, &Settings{Marginals: true, Workers: 3})
 		if err != nil {
 			t.Fatal(err)
+		}
+		// The marginals run in parallel; the result does not depend on it.
+		r1, err := Fit(p, &Settings{Marginals: true, Workers: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := range r.X {
+			if a, b := r.Laplace, r1.Laplace; a.Lo[i] != b.Lo[i] || a.Median[i] != b.Median[i] || a.Hi[i] != b.Hi[i] {
+				t.Errorf("grad %v: parameter %d: percentiles with 3 workers %v %v %v, with 1 %v %v %v", withGrad, i, a.Lo[i], a.Median[i], a.Hi[i], b.Lo[i], b.Median[i], b.Hi[i])
+			}
 		}
 		if r.X[0] != old.X[0] || r.X[1] != old.X[1] {
 			t.Errorf("grad %v: the MAP moved: %v, without marginals %v", withGrad, r.X, old.X)
