@@ -94,8 +94,12 @@ func (r *FitResult) WriteParams(w io.Writer) error {
 		if i < len(r.Marginal) && r.Marginal[i] {
 			// Percentiles of the marginal (the Gaussian failed): its own
 			// median, which need not be the MAP.
-			note += fmt.Sprintf("; marginal 68%%: %.3g to %.3g, median %.3g", r.Lo[i], r.Hi[i], r.Median[i])
+			med, _ := RoundToError(r.Median[i], r.Errors[i])
+			note += "; marginal, median " + med
 			if r.Params[i] < r.Lo[i] || r.Params[i] > r.Hi[i] {
+				a, _ := RoundToError(r.Lo[i], r.Errors[i])
+				b, _ := RoundToError(r.Hi[i], r.Errors[i])
+				note += ", 68% " + a + " to " + b
 				lo, hi = "—", "—"
 			}
 		} else if i < len(r.Median) && (r.Params[i] < r.Lo[i] || r.Params[i] > r.Hi[i]) {
