@@ -30,14 +30,14 @@ import (
 // Laplace approximation describes (common practice: a parameter is
 // constrained when the data shrink its prior several-fold).
 //
-// The chains run 6,000 steps (3,000 for the dense qp model on the larger
-// star): about 30 autocorrelation times of these posteriors (τ ≈ 180–230
-// steps), short of the 50 the sampler's convergence flag asks; their own
-// Monte Carlo
-// error on a 16 % quantile is a few per cent, up to 10 % on the far tail
-// of a skewed parameter (SPOTSIFT_LAPLACE_STEPS=n sets the steps). Long
-// (minutes per model, the dense qp model on the larger star much more):
-// SPOTSIFT_LONG=1 only; SPOTSIFT_LAPLACE_ONLY=star/model runs one case.
+// The chains run 6,000 steps: about 30 autocorrelation times of these
+// posteriors (τ ≈ 90–250 steps), short of the 50 the sampler's
+// convergence flag asks; their own Monte Carlo error on a 16 % quantile
+// is a few per cent, up to 10 % on the far tail of a skewed parameter
+// (SPOTSIFT_LAPLACE_STEPS=n sets the steps). Long (a quarter of a minute
+// to two minutes per model with GOMAXPROCS=1, the dense qp model on the
+// larger star about seven): SPOTSIFT_LONG=1 only;
+// SPOTSIFT_LAPLACE_ONLY=star/model runs one case.
 func TestLaplaceAgainstSampling(t *testing.T) {
 	if os.Getenv("SPOTSIFT_LONG") != "1" {
 		t.Skip("samples six GP models for minutes each; set SPOTSIFT_LONG=1 to run it")
@@ -55,9 +55,6 @@ func TestLaplaceAgainstSampling(t *testing.T) {
 				continue
 			}
 			steps := 6000
-			if act == "qp" && star == "quiet-planet" {
-				steps = 3000
-			}
 			if v := os.Getenv("SPOTSIFT_LAPLACE_STEPS"); v != "" {
 				n, err := strconv.Atoi(v)
 				if err != nil || n < 100 {
@@ -157,6 +154,12 @@ func compareLaplaceSampling(t *testing.T, sim string, planets int, act string, s
 	if err := json.Unmarshal([]byte(stdout), &r); err != nil {
 		t.Fatalf("model --json: %v", err)
 	}
+	compareLaplaceRun(t, &r, sim, planets, act)
+}
+
+// compareLaplaceRun compares the fit's Laplace percentiles in r with the
+// sampled ones (see TestLaplaceAgainstSampling).
+func compareLaplaceRun(t *testing.T, r *laplaceRun, sim string, planets int, act string) {
 	if !r.Fit.Converge {
 		t.Errorf("fit not converged: %s", r.Fit.Status)
 	}
@@ -221,4 +224,39 @@ func (bd priorBox) shrink(lo, hi float64) float64 {
 		return math.Log(hi/lo) / (0.6827 * math.Log(bd.hi/bd.lo))
 	}
 	return (hi - lo) / bd.width
+}
+
+// BenchmarkModelMarginals times the MAP fit of "model --activity act"
+// on the quiet demo star (235 epochs, one planet) without and with the
+// marginal percentiles (rvfit.FitOptions.Marginals), one worker:
+//
+//	go test ./cmd/spotsift -run '^$' -bench ModelMarginals -benchtime 3x
+func BenchmarkModelMarginals(b *testing.B) {
+	sim := filepath.Join(b.TempDir(), "quiet-planet")
+	if code, _, stderr := runCmd("simulate", "--demo", "quiet-planet", "--out", sim, "--quiet"); code != exitOK {
+		b.Fatalf("simulate: exit %d\n%s", code, stderr)
+	}
+	s, _, err := rvfit.ReadTable(filepath.Join(sim, "epochs.csv"), nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	star, err := activity.ReadStar(filepath.Join(sim, "star.toml"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	for _, act := range []string{"rotation", "multi"} {
+		noise, priors, err := rvgp.NewActivity(act, s, rvgp.ActivityOptions{Rotation: star.RotationPeriod, RotationErr: star.RotationPeriodErr})
+		if err != nil {
+			b.Fatal(err)
+		}
+		for _, marg := range []bool{false, true} {
+			b.Run(fmt.Sprintf("%s/marginals=%v", act, marg), func(b *testing.B) {
+				for i := 0; i < b.N; i++ {
+					if _, err := rvfit.FitModel(s, 1, noise, &rvfit.FitOptions{Seed: 1, Workers: 1, Model: &rvfit.ModelOptions{Priors: priors}, Marginals: marg}); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
 }
