@@ -32,8 +32,10 @@ import (
 // The coordinates v are the optimiser's u (with its Jacobian, so the
 // density vanishes at both bounds and has a mode inside) for a bounded
 // parameter, and w of naturalQuantiles (ln x for a scale, x else) for
-// the rest; parameters without curvature, and a disk pair at its edge,
-// stay at the MAP. Percentiles do not depend on the coordinate of the
+// the rest; parameters without curvature stay at the MAP (the Gaussian
+// percentiles are conditional on them too), and when a parameter with
+// curvature lies where neither coordinate can carry it (a disk pair at
+// its edge), no parameter is refined. Percentiles do not depend on the coordinate of the
 // parameter itself, only the accuracy of the inner Laplace integrals
 // does. The joint mode of p_v is found by BFGS (gonum/optimize) from the
 // Laplace step's mode and Newton steps; each conditional optimum by
@@ -99,7 +101,7 @@ const (
 // w (see naturalQuantiles) for a parameter inside its support, the
 // optimiser's u for one at a bound (with its Jacobian: the density then
 // has a mode inside, as for the Laplace step). Parameters without
-// curvature, and a disk pair at its edge, stay at the MAP.
+// curvature stay at the MAP.
 type vProblem struct {
 	p     *Problem
 	idx   []int     // the parameters in v
@@ -499,6 +501,12 @@ func (p *Problem) refineMarginals(L *Laplace, xhat, u []float64, free []int, wst
 		case free:
 			h.idx, h.inU, h.steps = append(h.idx, i), append(h.inU, false), append(h.steps, st)
 			v0 = append(v0, w0[i])
+		default:
+			// A parameter with curvature that v cannot carry (a disk pair
+			// at its edge): the marginals would leave out what its
+			// uncertainty adds to the others', which the Gaussian
+			// percentiles keep (addBoundVariance). They stay.
+			return
 		}
 	}
 	n := len(v0)
