@@ -98,14 +98,14 @@ const (
 )
 
 // vProblem is −ln p_v over the coordinates v the marginal integrates:
-// w (see naturalQuantiles) for a parameter inside its support, the
-// optimiser's u for one at a bound (with its Jacobian: the density then
-// has a mode inside, as for the Laplace step). Parameters without
-// curvature stay at the MAP.
+// the optimiser's u for a bounded parameter (with its Jacobian: the
+// density vanishes at both bounds and has a mode inside, even for a
+// parameter whose MAP is on a bound), w (see naturalQuantiles) for the
+// others. Parameters without curvature stay at the MAP.
 type vProblem struct {
 	p     *Problem
 	idx   []int     // the parameters in v
-	inU   []bool    // v[a] is u (the parameter is at a bound)
+	inU   []bool    // v[a] is u (a Bounded or LogBounded parameter)
 	base  []float64 // x with the others at the MAP
 	steps []float64 // finite-difference steps in v
 }

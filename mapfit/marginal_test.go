@@ -119,3 +119,39 @@ func TestMarginalsCurvedSkewed(t *testing.T) {
 		}
 	}
 }
+
+// TestMarginalsKeepGaussianWithDiskAtEdge: a skewed parameter (y ~
+// Gamma(3, 1), which TestMarginalsCurvedSkewed refines) next to a disk
+// pair whose posterior piles up at the disk's edge (ln p rising as 5h):
+// the pair cannot be integrated about the MAP, so no parameter gets the
+// marginal's percentiles and y keeps the Gaussian ones.
+func TestMarginalsKeepGaussianWithDiskAtEdge(t *testing.T) {
+	logp := func(p []float64) float64 {
+		y, h, k := p[0], p[1], p[2]
+		if !(y > 0) || h*h+k*k >= 1 {
+			return math.Inf(-1)
+		}
+		return 2*math.Log(y) - y + 5*h - 0.5*k*k/0.01
+	}
+	sp := Space{{Name: "y", Kind: Positive}, {Name: "h", Kind: DiskPair, Hi: 1}, {Name: "k"}}
+	p := &Problem{Space: sp, LogPost: logp, Starts: [][]float64{{2, 0.5, 0}}}
+	r, err := Fit(p, &Settings{Marginals: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	old, err := Fit(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.AtBound[1] == Inside {
+		t.Fatalf("the disk pair is not at its edge: %v at %v", r.AtBound, r.X)
+	}
+	for i := range r.X {
+		if r.Laplace.Marginal[i] {
+			t.Errorf("parameter %s refined with the disk pair at its edge", r.Names[i])
+		}
+		if a, b := r.Laplace.Lo[i], old.Laplace.Lo[i]; a != b && !(math.IsNaN(a) && math.IsNaN(b)) {
+			t.Errorf("parameter %s: p16 %v, without marginals %v", r.Names[i], a, b)
+		}
+	}
+}
