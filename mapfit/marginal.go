@@ -54,9 +54,13 @@ import (
 // more than 1 between two; the 16th, 50th and 84th percentiles are those
 // of the density between the points (ln m a cubic Hermite interpolant,
 // the last slope carried on beyond an end). If a conditional optimum
-// cannot be found, the grid does not close, or a profile rises above the
+// cannot be found, the grid does not close, a profile rises above the
 // joint mode's (another optimum of the others: the approximation about
-// one fails), the parameter keeps its Gaussian percentiles.
+// one fails), or the marginal's 68 % interval leaves out the MAP (for a
+// parameter inside its support that would take a marginal more skewed
+// than an exponential's; where it happened, the integrals over
+// parameters piled against a bound had failed), the parameter keeps its
+// Gaussian percentiles.
 //
 // Cost: for n parameters, about 2n conditional optima for the test (each
 // one to three Hessians of n gradients), 10–30 more for each parameter
@@ -609,7 +613,15 @@ func (p *Problem) refineMarginals(L *Laplace, xhat, u []float64, free []int, wst
 		if !ok {
 			return
 		}
-		L.Lo[i], L.Median[i], L.Hi[i] = toX(q[0]), toX(q[1]), toX(q[2])
+		lo, med, hi := toX(q[0]), toX(q[1]), toX(q[2])
+		if !(lo <= xhat[i] && xhat[i] <= hi) {
+			// The MAP outside the 68 % of its own marginal contradicts
+			// the fit the marginal comes from: the Laplace integrals over
+			// the others failed (seen with three kernel parameters piled
+			// against their upper bounds). The Gaussian stays.
+			return
+		}
+		L.Lo[i], L.Median[i], L.Hi[i] = lo, med, hi
 		L.Marginal[i] = true
 	}
 	nw := min(max(p.workers, 1), n)

@@ -194,6 +194,15 @@ func (p *Problem) naturalQuantiles(L *Laplace, xhat []float64, cu *curvatureU) {
 			}
 		}
 	}
+	if p.marginals {
+		// Where the Gaussian fails, the marginal (see marginal.go), also
+		// when the Gaussian in w cannot be had.
+		var u []float64
+		if cu != nil {
+			u = cu.u
+		}
+		defer p.refineMarginals(L, xhat, u, idx, steps)
+	}
 	H := hessianFD(func(v []float64) float64 { return -logpw(v) }, gradw, v0, steps)
 	var ch mat.Cholesky
 	if !ch.Factorize(H) {
@@ -205,14 +214,6 @@ func (p *Problem) naturalQuantiles(L *Laplace, xhat []float64, cu *curvatureU) {
 	}
 	if n < d && cu != nil && cu.pd {
 		addBoundVariance(&cov, p, idx, xhat, cu)
-	}
-	if p.marginals {
-		// Where the Gaussian fails, the marginal (see marginal.go).
-		var u []float64
-		if cu != nil {
-			u = cu.u
-		}
-		defer p.refineMarginals(L, xhat, u, idx, steps)
 	}
 	var chc mat.Cholesky
 	if !chc.Factorize(&cov) {
