@@ -36,7 +36,7 @@ import (
 // is a few per cent, up to 10 % on the far tail of a skewed parameter
 // (SPOTSIFT_LAPLACE_STEPS=n sets the steps). Long (a quarter of a minute
 // to two minutes per model with GOMAXPROCS=1, the dense qp model on the
-// larger star about seven): SPOTSIFT_LONG=1 only;
+// larger star 6–20 by the machine's load): SPOTSIFT_LONG=1 only;
 // SPOTSIFT_LAPLACE_ONLY=star/model runs one case.
 func TestLaplaceAgainstSampling(t *testing.T) {
 	if os.Getenv("SPOTSIFT_LONG") != "1" {
