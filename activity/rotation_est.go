@@ -693,11 +693,12 @@ func (tr *trial) modelComparison() {
 		tr.skipped("model_comparison", fmt.Sprintf("no rotation period is known and a GP with a free period found none (it ran to %.3g d, a bound)", r0.period))
 		return
 	}
+	settled := false // the free GP settled at the signal's period
 	if free && r0.ok {
 		prot = r0.period
 		for _, mult := range []float64{1, 2, 0.5} {
-			if math.Abs(math.Log(r0.period*tr.f*mult)) < 0.25 {
-				atRotation = true
+			if math.Abs(math.Log(r0.period*tr.f*mult)) < heldAwayLn {
+				atRotation, settled = true, true
 			}
 		}
 	}
@@ -718,6 +719,15 @@ func (tr *trial) modelComparison() {
 	gpWhat := "P_rot"
 	if free {
 		gpWhat = "a free period (no rotation period known)"
+	}
+	// A free GP that settled on the signal (settled) makes the comparison
+	// above degenerate: the GP models the signal itself. The question is
+	// then whether the signal needs activity at its period at all: the
+	// Keplerian with the GP held away from the period, its double and its
+	// half (heldAwayFit) against the GP alone at the period.
+	var held gpResult
+	if settled && !tr.gpDegenerate && d.ctx.Err() == nil {
+		held = heldAwayFit(m, tr.f, r1)
 	}
 	n := float64(len(d.t))
 	dlnL := r1.lnL - r0.lnL
@@ -760,6 +770,8 @@ func (tr *trial) modelComparison() {
 	case dBIC <= -10 && snr >= 3 && indicatorsVary:
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, its amplitude %.1fσ from zero), but the indicators vary at the same period, so the sinusoid may model activity the GP misses", dBIC, snr)
+	case held.ok:
+		tr.heldAwayEvidence(&e, r0, r1, held, extra, indicatorsVary)
 	case dBIC <= -10 && snr >= 3 && atRotation:
 		// At a rotation harmonic a sinusoid also models the coherent part of
 		// the activity: the two models are degenerate there.
@@ -805,4 +817,121 @@ func (tr *trial) multiComparison(prot, perr float64) (without, with *GPActivityF
 		return nil, nil, false
 	}
 	return w0, w1, true
+}
+
+// heldAwayLn is the half-width in ln P of the windows about the signal's
+// period, its double and its half where a GP period counts as sitting on
+// the signal: a rotation kernel there has a mode that can model it.
+const heldAwayLn = 0.25
+
+// heldAwayEvidence sets e for a signal whose free GP settled on it: r0 is
+// that GP alone, r1 the GP (free) with the Keplerian, held the Keplerian
+// with the GP held away from the period. Three cases:
+//   - the GP at the period is still needed beside the Keplerian (r1, with
+//     its GP on the period, beats held by ΔBIC ≤ −10 at equal parameters):
+//     the star varies at the period too, so the period may be its
+//     rotation: neither side;
+//   - the held model beats the GP alone (ΔBIC ≤ −10, amplitude ≥ 3σ, no
+//     indicator varying at the period): the signal is more coherent than
+//     the GP lets activity be (quality ≤ 30: coherent over about ten
+//     cycles), and needs no activity at its period: planet, with the
+//     partial weight of the other branches between −2 and −10;
+//   - otherwise the GP alone explains it as well: activity when the held
+//     model is worse (ΔBIC ≥ 0), else neither.
+func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra float64, indicatorsVary bool) {
+	n := float64(len(tr.d.t))
+	dBIC := -2*(held.lnL-r0.lnL) + extra*math.Log(n)
+	e.Value = Num(dBIC)
+	nb := len(held.beta)
+	a, b := held.beta[nb-2], held.beta[nb-1]
+	K := math.Hypot(a, b)
+	snr := math.NaN()
+	if held.covBeta != nil && K > 0 {
+		caa, cbb, cab := held.covBeta.At(nb-2, nb-2), held.covBeta.At(nb-1, nb-1), held.covBeta.At(nb-2, nb-1)
+		snr = K / (math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / K)
+	}
+	onSignal := false
+	for _, mult := range []float64{1, 2, 0.5} {
+		if math.Abs(math.Log(r1.period*tr.f*mult)) < heldAwayLn {
+			onSignal = true
+		}
+	}
+	both := -2 * (r1.lnL - held.lnL)
+	what := fmt.Sprintf("no rotation period is known and a GP with a free period settles on the signal (%.3g d); a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
+	switch {
+	case onSignal && both <= -10:
+		e.Points = TowardNeither
+		e.Reason = fmt.Sprintf("%s leaves variability a GP at the period still models (ΔBIC = %.1f for keeping it beside the Keplerian): the star may vary at this period, so it may be the rotation", what, both)
+	case dBIC <= -10 && snr >= 3 && !indicatorsVary:
+		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet
+		e.Reason = fmt.Sprintf("%s fits better than the GP alone: ΔBIC = %.1f, its amplitude %.1fσ from zero; the signal is more coherent than the GP lets activity be", what, dBIC, snr)
+	case dBIC < -2 && snr >= 3 && !indicatorsVary:
+		frac := -dBIC / 10
+		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet*frac
+		e.Reason = fmt.Sprintf("%s fits better than the GP alone: ΔBIC = %.1f, its amplitude %.1fσ from zero; evidence short of very strong (ΔBIC ≤ −10), so the test counts %.0f%%", what, dBIC, snr, 100*frac)
+	case dBIC >= 0:
+		e.Points, e.Weight = TowardActivity, tr.d.w.ModelComparison.Activity
+		e.Reason = fmt.Sprintf("%s fits no better than the GP alone at the period (ΔBIC = %+.1f): activity at the period explains the signal", what, dBIC)
+	default:
+		e.Points = TowardNeither
+		e.Reason = fmt.Sprintf("%s and the GP alone at the period explain the signal about equally (ΔBIC = %.1f, its amplitude %.1fσ from zero)", what, dBIC, snr)
+		if indicatorsVary {
+			e.Reason += "; the indicators vary at the period"
+		}
+	}
+}
+
+// heldAwayFit fits m with a sinusoid at frequency f and the GP's period
+// held away from 1/f, 2/f and 1/(2f) (outside the heldAwayLn windows),
+// over the rest of m's period range, and returns the best fit; alt, a fit
+// of the same model with a free GP period, counts when its period falls
+// outside the windows. ok is false when no part of the range is left or
+// no fit converged.
+func heldAwayFit(m *gpModel, f float64, alt gpResult) gpResult {
+	lo, hi := m.pLo, m.pHi
+	type box struct{ lo, hi float64 }
+	boxes := []box{{lo, hi}}
+	for _, c := range []float64{0.5 / f, 1 / f, 2 / f} {
+		a, b := c*math.Exp(-heldAwayLn), c*math.Exp(heldAwayLn)
+		var next []box
+		for _, x := range boxes {
+			if b <= x.lo || a >= x.hi {
+				next = append(next, x)
+				continue
+			}
+			if a > x.lo {
+				next = append(next, box{x.lo, a})
+			}
+			if b < x.hi {
+				next = append(next, box{b, x.hi})
+			}
+		}
+		boxes = next
+	}
+	best := gpResult{lnL: math.Inf(-1)}
+	for _, x := range boxes {
+		if x.hi < 1.1*x.lo {
+			continue
+		}
+		mb := *m
+		mb.freq = f
+		mb.pLo, mb.pHi, mb.lnPMu, mb.lnPSigma = x.lo, x.hi, 0, 0
+		// Two starts, a third and two thirds of the way in ln P.
+		r := mb.fit([][]float64{mb.start(x.lo * math.Pow(x.hi/x.lo, 1.0/3)), mb.start(x.lo * math.Pow(x.hi/x.lo, 2.0/3))})
+		if r.ok && r.lnL > best.lnL {
+			best = r
+		}
+	}
+	if alt.ok && alt.lnL > best.lnL {
+		away := true
+		for _, c := range []float64{0.5, 1, 2} {
+			if math.Abs(math.Log(alt.period*f/c)) < heldAwayLn {
+				away = false
+			}
+		}
+		if away {
+			best = alt
+		}
+	}
+	return best
 }
