@@ -277,7 +277,10 @@ func ffGenerate(seed uint64, kind ffKind) (*rvfit.Series, *Star, func(float64) s
 		}
 		for _, pl := range pls {
 			fp := 1 / pl.p
-			for _, g := range []float64{math.Abs(fp - sidereal), fp + sidereal, math.Abs(fp - year), fp + year, 2 * fp, 3 * fp} {
+			// Nightly sampling aliases by the sidereal and the solar day
+			// alike (they differ by 1/year, more than the resolution
+			// once the baseline passes about a year).
+			for _, g := range []float64{math.Abs(fp - sidereal), fp + sidereal, math.Abs(fp - 1), fp + 1, math.Abs(fp - year), fp + year, 2 * fp, 3 * fp} {
 				if math.Abs(f-g) <= res {
 					return "alias"
 				}
