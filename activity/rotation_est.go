@@ -687,7 +687,18 @@ func (tr *trial) modelComparison() {
 			m, r0, prot = mi, ri, pa
 		}
 	}
-	if free && r0.ok && (r0.period < 1.05*m.pLo || r0.period > 0.95*m.pHi) {
+	// Without a rotation period, the activity GP is also fitted with its
+	// period held on the signal (onSignalFit: the period, its double or
+	// its half), the explanation "activity at this period" that a free
+	// period started elsewhere may miss, and later a Keplerian with the
+	// GP held away from them (heldAwayFit), "a planet at this period and
+	// activity elsewhere, if any".
+	var atP gpResult
+	if free && !tr.gpDegenerate && d.ctx.Err() == nil {
+		atP = onSignalFit(m, tr.f, r0)
+	}
+	atBound := free && r0.ok && (r0.period < 1.05*m.pLo || r0.period > 0.95*m.pHi)
+	if atBound && !atP.ok {
 		// A free GP whose period runs to a bound found no rotation to
 		// model: the comparison would be against white noise.
 		tr.skipped("model_comparison", fmt.Sprintf("no rotation period is known and a GP with a free period found none (it ran to %.3g d, a bound)", r0.period))
@@ -696,17 +707,17 @@ func (tr *trial) modelComparison() {
 	settled := false // the free GP settled at the signal's period
 	if free && r0.ok {
 		prot = r0.period
-		for _, mult := range []float64{1, 2, 0.5} {
-			if math.Abs(math.Log(r0.period*tr.f*mult)) < heldAwayLn {
-				atRotation, settled = true, true
-			}
-		}
+		settled = onSignal(r0.period, tr.f)
+		atRotation = atRotation || settled
 	}
 	m1 := *m
 	m1.freq = tr.f
 	starts := [][]float64{m1.start(prot)}
 	if r0.ok {
 		starts = append(starts, r0.theta)
+	}
+	if atP.ok {
+		starts = append(starts, atP.theta)
 	}
 	r1 := m1.fit(starts)
 	if r1.ok {
@@ -720,13 +731,14 @@ func (tr *trial) modelComparison() {
 	if free {
 		gpWhat = "a free period (no rotation period known)"
 	}
-	// A free GP that settled on the signal (settled) makes the comparison
-	// above degenerate: the GP models the signal itself. The question is
-	// then whether the signal needs activity at its period at all: the
-	// Keplerian with the GP held away from the period, its double and its
-	// half (heldAwayFit) against the GP alone at the period.
+	// A free GP that settled on the signal, or found nothing, makes the
+	// comparison of r0 and r1 degenerate or one against white noise. The
+	// question is then whether the signal needs activity at its period at
+	// all: the Keplerian with the GP held away from the period (held)
+	// against the GP alone on it (atP). When the free GP settled
+	// elsewhere, both comparisons are made and the weaker one counts.
 	var held gpResult
-	if settled && !tr.gpDegenerate && d.ctx.Err() == nil {
+	if atP.ok && d.ctx.Err() == nil {
 		held = heldAwayFit(m, tr.f, r1)
 	}
 	n := float64(len(d.t))
@@ -763,6 +775,12 @@ func (tr *trial) modelComparison() {
 			gpWhat = "P_rot (multi-output GP on the RVs and the indicators)"
 		}
 	}
+	if held.ok && !settled && !atBound {
+		if dAB := -2*(held.lnL-atP.lnL) + extra*math.Log(n); dAB > dBIC {
+			dBIC, dlnL = dAB, held.lnL-atP.lnL
+			gpWhat = fmt.Sprintf("a free period (no rotation period known; the GP settles at %.3g d, and the weaker comparison, against a GP held on the signal's period, counts)", r0.period)
+		}
+	}
 	// ΔBIC below −10 is "very strong" evidence (Kass & Raftery 1995, from
 	// memory); an amplitude under 3σ is not a detection (common practice).
 	e := Evidence{Name: "model_comparison", Value: Num(dBIC), Threshold: -10}
@@ -770,8 +788,8 @@ func (tr *trial) modelComparison() {
 	case dBIC <= -10 && snr >= 3 && indicatorsVary:
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, its amplitude %.1fσ from zero), but the indicators vary at the same period, so the sinusoid may model activity the GP misses", dBIC, snr)
-	case held.ok:
-		tr.heldAwayEvidence(&e, r0, r1, held, extra, indicatorsVary)
+	case held.ok && (settled || atBound):
+		tr.heldAwayEvidence(&e, atP, r1, held, extra, indicatorsVary, atBound)
 	case dBIC <= -10 && snr >= 3 && atRotation:
 		// At a rotation harmonic a sinusoid also models the coherent part of
 		// the activity: the two models are degenerate there.
@@ -838,7 +856,7 @@ const heldAwayLn = 0.25
 //     partial weight of the other branches between −2 and −10;
 //   - otherwise the GP alone explains it as well: activity when the held
 //     model is worse (ΔBIC ≥ 0), else neither.
-func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra float64, indicatorsVary bool) {
+func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra float64, indicatorsVary, atBound bool) {
 	n := float64(len(tr.d.t))
 	dBIC := -2*(held.lnL-r0.lnL) + extra*math.Log(n)
 	e.Value = Num(dBIC)
@@ -850,16 +868,13 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 		caa, cbb, cab := held.covBeta.At(nb-2, nb-2), held.covBeta.At(nb-1, nb-1), held.covBeta.At(nb-2, nb-1)
 		snr = K / (math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / K)
 	}
-	onSignal := false
-	for _, mult := range []float64{1, 2, 0.5} {
-		if math.Abs(math.Log(r1.period*tr.f*mult)) < heldAwayLn {
-			onSignal = true
-		}
-	}
 	both := -2 * (r1.lnL - held.lnL)
 	what := fmt.Sprintf("no rotation period is known and a GP with a free period settles on the signal (%.3g d); a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
+	if atBound {
+		what = fmt.Sprintf("no rotation period is known and a GP with a free period finds none; held on the signal (%.3g d) it models it, but a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
+	}
 	switch {
-	case onSignal && both <= -10:
+	case onSignal(r1.period, tr.f) && both <= -10:
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("%s leaves variability a GP at the period still models (ΔBIC = %.1f for keeping it beside the Keplerian): the star may vary at this period, so it may be the rotation", what, both)
 	case dBIC <= -10 && snr >= 3 && !indicatorsVary:
@@ -922,16 +937,46 @@ func heldAwayFit(m *gpModel, f float64, alt gpResult) gpResult {
 			best = r
 		}
 	}
-	if alt.ok && alt.lnL > best.lnL {
-		away := true
-		for _, c := range []float64{0.5, 1, 2} {
-			if math.Abs(math.Log(alt.period*f/c)) < heldAwayLn {
-				away = false
-			}
+	if alt.ok && alt.lnL > best.lnL && !onSignal(alt.period, f) {
+		best = alt
+	}
+	return best
+}
+
+// onSignal reports whether a rotation kernel of period p has a mode on a
+// signal of frequency f: p within heldAwayLn (in ln P) of 1/f, 2/f or
+// 1/(2f).
+func onSignal(p, f float64) bool {
+	for _, mult := range []float64{1, 2, 0.5} {
+		if math.Abs(math.Log(p*f*mult)) < heldAwayLn {
+			return true
 		}
-		if away {
-			best = alt
+	}
+	return false
+}
+
+// onSignalFit fits m alone (no sinusoid) with the GP's period held within
+// heldAwayLn of 1/f, 2/f or 1/(2f), inside m's period range, and returns
+// the best fit; alt, a fit of the same model with a free period, counts
+// when its period falls in a window. ok is false when no window meets the
+// range or no fit converged.
+func onSignalFit(m *gpModel, f float64, alt gpResult) gpResult {
+	best := gpResult{lnL: math.Inf(-1)}
+	for _, c := range []float64{1 / f, 2 / f, 0.5 / f} {
+		lo, hi := math.Max(m.pLo, c*math.Exp(-heldAwayLn)), math.Min(m.pHi, c*math.Exp(heldAwayLn))
+		if hi < 1.1*lo {
+			continue
 		}
+		mb := *m
+		mb.freq = 0
+		mb.pLo, mb.pHi, mb.lnPMu, mb.lnPSigma = lo, hi, 0, 0
+		r := mb.fit([][]float64{mb.start(math.Max(lo, math.Min(hi, c)))})
+		if r.ok && r.lnL > best.lnL {
+			best = r
+		}
+	}
+	if alt.ok && alt.lnL > best.lnL && onSignal(alt.period, f) {
+		best = alt
 	}
 	return best
 }
