@@ -842,9 +842,10 @@ func (tr *trial) multiComparison(prot, perr float64) (without, with *GPActivityF
 // the signal: a rotation kernel there has a mode that can model it.
 const heldAwayLn = 0.25
 
-// heldAwayEvidence sets e for a signal whose free GP settled on it: r0 is
-// that GP alone, r1 the GP (free) with the Keplerian, held the Keplerian
-// with the GP held away from the period. Three cases:
+// heldAwayEvidence (docs/methods.md §14.10) sets e for a signal whose
+// free GP settled on it or found nothing: r0 is the GP alone held on the
+// signal, r1 the GP (free) with the Keplerian, held the Keplerian with
+// the GP held away from the period. Three cases:
 //   - the GP at the period is still needed beside the Keplerian (r1, with
 //     its GP on the period, beats held by ΔBIC ≤ −10 at equal parameters):
 //     the star varies at the period too, so the period may be its
