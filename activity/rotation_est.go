@@ -869,6 +869,10 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 		caa, cbb, cab := held.covBeta.At(nb-2, nb-2), held.covBeta.At(nb-1, nb-1), held.covBeta.At(nb-2, nb-1)
 		snr = K / (math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / K)
 	}
+	sn := "—" // unknown without the covariance of the linear terms
+	if isFinite(snr) {
+		sn = fmt.Sprintf("%.1f", snr)
+	}
 	both := -2 * (r1.lnL - held.lnL)
 	what := fmt.Sprintf("no rotation period is known and a GP with a free period settles on the signal (%.3g d); a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
 	if atBound {
@@ -880,17 +884,17 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 		e.Reason = fmt.Sprintf("%s leaves variability a GP at the period still models (ΔBIC = %.1f for keeping it beside the Keplerian): the star may vary at this period, so it may be the rotation", what, both)
 	case dBIC <= -10 && snr >= 3 && !indicatorsVary:
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet
-		e.Reason = fmt.Sprintf("%s fits better than the GP alone: ΔBIC = %.1f, its amplitude %.1fσ from zero; the signal is more coherent than the GP lets activity be", what, dBIC, snr)
+		e.Reason = fmt.Sprintf("%s fits better than the GP alone: ΔBIC = %.1f, its amplitude %sσ from zero; the signal is more coherent than the GP lets activity be", what, dBIC, sn)
 	case dBIC < -2 && snr >= 3 && !indicatorsVary:
 		frac := -dBIC / 10
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet*frac
-		e.Reason = fmt.Sprintf("%s fits better than the GP alone: ΔBIC = %.1f, its amplitude %.1fσ from zero; evidence short of very strong (ΔBIC ≤ −10), so the test counts %.0f%%", what, dBIC, snr, 100*frac)
+		e.Reason = fmt.Sprintf("%s fits better than the GP alone: ΔBIC = %.1f, its amplitude %sσ from zero; evidence short of very strong (ΔBIC ≤ −10), so the test counts %.0f%%", what, dBIC, sn, 100*frac)
 	case dBIC >= 0:
 		e.Points, e.Weight = TowardActivity, tr.d.w.ModelComparison.Activity
 		e.Reason = fmt.Sprintf("%s fits no better than the GP alone at the period (ΔBIC = %+.1f): activity at the period explains the signal", what, dBIC)
 	default:
 		e.Points = TowardNeither
-		e.Reason = fmt.Sprintf("%s and the GP alone at the period explain the signal about equally (ΔBIC = %.1f, its amplitude %.1fσ from zero)", what, dBIC, snr)
+		e.Reason = fmt.Sprintf("%s and the GP alone at the period explain the signal about equally (ΔBIC = %.1f, its amplitude %sσ from zero)", what, dBIC, sn)
 		if indicatorsVary {
 			e.Reason += "; the indicators vary at the period"
 		}
