@@ -626,14 +626,27 @@ func fillFit(out *GPActivityFit, res *mapfit.Result, beta []float64, covBeta *ma
 	out.NumParams = len(out.Params) + len(beta)
 	out.BIC = rvfit.BIC(out.LogLikelihood, out.NumParams, out.NumData)
 	if out.Period > 0 && len(beta) >= 2 {
-		nb := len(beta)
-		a, b := beta[nb-2], beta[nb-1]
-		out.Amplitude = math.Hypot(a, b)
-		if covBeta != nil && out.Amplitude > 0 {
-			caa, cbb, cab := covBeta.At(nb-2, nb-2), covBeta.At(nb-1, nb-1), covBeta.At(nb-2, nb-1)
-			out.AmplitudeErr = math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / out.Amplitude
+		var kErr float64
+		out.Amplitude, kErr = sinusoidAmplitude(beta, covBeta)
+		if !math.IsNaN(kErr) {
+			out.AmplitudeErr = kErr
 		}
 	}
+}
+
+// sinusoidAmplitude returns the semi-amplitude √(a² + b²) of the sinusoid
+// whose cosine and sine coefficients are the last two elements of beta,
+// and its first-order error from their covariance in cov (NaN without it
+// or at zero amplitude).
+func sinusoidAmplitude(beta []float64, cov *mat.SymDense) (k, kErr float64) {
+	nb := len(beta)
+	a, b := beta[nb-2], beta[nb-1]
+	k, kErr = math.Hypot(a, b), math.NaN()
+	if cov != nil && k > 0 {
+		caa, cbb, cab := cov.At(nb-2, nb-2), cov.At(nb-1, nb-1), cov.At(nb-2, nb-1)
+		kErr = math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / k
+	}
+	return k, kErr
 }
 
 // multiIndicators returns the indicator columns of GPMulti: the names

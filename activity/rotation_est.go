@@ -748,14 +748,7 @@ func (tr *trial) modelComparison() {
 		extra = 3 // the period was searched for too
 	}
 	dBIC := -2*dlnL + extra*math.Log(n)
-	nb := len(r1.beta)
-	a, b := r1.beta[nb-2], r1.beta[nb-1]
-	K := math.Hypot(a, b)
-	kErr := math.NaN()
-	if r1.covBeta != nil && K > 0 {
-		caa, cbb, cab := r1.covBeta.At(nb-2, nb-2), r1.covBeta.At(nb-1, nb-1), r1.covBeta.At(nb-2, nb-1)
-		kErr = math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / K
-	}
+	K, kErr := sinusoidAmplitude(r1.beta, r1.covBeta)
 	snr := K / kErr
 	// The whole-model comparison: the multi-output GP of Rajpaul et al.
 	// (2015) on the RVs and the indicators (FitGPActivity's GPMulti), with
@@ -861,14 +854,8 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 	n := float64(len(tr.d.t))
 	dBIC := -2*(held.lnL-r0.lnL) + extra*math.Log(n)
 	e.Value = Num(dBIC)
-	nb := len(held.beta)
-	a, b := held.beta[nb-2], held.beta[nb-1]
-	K := math.Hypot(a, b)
-	snr := math.NaN()
-	if held.covBeta != nil && K > 0 {
-		caa, cbb, cab := held.covBeta.At(nb-2, nb-2), held.covBeta.At(nb-1, nb-1), held.covBeta.At(nb-2, nb-1)
-		snr = K / (math.Sqrt(math.Max(0, a*a*caa+b*b*cbb+2*a*b*cab)) / K)
-	}
+	K, kErr := sinusoidAmplitude(held.beta, held.covBeta)
+	snr := K / kErr
 	sn := "—" // unknown without the covariance of the linear terms
 	if isFinite(snr) {
 		sn = fmt.Sprintf("%.1f", snr)
