@@ -151,14 +151,23 @@ func TestEccentricAnomaliesMatchesScalar(t *testing.T) {
 	}
 }
 
-func BenchmarkKeplerBatch(b *testing.B) {
-	// 96 eccentricities uniform in [0, 0.95], 1024 mean anomalies each:
-	// the per-solve time averaged over e, as in bench_kepler.py.
-	const ne, nm = 96, 1024
-	M := make([]float64, nm)
+// The Kepler benchmarks' inputs: benchEccentricities values of e and
+// benchAnomalies mean anomalies spread over [0, 2π) by the golden ratio.
+const benchEccentricities, benchAnomalies = 96, 1024
+
+func benchMeanAnomalies() []float64 {
+	M := make([]float64, benchAnomalies)
 	for i := range M {
 		M[i] = 2 * math.Pi * math.Mod(float64(i)*0.6180339887498949, 1)
 	}
+	return M
+}
+
+func BenchmarkKeplerBatch(b *testing.B) {
+	// 96 eccentricities uniform in [0, 0.95], 1024 mean anomalies each:
+	// the per-solve time averaged over e, as in bench_kepler.py.
+	const ne, nm = benchEccentricities, benchAnomalies
+	M := benchMeanAnomalies()
 	dst := make([]float64, nm)
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
@@ -171,11 +180,8 @@ func BenchmarkKeplerBatch(b *testing.B) {
 // BenchmarkKeplerBatchSinCos times the batch as the RV model uses it, with
 // sin E and cos E written beside E; same inputs as BenchmarkKeplerBatch.
 func BenchmarkKeplerBatchSinCos(b *testing.B) {
-	const ne, nm = 96, 1024
-	M := make([]float64, nm)
-	for i := range M {
-		M[i] = 2 * math.Pi * math.Mod(float64(i)*0.6180339887498949, 1)
-	}
+	const ne, nm = benchEccentricities, benchAnomalies
+	M := benchMeanAnomalies()
 	E := make([]float64, nm)
 	s := make([]float64, nm)
 	c := make([]float64, nm)
