@@ -153,7 +153,7 @@ func (tr *trial) rotationMatch() {
 	}
 	w := tr.d.w
 	res := 1 / tr.d.T
-	estimated := tr.rot.Source != "star file"
+	estimated := !strings.HasPrefix(tr.rot.Source, starFileSource)
 	total, bestD := 0.0, math.Inf(1)
 	var parts []string
 	for _, hy := range hyps {

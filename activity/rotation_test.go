@@ -2,6 +2,7 @@ package activity
 
 import (
 	"math"
+	"strings"
 	"testing"
 )
 
@@ -51,5 +52,25 @@ func TestRelationEstimates(t *testing.T) {
 	}
 	if RelationEstimates(math.NaN(), 0.65) != nil {
 		t.Error("no log R'HK should give no estimate")
+	}
+}
+
+// TestCombineStarFile checks the refinement of a star file's rotation
+// period by the indicators' (docs/methods.md §14.12): 30 ± 3 d and
+// 32 ± 1 d agree (2 d apart, twice their combined error is 6.3 d) and
+// combine to (30/9 + 32/1)/(1/9 + 1) = 31.8 d ± (1/9 + 1)^−½ = 0.949 d
+// (inverse-variance weighting, computed by hand); 30 ± 3 d and 45 ± 1 d
+// disagree and the star file stands.
+func TestCombineStarFile(t *testing.T) {
+	given := Rotation{Period: 30, Err: 3, Source: starFileSource, Hypotheses: []RotationHypothesis{{Period: 30, Err: 3, Share: 1}}}
+	got := combineStarFile(given, RotationHypothesis{Period: 32, Err: 1, Share: 1, Why: "joint periodogram"})
+	if !(math.Abs(float64(got.Period)-31.8) < 1e-12 && math.Abs(float64(got.Err)-0.9486832980505138) < 1e-12) {
+		t.Errorf("combined: %v ± %v d, want 31.8 ± 0.9487 d", got.Period, got.Err)
+	}
+	if !strings.HasPrefix(got.Source, starFileSource) || len(got.Hypotheses) != 1 || got.Hypotheses[0].Period != float64(got.Period) {
+		t.Errorf("combined: source %q, hypotheses %+v", got.Source, got.Hypotheses)
+	}
+	if kept := combineStarFile(given, RotationHypothesis{Period: 45, Err: 1, Share: 1}); kept.Period != 30 || kept.Err != 3 || kept.Source != starFileSource {
+		t.Errorf("disagreeing: %v ± %v d from %q, want the star file's 30 ± 3 d", kept.Period, kept.Err, kept.Source)
 	}
 }
