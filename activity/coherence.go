@@ -80,13 +80,22 @@ func (tr *trial) seasonCoherence() {
 		snr float64
 	}
 	var parts []part
+	// With the model comparison's GP fitted, each part's sinusoid is
+	// fitted by generalised least squares with the GP's covariance (its
+	// parameters held): the activity the GP describes is then noise whose
+	// leakage into a short season the errors carry, which the red-noise
+	// factor β, one number for the whole series, under-states within a
+	// season. Without it, the errors are the white ones times β.
+	noiseModel := tr.det.gp != nil && tr.det.gpFit != nil && tr.det.gpFit.ok
 	for s := 0; s < ns; s++ {
 		var ts, ys, es []float64
 		var gs []string
+		var gi []int
 		for i := range d.t {
 			if sidx[i] == s {
 				ts, ys, es = append(ts, d.t[i]), append(ys, tr.own[i]), append(es, d.err[i])
 				gs = append(gs, d.s.Instrument[i])
+				gi = append(gi, d.inst[i])
 			}
 		}
 		if len(ts) < minPer {
@@ -102,6 +111,13 @@ func (tr *trial) seasonCoherence() {
 			for b := 0; b < 2; b++ {
 				c[a][b] *= beta * beta
 			}
+		}
+		if noiseModel {
+			ab, cab, ok := tr.gpPartFit(ts, ys, es, g, ng, gi)
+			if !ok {
+				continue
+			}
+			fit.A[0], fit.B[0], c = ab[0], ab[1], cab
 		}
 		fit.CovAB[0] = c
 		det := c[0][0]*c[1][1] - c[0][1]*c[1][0]
@@ -149,7 +165,11 @@ func (tr *trial) seasonCoherence() {
 	switch {
 	case pval < alpha:
 		e.Points, e.Weight = TowardActivity, tr.d.w.SeasonCoherence.Activity
-		e.Reason = fmt.Sprintf("amplitude and phase change between %d %s (χ² = %.1f for %d dof, p = %.2g; errors scaled by a red-noise factor %.2f)", len(parts), how, chi2, dof, pval, beta)
+		errs := fmt.Sprintf("errors scaled by a red-noise factor %.2f", beta)
+		if noiseModel {
+			errs = "errors from the GP activity model of the model comparison"
+		}
+		e.Reason = fmt.Sprintf("amplitude and phase change between %d %s (χ² = %.1f for %d dof, p = %.2g; %s)", len(parts), how, chi2, dof, pval, errs)
 	case minSNR >= 3:
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.SeasonCoherence.Planet
 		e.Reason = fmt.Sprintf("amplitude and phase agree across %d %s (χ² = %.1f for %d dof, p = %.2g; each part at ≥ %.1fσ)", len(parts), how, chi2, dof, pval, minSNR)
@@ -158,6 +178,47 @@ func (tr *trial) seasonCoherence() {
 		e.Reason = fmt.Sprintf("amplitude and phase agree across %d %s (p = %.2g), but the signal is only %.1fσ in the weakest part: a weak test", len(parts), how, pval, minSNR)
 	}
 	tr.add(e)
+}
+
+// gpPartFit fits the signal's sinusoid (with one offset per instrument
+// group g of ng) to one part of the data, times ts, values ys, errors es
+// and global instrument indices gi, by generalised least squares with the
+// covariance of the model comparison's GP (its MAP parameters, jitters
+// included). It returns the cosine and sine amplitudes and their
+// covariance; ok is false when the covariance cannot be factorised.
+func (tr *trial) gpPartFit(ts, ys, es []float64, g []int, ng int, gi []int) (ab [2]float64, cov [2][2]float64, ok bool) {
+	m, r := tr.det.gp, tr.det.gpFit
+	variance := make([]float64, len(es))
+	for i, e := range es {
+		variance[i] = e * e
+	}
+	sol, err := m.noise(r.theta).Factor(ts, variance, gi)
+	if err != nil || sol == nil {
+		return ab, cov, false
+	}
+	var cols [][]float64
+	for k := 0; k < ng; k++ {
+		c := make([]float64, len(ts))
+		for i := range c {
+			if g[i] == k {
+				c[i] = 1
+			}
+		}
+		cols = append(cols, c)
+	}
+	cc, sc := make([]float64, len(ts)), make([]float64, len(ts))
+	for i, ti := range ts {
+		sc[i], cc[i] = math.Sincos(2 * math.Pi * tr.f * (ti - tr.d.t0))
+	}
+	cols = append(cols, cc, sc)
+	beta, cb, _, ok := glsProfile(sol, cols, ys, true)
+	if !ok || cb == nil {
+		return ab, cov, false
+	}
+	j := ng
+	ab = [2]float64{beta[j], beta[j+1]}
+	cov = [2][2]float64{{cb.At(j, j), cb.At(j, j+1)}, {cb.At(j+1, j), cb.At(j+1, j+1)}}
+	return ab, cov, true
 }
 
 // stackedGrowth is test 5b: the growth of the signal's power as epochs are

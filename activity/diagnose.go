@@ -473,7 +473,9 @@ func (tr *trial) run(sig *Signal) {
 	tr.rotationMatch()
 	tr.cycleMatch()
 	tr.indicatorTests()
-	tr.seasonCoherence()
+	// The season test runs after the model comparison, whose GP gives its
+	// errors (seasonCoherence), and its item keeps its place in the list.
+	at, nskip := len(tr.ev), len(tr.skip)
 	tr.stackedGrowth()
 	tr.chromaticity()
 	tr.ffPrime()
@@ -482,6 +484,10 @@ func (tr *trial) run(sig *Signal) {
 	} else {
 		tr.modelComparison()
 	}
+	after, afterSkip := append([]Evidence(nil), tr.ev[at:]...), append([]Skipped(nil), tr.skip[nskip:]...)
+	tr.ev, tr.skip = tr.ev[:at], tr.skip[:nskip]
+	tr.seasonCoherence()
+	tr.ev, tr.skip = append(tr.ev, after...), append(tr.skip, afterSkip...)
 	sig.Evidence = tr.ev
 	sig.Skipped = tr.skip
 	if tr.caveat != "" && sig.Caveat == "" {
