@@ -85,7 +85,8 @@ func (tr *trial) seasonCoherence() {
 	// parameters held): the activity the GP describes is then noise whose
 	// leakage into a short season the errors carry, which the red-noise
 	// factor β, one number for the whole series, under-states within a
-	// season. Without it, the errors are the white ones times β.
+	// season (docs/methods.md §14.11). Without it, the errors are the
+	// white ones times β.
 	noiseModel := tr.det.gp != nil && tr.det.gpFit != nil && tr.det.gpFit.ok
 	for s := 0; s < ns; s++ {
 		var ts, ys, es []float64

@@ -450,7 +450,8 @@ const starFileSource = "star file"
 // practice). A period the data measure to 1 % then narrows the windows a
 // 10 % catalogue value would draw about every harmonic. When they
 // disagree, the star file stands (it may come from photometry the RVs
-// never saw) and the data's estimate is listed beside it as before.
+// never saw) and the data's estimate is listed beside it as before
+// (docs/methods.md §14.12).
 func combineStarFile(rot Rotation, h RotationHypothesis) Rotation {
 	p1, e1 := float64(rot.Period), float64(rot.Err)
 	p2, e2 := h.Period, h.Err
