@@ -197,21 +197,10 @@ func (tr *trial) gpPartFit(ts, ys, es []float64, g []int, ng int, gi []int) (ab 
 	if err != nil || sol == nil {
 		return ab, cov, false
 	}
-	var cols [][]float64
-	for k := 0; k < ng; k++ {
-		c := make([]float64, len(ts))
-		for i := range c {
-			if g[i] == k {
-				c[i] = 1
-			}
-		}
-		cols = append(cols, c)
-	}
-	cc, sc := make([]float64, len(ts)), make([]float64, len(ts))
-	for i, ti := range ts {
-		sc[i], cc[i] = math.Sincos(2 * math.Pi * tr.f * (ti - tr.d.t0))
-	}
-	cols = append(cols, cc, sc)
+	// The design of the GP model on this part: its offsets and the
+	// sinusoid at the signal's frequency.
+	part := gpModel{t: ts, inst: g, ninst: ng, freq: tr.f, t0: tr.d.t0}
+	cols := part.design()
 	beta, cb, _, ok := glsProfile(sol, cols, ys, true)
 	if !ok || cb == nil {
 		return ab, cov, false
