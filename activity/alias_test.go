@@ -72,3 +72,28 @@ func TestRotationWindowDifferentialRotation(t *testing.T) {
 		t.Errorf("a signal at %.3f d with P_rot = 25 d: rotation match %+v", q, e)
 	}
 }
+
+// TestRotationMatchPrefersHarmonic: with P_rot = 9 ± 0.2 d from a star
+// file, a signal at 1/(3/9 + 0.0025) ≈ 2.978 d lies inside the windows of
+// both P_rot/3 (3 d) and its 1-year alias (1/(3/9 + 1/365.25) ≈ 2.976 d),
+// a little nearer the alias. It is the third harmonic itself: a harmonic
+// explains a period before an alias of it does, and the model comparison,
+// whose sinusoid fits the coherent part of activity at any harmonic, is
+// then no evidence for a planet.
+func TestRotationMatchPrefersHarmonic(t *testing.T) {
+	p := 1 / (3.0/9 + 0.0025)
+	s := synth(4, 1, sine(4, p, 0.3), nil, nil)
+	star := &Star{Name: "Orvell-2", RotationPeriod: 9, RotationPeriodErr: 0.2}
+	dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{p}, Star: star, Seed: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sg := dg.Signals[0]
+	e := evidence(&sg, "rotation_match")
+	if e == nil || e.Points != TowardActivity || !strings.Contains(e.Reason, "at P_rot/3 of") {
+		t.Fatalf("a signal at %.4f d with P_rot = 9 d: rotation match %+v", p, e)
+	}
+	if mc := evidence(&sg, "model_comparison"); mc == nil || mc.Points == TowardPlanet {
+		t.Errorf("at P_rot/3 the model comparison cannot tell a planet: %+v", mc)
+	}
+}

@@ -67,6 +67,21 @@ type harmonic struct {
 // strong reports whether h is P_rot or P_rot/2 itself (not an alias).
 func (h harmonic) strong() bool { return !h.alias && (h.n == 1 || h.n == 2) }
 
+// rank orders the harmonics a period matches: P_rot and P_rot/2 first,
+// then the other harmonics themselves, then aliases. A period inside
+// both a harmonic's window and its 1-year alias's (which lie 0.0027 c/d
+// apart, less than most windows) is the harmonic: the simpler
+// explanation, whatever the last digits of the distance.
+func (h harmonic) rank() int {
+	switch {
+	case h.strong():
+		return 0
+	case !h.alias:
+		return 1
+	}
+	return 2
+}
+
 // gpReach reports whether h is a harmonic (not an alias) the GP activity
 // model of the model comparison cannot fully absorb or that a sinusoid
 // fits as well as an orbit: P_rot … P_rot/4.
@@ -139,7 +154,8 @@ func rotationWindow(n, prot, perr, res float64) float64 {
 // rotationMatch is test 2: is the period near a rotation period, its
 // harmonics or their aliases, within rotationWindow (the resolution,
 // twice the rotation period's error, differential rotation)? Every rotation hypothesis is considered
-// and weighs by its share; P_rot and P_rot/2 are checked before any alias.
+// and weighs by its share; P_rot and P_rot/2 are checked before any
+// other harmonic, and every harmonic before any alias (harmonic.rank).
 // A signal at P_rot or P_rot/2 of a hypothesis with a share of 10 % or
 // more is never planet-like.
 func (tr *trial) rotationMatch() {
@@ -164,7 +180,7 @@ func (tr *trial) rotationMatch() {
 			tol := rotationWindow(h.n, prot, perr, res)
 			dist := math.Abs(tr.f-h.freq) / tol
 			bestD = math.Min(bestD, dist)
-			if dist <= 1 && (match == nil || (!match.strong() && h.strong()) || (match.strong() == h.strong() && dist < matchD)) {
+			if dist <= 1 && (match == nil || h.rank() < match.rank() || (h.rank() == match.rank() && dist < matchD)) {
 				hh := h
 				match, matchD, matchTol = &hh, dist, tol
 			}
