@@ -97,3 +97,31 @@ func TestRotationMatchPrefersHarmonic(t *testing.T) {
 		t.Errorf("at P_rot/3 the model comparison cannot tell a planet: %+v", mc)
 	}
 }
+
+// TestFastRotatorAliasWindow: a star file gives P_rot = 2.4 ± 0.24 d. The
+// 1-day alias of P_rot/2 lies at 1.0027 − 2/2.4 ≈ 0.169 c/d, and the
+// harmonic's error (±0.18 c/d with differential rotation, twice the
+// error) spans every period beyond about 2.9 d there. A planet at 38 d is
+// inside that window, which weighs nothing and must not bar a planet-like
+// verdict; the same planet at P_rot/2 itself is barred.
+func TestFastRotatorAliasWindow(t *testing.T) {
+	star := &Star{Name: "Quill-7", RotationPeriod: 2.4, RotationPeriodErr: 0.24}
+	for _, c := range []struct {
+		p      float64
+		barred bool
+	}{{38, false}, {1.2, true}} {
+		s := synth(6, 1, sine(5, c.p, 0.4), nil, nil)
+		dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{c.p}, Star: star, SkipModels: true, Seed: 6})
+		if err != nil {
+			t.Fatal(err)
+		}
+		sg := dg.Signals[0]
+		e := evidence(&sg, "rotation_match")
+		if e == nil {
+			t.Fatalf("%g d: no rotation match", c.p)
+		}
+		if got := strings.Contains(sg.Caveat, "rotation hypothesis"); got != c.barred {
+			t.Errorf("%g d: barred by the rotation = %v, want %v (caveat %q; %s)", c.p, got, c.barred, sg.Caveat, e.Reason)
+		}
+	}
+}

@@ -216,8 +216,13 @@ func (tr *trial) rotationMatch() {
 			// P_rot, P_rot/2 and their 1-day aliases are one frequency
 			// to nightly data: any of them bars a planet-like verdict.
 			// (A 1-year alias lies within the error of most rotation
-			// periods and weighs by its window only.)
-			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 {
+			// periods and weighs by its window only.) A window that
+			// weighs nothing bars nothing: the 1-day alias of a fast
+			// rotator's harmonic (1 − 2/P_rot c/d for P_rot near 2 d)
+			// carries the harmonic's whole error in frequency to the
+			// long periods, where it spans every period beyond a few
+			// days, and landing there is no evidence of activity.
+			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 && ww > 0 {
 				tr.strongRotation = true
 				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
 			}
