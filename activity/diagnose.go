@@ -451,11 +451,12 @@ type trial struct {
 	rot    Rotation
 	rng    *rand.Rand
 	// strongRotation reports whether the period sits at P_rot or P_rot/2
-	// of a rotation hypothesis; gpDegenerate whether it sits at any
-	// harmonic up to P_rot/4, where a sinusoid fits activity as well as an
-	// orbit; caveat is why the signal cannot be planet-like.
+	// of a rotation hypothesis; gpDegenerate is the share of the rotation
+	// hypotheses at one of whose harmonics up to P_rot/4 it sits, where a
+	// sinusoid fits activity as well as an orbit; caveat is why the
+	// signal cannot be planet-like.
 	strongRotation bool
-	gpDegenerate   bool
+	gpDegenerate   float64
 	caveat         string
 	// det collects what the report draws.
 	det  signalDetails

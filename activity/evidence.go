@@ -227,7 +227,7 @@ func (tr *trial) rotationMatch() {
 				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
 			}
 			if match.gpReach() && hy.Share >= 0.1 && ww >= 0.5 {
-				tr.gpDegenerate = true
+				tr.gpDegenerate = math.Min(1, tr.gpDegenerate+hy.Share)
 			}
 		default:
 			// A mismatch with a poorly known period says little: it weighs

@@ -662,7 +662,10 @@ func (tr *trial) modelComparison() {
 	d := tr.d
 	prot, perr := float64(tr.rot.Period), float64(tr.rot.Err)
 	free := !(prot > 0)
-	atRotation := tr.gpDegenerate
+	// degenerate is the share of the rotation hypotheses that put the
+	// period at a harmonic where a sinusoid fits activity as well as an
+	// orbit: the comparison's pull toward a planet counts for the rest.
+	degenerate := tr.gpDegenerate
 	// Indicators varying at the period mean the star itself varies there: a
 	// Keplerian that survives the GP then models activity the GP's two
 	// modes (P_rot, P_rot/2) do not reach, not an orbit.
@@ -727,7 +730,7 @@ func (tr *trial) modelComparison() {
 	// GP held away from them (heldAwayFit), "a planet at this period and
 	// activity elsewhere, if any".
 	var atP gpResult
-	if free && !tr.gpDegenerate && d.ctx.Err() == nil {
+	if free && !(tr.gpDegenerate > 0) && d.ctx.Err() == nil {
 		atP = onSignalFit(m, tr.f, r0)
 	}
 	atBound := free && r0.ok && (r0.period < 1.05*m.pLo || r0.period > 0.95*m.pHi)
@@ -741,7 +744,9 @@ func (tr *trial) modelComparison() {
 	if free && r0.ok {
 		prot = r0.period
 		settled = onSignal(r0.period, tr.f)
-		atRotation = atRotation || settled
+		if settled {
+			degenerate = 1
+		}
 	}
 	m1 := *m
 	m1.freq = tr.f
@@ -810,6 +815,13 @@ func (tr *trial) modelComparison() {
 	// ΔBIC below −10 is "very strong" evidence (Kass & Raftery 1995, from
 	// memory); an amplitude under 3σ is not a detection (common practice).
 	e := Evidence{Name: "model_comparison", Value: Num(dBIC), Threshold: -10}
+	atRotation := degenerate > 0.99
+	// part says, when some rotation hypotheses put the period at a
+	// harmonic, how much of the pull toward a planet is left.
+	part := ""
+	if degenerate > 0 && !atRotation {
+		part = fmt.Sprintf("; rotation hypotheses holding %.0f%% of the share put the period at a harmonic, where a sinusoid also fits the coherent part of the activity, so the test counts for the other %.0f%%", 100*degenerate, 100*(1-degenerate))
+	}
 	switch {
 	case dBIC <= -10 && snr >= 3 && indicatorsVary:
 		e.Points = TowardNeither
@@ -822,8 +834,8 @@ func (tr *trial) modelComparison() {
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, its amplitude %.1fσ from zero), but at a rotation harmonic a sinusoid also fits the coherent part of the activity, so this does not tell them apart", dBIC, snr)
 	case dBIC <= -10 && snr >= 3:
-		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet
-		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, its amplitude %.1fσ from zero", gpWhat, prot, dBIC, dlnL, snr)
+		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet*(1-degenerate)
+		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period is still needed: ΔBIC = %.1f, Δln L = %.1f, its amplitude %.1fσ from zero%s", gpWhat, prot, dBIC, dlnL, snr, part)
 	case dBIC < -2 && snr >= 3 && !indicatorsVary && !atRotation:
 		// Between "positive" and "very strong" evidence (2 ln B of 2 to
 		// 10, with ΔBIC ≈ −2 ln B; Kass & Raftery 1995) the test pulls
@@ -831,9 +843,9 @@ func (tr *trial) modelComparison() {
 		// at all: a GP whose period is free, or only loosely tied to a
 		// rotation period, absorbs part of any signal, so strong but not
 		// overwhelming evidence is the common case for a real planet.
-		frac := -dBIC / 10
+		frac := -dBIC / 10 * (1 - degenerate)
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet*frac
-		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period improves the fit: ΔBIC = %.1f, Δln L = %.1f, its amplitude %.1fσ from zero; evidence short of very strong (ΔBIC ≤ −10), so the test counts %.0f%%", gpWhat, prot, dBIC, dlnL, snr, 100*frac)
+		e.Reason = fmt.Sprintf("with activity modelled by a GP at %s = %.3g d, a Keplerian at the period improves the fit: ΔBIC = %.1f, Δln L = %.1f, its amplitude %.1fσ from zero; evidence short of very strong (ΔBIC ≤ −10)%s, so the test counts %.0f%%", gpWhat, prot, dBIC, dlnL, snr, part, 100*frac)
 	case dBIC >= 0 || snr < 2:
 		e.Points, e.Weight = TowardActivity, tr.d.w.ModelComparison.Activity
 		e.Reason = fmt.Sprintf("the GP activity model at %s = %.3g d absorbs the signal: ΔBIC = %+.1f for a Keplerian, its amplitude %.1fσ from zero", gpWhat, prot, dBIC, snr)
