@@ -133,13 +133,18 @@ type CalibrationBin struct {
 }
 
 // Curve returns the calibration curve of the probabilities in nbins equal
-// bins of predicted probability.
+// bins of predicted probability. An empty bin's Mean and Observed are NaN
+// (unknown, not zero); points whose probability is not a number in [0, 1]
+// are left out.
 func (c *Confusion) Curve(nbins int) []CalibrationBin {
 	out := make([]CalibrationBin, nbins)
 	for b := range out {
 		out[b].Lo, out[b].Hi = float64(b)/float64(nbins), float64(b+1)/float64(nbins)
 	}
 	for _, p := range c.Points {
+		if !(p.Prob >= 0 && p.Prob <= 1) {
+			continue
+		}
 		b := min(nbins-1, int(p.Prob*float64(nbins)))
 		out[b].N++
 		out[b].Mean += p.Prob
@@ -151,6 +156,8 @@ func (c *Confusion) Curve(nbins int) []CalibrationBin {
 		if out[b].N > 0 {
 			out[b].Mean /= float64(out[b].N)
 			out[b].Observed /= float64(out[b].N)
+		} else {
+			out[b].Mean, out[b].Observed = math.NaN(), math.NaN()
 		}
 	}
 	return out

@@ -3,6 +3,7 @@ package activity
 import (
 	"context"
 	"fmt"
+	"math"
 	"os"
 	"strconv"
 	"strings"
@@ -95,8 +96,8 @@ func TestCalibration(t *testing.T) {
 		fp, nfp := c.Rate("", NonPlanetary, PlanetLike)
 		det, ndet := c.Rate("", func(s string) bool { return s == "planet" }, PlanetLike)
 		atRot, nrot := c.Rate("", func(s string) bool { return s == "planet at rotation" }, PlanetLike)
-		t.Logf("held-out seeds, %s generator, %d stars:\n%s\nnon-planetary signals planet-like: %.1f%% of %d; detectable planets planet-like: %.1f%% of %d; planets at P_rot or P_rot/2 planet-like: %.1f%% of %d",
-			gen, c.Runs, b.String(), 100*fp, nfp, 100*det, ndet, 100*atRot, nrot)
+		t.Logf("held-out seeds, %s generator, %d stars:\n%s\nnon-planetary signals planet-like: %s of %d; detectable planets planet-like: %s of %d; planets at P_rot or P_rot/2 planet-like: %s of %d",
+			gen, c.Runs, b.String(), percent(fp), nfp, percent(det), ndet, percent(atRot), nrot)
 		// The targets, checked where the sample allows.
 		if nfp > 0 && fp > 0.02 {
 			t.Errorf("%s: %.1f%% of %d non-planetary signals planet-like, want ≤ 2%%", gen, 100*fp, nfp)
@@ -114,7 +115,7 @@ func TestCalibration(t *testing.T) {
 	var b strings.Builder
 	fmt.Fprintf(&b, "%-10s %5s %10s %10s\n", "P(planet)", "n", "predicted", "observed")
 	for _, bin := range cc.Curve(5) {
-		fmt.Fprintf(&b, "%.1f–%.1f   %5d %10.2f %10.2f\n", bin.Lo, bin.Hi, bin.N, bin.Mean, bin.Observed)
+		fmt.Fprintf(&b, "%.1f–%.1f   %5d %10s %10s\n", bin.Lo, bin.Hi, bin.N, fixed2(bin.Mean), fixed2(bin.Observed))
 		if bin.N >= 20 && (bin.Observed-bin.Mean > 0.1 || bin.Mean-bin.Observed > 0.1) {
 			t.Logf("calibration bin %.1f–%.1f: predicted %.2f, observed %.2f over %d signals (outside ±0.1)", bin.Lo, bin.Hi, bin.Mean, bin.Observed, bin.N)
 		}
@@ -150,5 +151,41 @@ func TestCalibrationSmoke(t *testing.T) {
 	}
 	if k := c.PerCase["FF' planet at P_rot or P_rot/2"]["planet at rotation"][PlanetLike]; k > 0 {
 		t.Errorf("%d planets at P_rot or P_rot/2 came out planet-like", k)
+	}
+}
+
+// percent writes a rate as a percentage, "—" when it is unknown (no
+// signal of that kind).
+func percent(x float64) string {
+	if math.IsNaN(x) {
+		return "—"
+	}
+	return fmt.Sprintf("%.1f%%", 100*x)
+}
+
+// fixed2 writes x to two decimals, "—" when it is unknown (an empty bin).
+func fixed2(x float64) string {
+	if math.IsNaN(x) {
+		return "—"
+	}
+	return fmt.Sprintf("%.2f", x)
+}
+
+// TestCurveEmptyBins: an empty bin of the calibration curve is unknown
+// (NaN), not a bin of zero probability where nothing was a planet; a
+// probability that is not a number is left out rather than binned.
+func TestCurveEmptyBins(t *testing.T) {
+	c := &Confusion{Points: []ProbPoint{{Prob: 0.1}, {Prob: 0.3, Planet: true}, {Prob: 0.9, Planet: true}, {Prob: math.NaN()}}}
+	bins := c.Curve(5)
+	if n := bins[0].N + bins[1].N + bins[2].N + bins[3].N + bins[4].N; n != 3 {
+		t.Fatalf("%d points binned, want 3 (the NaN left out)", n)
+	}
+	if b := bins[1]; b.N != 1 || b.Mean != 0.3 || b.Observed != 1 {
+		t.Errorf("bin 0.2–0.4: %+v", b)
+	}
+	for _, k := range []int{2, 3} {
+		if b := bins[k]; b.N != 0 || !math.IsNaN(b.Mean) || !math.IsNaN(b.Observed) {
+			t.Errorf("empty bin %.1f–%.1f: %+v, want NaN mean and observed share", b.Lo, b.Hi, b)
+		}
 	}
 }
