@@ -5,6 +5,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"spotsift/rvfit"
 )
 
 // TestAliasRival: nightly sampling puts a 15.46 d signal's 1-day alias at
@@ -123,5 +125,38 @@ func TestFastRotatorAliasWindow(t *testing.T) {
 		if got := strings.Contains(sg.Caveat, "rotation hypothesis"); got != c.barred {
 			t.Errorf("%g d: barred by the rotation = %v, want %v (caveat %q; %s)", c.p, got, c.barred, sg.Caveat, e.Reason)
 		}
+	}
+}
+
+// TestGPDegenerateShare: of three rotation hypotheses, only the one at
+// 57.48 d (51 % of the share) puts a 20.42 d period at a harmonic the GP
+// cannot tell from an orbit (P_rot/3 = 19.16 d, within its window); the
+// 30.56 d hypothesis leaves it clear, and the 105.3 d one reaches it only
+// through an alias. The model comparison's pull toward a planet then
+// counts for the other 49 %, not for nothing.
+func TestGPDegenerateShare(t *testing.T) {
+	s := synth(3, 1, sine(3, 20.42, 0.1), nil, nil)
+	o := (&Options{}).withDefaults()
+	d := &data{s: s, t: s.Time, rv: s.RV, err: s.RVErr, t0: s.Time[0], T: s.Baseline(), opts: o, w: o.weights(), ctx: context.Background()}
+	d.inst, d.ninst = groupIndex(s.Instrument)
+	var err error
+	if d.grid, err = rvfit.NewGrid(s.Time, &rvfit.GridOptions{Oversampling: o.Oversampling, PMin: o.PMin, PMax: d.T}); err != nil {
+		t.Fatal(err)
+	}
+	rot := Rotation{Period: 57.48, Err: 3.4, Source: "joint periodogram of the indicators", Hypotheses: []RotationHypothesis{
+		{Period: 57.48, Err: 3.4, Share: 0.51}, {Period: 30.56, Err: 2.5, Share: 0.32}, {Period: 105.3, Err: 12, Share: 0.17}}}
+	tr := &trial{d: d, f: 1 / 20.42, rot: rot}
+	tr.rotationMatch()
+	if math.Abs(tr.gpDegenerate-0.51) > 1e-12 {
+		t.Fatalf("degenerate share %g, want 0.51 (%+v)", tr.gpDegenerate, tr.ev)
+	}
+	if tr.caveat != "" {
+		t.Errorf("P_rot/3 must not bar a planet-like verdict: %q", tr.caveat)
+	}
+	// One hypothesis at the harmonic holds the whole share.
+	tr = &trial{d: d, f: 1 / 20.42, rot: Rotation{Period: 57.48, Err: 3.4, Source: starFileSource, Hypotheses: []RotationHypothesis{{Period: 57.48, Err: 3.4, Share: 1}}}}
+	tr.rotationMatch()
+	if tr.gpDegenerate != 1 {
+		t.Errorf("one hypothesis: degenerate share %g, want 1", tr.gpDegenerate)
 	}
 }
