@@ -27,7 +27,9 @@ func TestCalibrationMisses(t *testing.T) {
 	n := calibrationSeeds(t, 5)
 	// SPOTSIFT_CALIBRATION_MISSES_FIRST moves the first seed (default 1;
 	// training seeds only, below 1001), to study fresh training stars;
-	// SPOTSIFT_CALIBRATION_GENERATOR=simulator (or ff) keeps one generator.
+	// SPOTSIFT_CALIBRATION_GENERATOR=simulator (or ff) keeps one generator;
+	// SPOTSIFT_CALIBRATION_MISSES_GIVEN=1 judges the blind search's periods
+	// again as given periods.
 	first := 1
 	if v := os.Getenv("SPOTSIFT_CALIBRATION_MISSES_FIRST"); v != "" {
 		f, err := strconv.Atoi(v)
@@ -92,6 +94,19 @@ func TestCalibrationMisses(t *testing.T) {
 				if err != nil {
 					out[k] = err.Error()
 					continue
+				}
+				// SPOTSIFT_CALIBRATION_MISSES_GIVEN=1 judges the periods the
+				// blind search found once more, as given periods: how the
+				// verdict treats a period known from elsewhere.
+				if os.Getenv("SPOTSIFT_CALIBRATION_MISSES_GIVEN") != "" && o.Periods == nil && len(dg.Signals) > 0 {
+					o.Periods = nil
+					for _, sg := range dg.Signals {
+						o.Periods = append(o.Periods, float64(sg.Period))
+					}
+					if dg, err = Diagnose(context.Background(), series, &o); err != nil {
+						out[k] = err.Error()
+						continue
+					}
 				}
 				var b strings.Builder
 				for _, sg := range dg.Signals {
