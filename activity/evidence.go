@@ -383,10 +383,32 @@ func (tr *trial) indicatorTests() {
 	// (see Weights).
 	hf, hc := Holm(faps), Holm(cps)
 	alpha := d.opts.IndicatorAlpha
-	group := func(name string, adj []float64, w Weight, item func(k int, r res, p float64, sig bool) Evidence) {
+	// Over a long period the activity that moves the RVs (the inhibition
+	// of convective blueshift by magnetic regions) follows the filling
+	// factor as the indicators do, without the quarter-period lag that
+	// rotation puts between a spot's RV and its flux: an indicator driven
+	// by the same activity as the signal correlates with it at zero lag.
+	// One that varies at the period, strongly enough that activity of the
+	// signal's amplitude would show in it at 5σ or more, and yet does not
+	// correlate with the signal, varies at that period for another reason
+	// (a cycle whose period the signal happens to share) and is no
+	// evidence either way (docs/methods.md §14.13).
+	longTerm := 1/tr.f >= 100 && !(1/tr.f < 3*float64(tr.rot.Period))
+	outOfPhase := make([]bool, len(hf))
+	if longTerm {
+		k := 0
+		for _, r := range rs {
+			if !r.ok {
+				continue
+			}
+			outOfPhase[k] = hf[k] < alpha && !(hc[k] < alpha) && r.sens >= 5
+			k++
+		}
+	}
+	group := func(name string, adj []float64, w Weight, neutral []bool, item func(k int, r res, p float64, sig bool) Evidence) {
 		nsig := 0
-		for _, p := range adj {
-			if p < alpha {
+		for k, p := range adj {
+			if p < alpha && !(neutral != nil && neutral[k]) {
 				nsig++
 			}
 		}
@@ -400,6 +422,9 @@ func (tr *trial) indicatorTests() {
 			e.Name = name + ":" + r.name
 			e.Value, e.Threshold = Num(p), Num(alpha)
 			switch {
+			case neutral != nil && neutral[k]:
+				e.Points = TowardNeither
+				e.Reason += fmt.Sprintf(", but it does not correlate with the signal (Holm-corrected p = %.2g), though activity of the signal's amplitude would move it by %.1fσ and, over so long a period, in phase with the RVs: it varies there for another reason", hc[k], r.sens)
 			case nsig > 0 && p < alpha:
 				e.Points, e.Weight = TowardActivity, w.Activity/float64(nsig)
 			case nsig > 0:
@@ -419,13 +444,13 @@ func (tr *trial) indicatorTests() {
 			k++
 		}
 	}
-	group("indicator_power", hf, tr.d.w.IndicatorPower, func(k int, r res, p float64, sig bool) Evidence {
+	group("indicator_power", hf, tr.d.w.IndicatorPower, outOfPhase, func(k int, r res, p float64, sig bool) Evidence {
 		if sig {
 			return Evidence{Reason: fmt.Sprintf("%s varies at the signal's period (amplitude %.3g, %.1fσ; Holm-corrected false-alarm probability %.2g)", r.name, r.amp, r.snr, p)}
 		}
 		return Evidence{Reason: fmt.Sprintf("%s shows no significant power at the signal's period (Holm-corrected false-alarm probability %.2g)", r.name, p)}
 	})
-	group("indicator_correlation", hc, tr.d.w.IndicatorCorrelation, func(k int, r res, p float64, sig bool) Evidence {
+	group("indicator_correlation", hc, tr.d.w.IndicatorCorrelation, nil, func(k int, r res, p float64, sig bool) Evidence {
 		return Evidence{Reason: fmt.Sprintf("%s against the fitted signal: r = %.2f (Holm-corrected p = %.2g, %d epochs; against the signal's own RVs r = %.2f)", r.name, r.corr.R, p, r.corr.N, r.raw.R)}
 	})
 	// The lagged correlation uses the signal's own RVs, which keep whatever
