@@ -115,7 +115,7 @@ func TestCalibration(t *testing.T) {
 	var b strings.Builder
 	fmt.Fprintf(&b, "%-10s %5s %10s %10s\n", "P(planet)", "n", "predicted", "observed")
 	for _, bin := range cc.Curve(5) {
-		fmt.Fprintf(&b, "%.1f–%.1f   %5d %10s %10s\n", bin.Lo, bin.Hi, bin.N, fixed2(bin.Mean), fixed2(bin.Observed))
+		fmt.Fprintf(&b, "%.1f–%.1f   %5d %10s %10s\n", bin.Lo, bin.Hi, bin.N, fmtSig(bin.Mean, 2), fmtSig(bin.Observed, 2))
 		if bin.N >= 20 && (bin.Observed-bin.Mean > 0.1 || bin.Mean-bin.Observed > 0.1) {
 			t.Logf("calibration bin %.1f–%.1f: predicted %.2f, observed %.2f over %d signals (outside ±0.1)", bin.Lo, bin.Hi, bin.Mean, bin.Observed, bin.N)
 		}
@@ -161,14 +161,6 @@ func percent(x float64) string {
 		return "—"
 	}
 	return fmt.Sprintf("%.1f%%", 100*x)
-}
-
-// fixed2 writes x to two decimals, "—" when it is unknown (an empty bin).
-func fixed2(x float64) string {
-	if math.IsNaN(x) {
-		return "—"
-	}
-	return fmt.Sprintf("%.2f", x)
 }
 
 // TestCurveEmptyBins: an empty bin of the calibration curve is unknown
