@@ -5,8 +5,6 @@ import (
 	"math"
 	"strings"
 	"testing"
-
-	"spotsift/rvfit"
 )
 
 // TestAliasRival: nightly sampling puts a 15.46 d signal's 1-day alias at
@@ -136,11 +134,8 @@ func TestFastRotatorAliasWindow(t *testing.T) {
 // counts for the other 49 %, not for nothing.
 func TestGPDegenerateShare(t *testing.T) {
 	s := synth(3, 1, sine(3, 20.42, 0.1), nil, nil)
-	o := (&Options{}).withDefaults()
-	d := &data{s: s, t: s.Time, rv: s.RV, err: s.RVErr, t0: s.Time[0], T: s.Baseline(), opts: o, w: o.weights(), ctx: context.Background()}
-	d.inst, d.ninst = groupIndex(s.Instrument)
-	var err error
-	if d.grid, err = rvfit.NewGrid(s.Time, &rvfit.GridOptions{Oversampling: o.Oversampling, PMin: o.PMin, PMax: d.T}); err != nil {
+	d, err := newData(context.Background(), s, (&Options{}).withDefaults())
+	if err != nil {
 		t.Fatal(err)
 	}
 	rot := Rotation{Period: 57.48, Err: 3.4, Source: "joint periodogram of the indicators", Hypotheses: []RotationHypothesis{

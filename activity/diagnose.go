@@ -166,19 +166,9 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	if !(o.FAPThreshold > 0 && o.FAPThreshold < 1) {
 		return nil, fmt.Errorf("%w: false-alarm threshold %g must lie in (0, 1)", ErrBadOption, o.FAPThreshold)
 	}
-	d := &data{s: s, t: s.Time, rv: s.RV, err: s.RVErr, t0: s.Time[0], T: s.Baseline(), opts: o, w: o.weights(), ctx: ctx}
-	d.inst, d.ninst = groupIndex(s.Instrument)
-	pmax := o.PMax
-	if pmax == 0 {
-		pmax = d.T
-	}
-	if !(o.PMin > 0) || !(pmax > o.PMin) {
-		return nil, fmt.Errorf("%w: the periods searched, %g to %g d, are an empty range (the baseline is %.3g d)", ErrPeriodOutOfReach, o.PMin, pmax, d.T)
-	}
-	var err error
-	d.grid, err = rvfit.NewGrid(s.Time, &rvfit.GridOptions{Oversampling: o.Oversampling, PMin: o.PMin, PMax: pmax})
+	d, err := newData(ctx, s, o)
 	if err != nil {
-		return nil, fmt.Errorf("activity: frequency grid: %w", err)
+		return nil, err
 	}
 	for _, p := range o.Periods {
 		if !(p > 0) || math.IsInf(p, 0) {
@@ -324,6 +314,26 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		return nil, err
 	}
 	return diag, nil
+}
+
+// newData prepares the series s for the diagnosis with the options o
+// (defaults applied): its instruments and the frequency grid searched.
+func newData(ctx context.Context, s *rvfit.Series, o Options) (*data, error) {
+	d := &data{s: s, t: s.Time, rv: s.RV, err: s.RVErr, t0: s.Time[0], T: s.Baseline(), opts: o, w: o.weights(), ctx: ctx}
+	d.inst, d.ninst = groupIndex(s.Instrument)
+	pmax := o.PMax
+	if pmax == 0 {
+		pmax = d.T
+	}
+	if !(o.PMin > 0) || !(pmax > o.PMin) {
+		return nil, fmt.Errorf("%w: the periods searched, %g to %g d, are an empty range (the baseline is %.3g d)", ErrPeriodOutOfReach, o.PMin, pmax, d.T)
+	}
+	var err error
+	d.grid, err = rvfit.NewGrid(s.Time, &rvfit.GridOptions{Oversampling: o.Oversampling, PMin: o.PMin, PMax: pmax})
+	if err != nil {
+		return nil, fmt.Errorf("activity: frequency grid: %w", err)
+	}
+	return d, nil
 }
 
 // found is one signal to judge.
