@@ -101,15 +101,18 @@ func TestRotationMatchPrefersHarmonic(t *testing.T) {
 // TestFastRotatorAliasWindow: a star file gives P_rot = 2.4 ± 0.24 d. The
 // 1-day alias of P_rot/2 lies at 1.0027 − 2/2.4 ≈ 0.169 c/d, and the
 // harmonic's error (±0.18 c/d with differential rotation, twice the
-// error) spans every period beyond about 2.9 d there. A planet at 38 d is
-// inside that window, which weighs nothing and must not bar a planet-like
-// verdict; the same planet at P_rot/2 itself is barred.
+// error) spans every period beyond about 2.9 d there. A planet at 16.8 d
+// is inside that window, which weighs nothing, and its own 1-day alias
+// (1.06 d) lies within the periods searched (from 1.05 d), where the alias
+// check weighs it: no bar. At 38 d the 1-day alias (1.024 d) lies beyond
+// them, the alias check cannot weigh it, and the bar stays, as it does
+// for a planet at P_rot/2 itself.
 func TestFastRotatorAliasWindow(t *testing.T) {
 	star := &Star{Name: "Quill-7", RotationPeriod: 2.4, RotationPeriodErr: 0.24}
 	for _, c := range []struct {
 		p      float64
 		barred bool
-	}{{38, false}, {1.2, true}} {
+	}{{16.8, false}, {38, true}, {1.2, true}} {
 		s := synth(6, 1, sine(5, c.p, 0.4), nil, nil)
 		dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{c.p}, Star: star, SkipModels: true, Seed: 6})
 		if err != nil {

@@ -217,12 +217,24 @@ func (tr *trial) rotationMatch() {
 			// to nightly data: any of them bars a planet-like verdict.
 			// (A 1-year alias lies within the error of most rotation
 			// periods and weighs by its window only.) A window that
-			// weighs nothing bars nothing: the 1-day alias of a fast
+			// weighs nothing bars nothing where the alias check can
+			// weigh the alias instead: the 1-day alias of a fast
 			// rotator's harmonic (1 − 2/P_rot c/d for P_rot near 2 d)
 			// carries the harmonic's whole error in frequency to the
 			// long periods, where it spans every period beyond a few
-			// days, and landing there is no evidence of activity.
-			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 && ww > 0 {
+			// days, and landing there is no evidence of activity. But
+			// when the signal's own 1-day alias, the frequency it would
+			// have at the harmonic, lies beyond the periods searched,
+			// the alias check cannot fit it, and the bar stays.
+			g := tr.f
+			if match.alias {
+				g = math.Abs(tr.f - siderealFreq)
+				if a := tr.f + siderealFreq; math.Abs(a-match.n/prot) < math.Abs(g-match.n/prot) {
+					g = a
+				}
+			}
+			searched := g >= tr.d.grid.FMin && g <= tr.d.grid.FMax()
+			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 && (ww > 0 || !searched) {
 				tr.strongRotation = true
 				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
 			}
