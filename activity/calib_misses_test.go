@@ -99,7 +99,6 @@ func TestCalibrationMisses(t *testing.T) {
 				// blind search found once more, as given periods: how the
 				// verdict treats a period known from elsewhere.
 				if os.Getenv("SPOTSIFT_CALIBRATION_MISSES_GIVEN") != "" && o.Periods == nil && len(dg.Signals) > 0 {
-					o.Periods = nil
 					for _, sg := range dg.Signals {
 						o.Periods = append(o.Periods, float64(sg.Period))
 					}

@@ -87,6 +87,21 @@ func (h harmonic) rank() int {
 // fits as well as an orbit: P_rot … P_rot/4.
 func (h harmonic) gpReach() bool { return !h.alias && h.n >= 1 }
 
+// aliasSearched reports whether the frequency a signal at f would have at
+// a rotation harmonic of frequency fh lies within the periods searched: f
+// itself when the match is the harmonic, and when it is a 1-day alias of
+// it, the one of |f − 1 sidereal day⁻¹| and f + 1 sidereal day⁻¹ nearer fh.
+func (d *data) aliasSearched(f, fh float64, alias bool) bool {
+	g := f
+	if alias {
+		g = math.Abs(f - siderealFreq)
+		if a := f + siderealFreq; math.Abs(a-fh) < math.Abs(g-fh) {
+			g = a
+		}
+	}
+	return g >= d.grid.FMin && g <= d.grid.FMax()
+}
+
 // windowWeight scales a harmonic, alias or cycle match by the share q of
 // the searched period axis (in ln P: planets are spread about evenly in
 // log period) that the match window covers: a window covering 30 % of the
@@ -226,15 +241,7 @@ func (tr *trial) rotationMatch() {
 			// when the signal's own 1-day alias, the frequency it would
 			// have at the harmonic, lies beyond the periods searched,
 			// the alias check cannot fit it, and the bar stays.
-			g := tr.f
-			if match.alias {
-				g = math.Abs(tr.f - siderealFreq)
-				if a := tr.f + siderealFreq; math.Abs(a-match.n/prot) < math.Abs(g-match.n/prot) {
-					g = a
-				}
-			}
-			searched := g >= tr.d.grid.FMin && g <= tr.d.grid.FMax()
-			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 && (ww > 0 || !searched) {
+			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 && (ww > 0 || !tr.d.aliasSearched(tr.f, match.n/prot, match.alias)) {
 				tr.strongRotation = true
 				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
 			}
