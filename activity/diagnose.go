@@ -277,7 +277,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		if r := rivals[k]; r != nil && sig.Caveat == "" {
 			sig.Caveat = fmt.Sprintf("its period is ambiguous: the %s at %.4g d fits the data about as well", r.label, 1/r.freq)
 		}
-		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
+		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: math.Atan2(all.B[k], all.A[k]), rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
 		if r := rivals[k]; r != nil {
 			how := "fits about as well as"
@@ -458,8 +458,11 @@ type trial struct {
 	comp   []float64 // the fitted sinusoid at each epoch
 	amp    float64
 	ampErr float64
-	rot    Rotation
-	rng    *rand.Rand
+	// phase is the fitted sinusoid's phase φ, the sinusoid being
+	// amp·cos(2πf(t − t0) − φ) with t0 the data's phase reference.
+	phase float64
+	rot   Rotation
+	rng   *rand.Rand
 	// strongRotation reports whether the period sits at P_rot or P_rot/2
 	// of a rotation hypothesis; gpDegenerate is the share of the rotation
 	// hypotheses at one of whose harmonics up to P_rot/4 it sits, where a

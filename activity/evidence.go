@@ -291,14 +291,66 @@ func (tr *trial) cycleMatch() {
 	if dist <= 1 && ww > 0 {
 		e.Points, e.Weight = TowardActivity, tr.d.w.CycleMatch*ww
 		e.Reason = fmt.Sprintf("the period %.4g d matches the magnetic cycle seen in %s (%.4g ± %.2g d, false-alarm probability %.2g), a window covering %.1f%% of the periods searched (weight ×%.2f)", p, c.Indicator, c.Period, c.Err, c.FAP, 100*q, ww)
-		if ww >= 0.5 {
-			tr.caveat = fmt.Sprintf("the period matches the magnetic cycle seen in %s", c.Indicator)
+		if ww >= 0.5 && tr.caveat == "" {
+			tr.caveat = cycleCaveat(c.Indicator)
 		}
 	} else {
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("for information: the period %.4g d is %.1f tolerance widths from the magnetic cycle seen in %s (%.4g ± %.2g d), whose window covers %.1f%% of the periods searched", p, dist, c.Indicator, c.Period, c.Err, 100*q)
 	}
 	tr.add(e)
+}
+
+// longTermSign is the sign with which an indicator follows the RVs of
+// long-term activity: the inhibition of convective blueshift in magnetic
+// regions shifts the lines to the red as the chromospheric emission and
+// the line width rise and the CCF's contrast falls (common practice). It
+// is 0 for an indicator whose sign is not fixed (the bisector's, for one,
+// depends on the star and the instrument).
+func longTermSign(name string) float64 {
+	switch name {
+	case "s_index", "log_rhk", "halpha", "naid", "fwhm":
+		return 1
+	case "contrast":
+		return -1
+	}
+	return 0
+}
+
+// phaseGap is how far, in radians (0 to π), an indicator's phase at a
+// period sits from the phase that activity moving the RVs would give it:
+// the RVs' own phase for sign +1, the opposite for −1, either for 0.
+func phaseGap(ind, rv, sign float64) float64 {
+	d := math.Abs(math.Remainder(ind-rv, 2*math.Pi))
+	switch {
+	case sign < 0:
+		return math.Pi - d
+	case sign == 0:
+		return math.Min(d, math.Pi-d)
+	}
+	return d
+}
+
+// cycleApart sets the cycle match aside when the indicator that shows the
+// cycle does not vary with the signal as long-term activity would: the
+// period then shares the cycle's by chance, and neither its weight nor its
+// caveat stands.
+func (tr *trial) cycleApart(indicator string) {
+	for i := range tr.ev {
+		e := &tr.ev[i]
+		if e.Name != "cycle_match" || e.Points != TowardActivity {
+			continue
+		}
+		e.Points, e.Weight = TowardNeither, 0
+		e.Reason += fmt.Sprintf(", but %s does not vary in phase with the signal as long-term activity would (see its power and correlation): the period shares the cycle's by chance", indicator)
+		if tr.caveat == cycleCaveat(indicator) {
+			tr.caveat = ""
+		}
+	}
+}
+
+func cycleCaveat(indicator string) string {
+	return fmt.Sprintf("the period matches the magnetic cycle seen in %s", indicator)
 }
 
 // indicatorTests are tests 3 and 4: power at the signal's frequency in each
@@ -321,6 +373,9 @@ func (tr *trial) indicatorTests() {
 		// would show if the signal were activity.
 		ratio, sens float64
 		ratioHow    string
+		// phase is the phase of the indicator's sinusoid at the period
+		// (as trial.phase is the signal's).
+		phase float64
 	}
 	var rs []res
 	for _, ind := range d.s.Indicators {
@@ -354,6 +409,7 @@ func (tr *trial) indicatorTests() {
 		r.fap = waldFAP(fit, beta)
 		a, ae := fit.amplitude(0)
 		r.amp, r.snr = a, a/(ae*beta)
+		r.phase = math.Atan2(fit.B[0], fit.A[0])
 		r.ratio, r.ratioHow = tr.activityRatio(&ind, sigma)
 		r.sens = r.ratio * tr.amp / (ae * beta)
 		// The indicator as the correlations see it: offsets removed, and
@@ -412,8 +468,19 @@ func (tr *trial) indicatorTests() {
 	// correlate with the signal, varies at that period for another reason
 	// (a cycle whose period the signal happens to share) and is no
 	// evidence either way (docs/methods.md §14.13).
+	//
+	// The same physics fixes the sign, where an indicator has one: the
+	// lines shift to the red as the chromospheric emission and the line
+	// width rise and the CCF's contrast falls. An indicator whose own
+	// sinusoid at the period sits away from that phase of the signal's
+	// (beyond three errors of the phase difference and a twelfth of a
+	// cycle allowed for lags between the regions' growth and the indices),
+	// or that correlates with the signal with the opposite sign, moves
+	// with something else too (§14.13).
 	longTerm := 1/tr.f >= 100 && !(1/tr.f < 3*float64(tr.rot.Period))
 	outOfPhase := make([]bool, len(hf))
+	offPhase := make([]string, len(hf))
+	wrongSign := make([]bool, len(hf))
 	if longTerm {
 		k := 0
 		for _, r := range rs {
@@ -421,6 +488,18 @@ func (tr *trial) indicatorTests() {
 				continue
 			}
 			outOfPhase[k] = hf[k] < alpha && !(hc[k] < alpha) && r.sens >= 5
+			sign := longTermSign(r.name)
+			if hf[k] < alpha {
+				dev, tol := phaseGap(r.phase, tr.phase, sign), math.Pi/6+3*math.Hypot(1/r.snr, tr.ampErr/tr.amp)
+				if dev > tol {
+					offPhase[k] = fmt.Sprintf("%.0f° from the phase with the RVs that long-term activity would give (allowed: %.0f°)", dev*180/math.Pi, tol*180/math.Pi)
+					outOfPhase[k] = true
+				}
+			}
+			wrongSign[k] = hc[k] < alpha && sign*r.corr.R < 0
+			if c := tr.rot.Cycle; c != nil && c.Indicator == r.name && (offPhase[k] != "" || wrongSign[k]) {
+				tr.cycleApart(r.name)
+			}
 			k++
 		}
 	}
@@ -441,9 +520,15 @@ func (tr *trial) indicatorTests() {
 			e.Name = name + ":" + r.name
 			e.Value, e.Threshold = Num(p), Num(alpha)
 			switch {
-			case neutral != nil && neutral[k]:
+			case neutral != nil && neutral[k] && name == "indicator_power" && offPhase[k] != "":
+				e.Points = TowardNeither
+				e.Reason += fmt.Sprintf(", but %s: it varies there for another reason", offPhase[k])
+			case neutral != nil && neutral[k] && name == "indicator_power":
 				e.Points = TowardNeither
 				e.Reason += fmt.Sprintf(", but it does not correlate with the signal (Holm-corrected p = %.2g), though activity of the signal's amplitude would move it by %.1fσ and, over so long a period, in phase with the RVs: it varies there for another reason", hc[k], r.sens)
+			case neutral != nil && neutral[k]:
+				e.Points = TowardNeither
+				e.Reason += ", of the sign opposite to long-term activity's (which redshifts the lines as the chromospheric emission and the line width rise): not activity evidence"
 			case nsig > 0 && p < alpha:
 				e.Points, e.Weight = TowardActivity, w.Activity/float64(nsig)
 			case nsig > 0:
@@ -469,7 +554,7 @@ func (tr *trial) indicatorTests() {
 		}
 		return Evidence{Reason: fmt.Sprintf("%s shows no significant power at the signal's period (Holm-corrected false-alarm probability %.2g)", r.name, p)}
 	})
-	group("indicator_correlation", hc, tr.d.w.IndicatorCorrelation, nil, func(k int, r res, p float64, sig bool) Evidence {
+	group("indicator_correlation", hc, tr.d.w.IndicatorCorrelation, wrongSign, func(k int, r res, p float64, sig bool) Evidence {
 		return Evidence{Reason: fmt.Sprintf("%s against the fitted signal: r = %.2f (Holm-corrected p = %.2g, %d epochs; against the signal's own RVs r = %.2f)", r.name, r.corr.R, p, r.corr.N, r.raw.R)}
 	})
 	// The lagged correlation uses the signal's own RVs, which keep whatever

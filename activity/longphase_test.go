@@ -8,38 +8,87 @@ import (
 )
 
 // TestLongPeriodIndicatorOutOfPhase: a 120 d RV signal, ten rotations of
-// a 12 d star, beside an S-index that varies at 120 d too. In phase with the RVs, as the inhibition of
-// convective blueshift puts long-term activity, the S-index's variation is
-// activity evidence; a quarter-period away it cannot be what moves the
-// RVs, and its power at the period counts for neither side.
+// a 12 d star, beside an indicator that varies at 120 d too. The
+// inhibition of convective blueshift moves long-term activity's RVs with
+// the S-index, in phase and with the same sign: an S-index in phase is
+// activity evidence; a quarter period away, or in anti-phase, it cannot be
+// what moves the RVs, and neither its power nor its correlation counts.
+// The bisector's sign is not fixed, so in anti-phase it still counts.
 func TestLongPeriodIndicatorOutOfPhase(t *testing.T) {
 	const p = 120.0
 	for _, c := range []struct {
+		name  string
 		phase float64
 		want  string
-	}{{0, TowardActivity}, {math.Pi / 2, TowardNeither}} {
+	}{
+		{"s_index", 0, TowardActivity},
+		{"s_index", math.Pi / 2, TowardNeither},
+		{"s_index", math.Pi, TowardNeither},
+		{"bis", math.Pi, TowardActivity},
+	} {
 		// The star's rotation (12 d) moves both, which tells how much the
-		// S-index varies per m/s of activity RV.
+		// indicator varies per m/s of activity RV.
 		rv := func(t float64) float64 { return sine(5, p, 0)(t) + sine(3, 12, 0)(t) }
-		sidx := func(t float64) float64 { return sine(1, p, c.phase)(t) + sine(0.6, 12, 0)(t) }
-		s := synth(8, 1, rv, map[string]func(float64) float64{"s_index": sidx}, map[string]float64{"s_index": 0.5})
+		ind := func(t float64) float64 { return sine(1, p, c.phase)(t) + sine(0.6, 12, 0)(t) }
+		s := synth(8, 1, rv, map[string]func(float64) float64{c.name: ind}, map[string]float64{c.name: 0.5})
 		star := &Star{Name: "Hollin-5", RotationPeriod: 12, RotationPeriodErr: 1}
 		dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{p, 12}, Star: star, SkipModels: true, Seed: 8})
 		if err != nil {
 			t.Fatal(err)
 		}
 		sg := dg.Signals[0]
-		e := evidence(&sg, "indicator_power:s_index")
+		e := evidence(&sg, "indicator_power:"+c.name)
+		corr := evidence(&sg, "indicator_correlation:"+c.name)
 		if e == nil || e.Points != c.want {
-			t.Fatalf("S-index at phase %.2f: indicator power %+v, want %s (correlation %+v)", c.phase, e, c.want, evidence(&sg, "indicator_correlation:s_index"))
+			t.Fatalf("%s at phase %.2f: indicator power %+v, want %s (correlation %+v)", c.name, c.phase, e, c.want, corr)
 		}
-		if c.want == TowardNeither {
-			if !strings.Contains(e.Reason, "does not correlate") {
-				t.Errorf("the reason should say why: %s", e.Reason)
-			}
-			if sg.Verdict == ActivityLike {
-				t.Errorf("an S-index out of phase with the RVs made the signal activity-like: score %+.2f", sg.Score)
-			}
+		if c.want != TowardNeither {
+			continue
 		}
+		if !strings.Contains(e.Reason, "from the phase with the RVs") {
+			t.Errorf("%s at phase %.2f: the reason should say why: %s", c.name, c.phase, e.Reason)
+		}
+		if corr == nil || corr.Points == TowardActivity || corr.Weight > 0 {
+			t.Errorf("%s at phase %.2f: the correlation still counts for activity: %+v", c.name, c.phase, corr)
+		}
+		if sg.Verdict == ActivityLike {
+			t.Errorf("%s at phase %.2f: an indicator out of phase with the RVs made the signal activity-like: score %+.2f", c.name, c.phase, sg.Score)
+		}
+	}
+}
+
+// TestPhaseGap checks the phase distance for each sign, across the wrap.
+func TestPhaseGap(t *testing.T) {
+	for _, c := range []struct{ ind, rv, sign, want float64 }{
+		{0.1, -0.1, 1, 0.2},
+		{3.1, -3.1, 1, 2*math.Pi - 6.2},
+		{math.Pi, 0, -1, 0},
+		{math.Pi / 2, 0, -1, math.Pi / 2},
+		{math.Pi - 0.3, 0, 0, 0.3},
+		{0.3, 0, 0, 0.3},
+	} {
+		if got := phaseGap(c.ind, c.rv, c.sign); math.Abs(got-c.want) > 1e-12 {
+			t.Errorf("phaseGap(%g, %g, %g) = %g, want %g", c.ind, c.rv, c.sign, got, c.want)
+		}
+	}
+}
+
+// TestCycleApart: a cycle match whose indicator does not vary with the
+// signal loses its weight and the caveat it set, and only that caveat.
+func TestCycleApart(t *testing.T) {
+	tr := &trial{caveat: cycleCaveat("s_index")}
+	tr.add(Evidence{Name: "cycle_match", Points: TowardActivity, Weight: 0.8})
+	tr.cycleApart("s_index")
+	if e := tr.ev[0]; e.Points != TowardNeither || e.Weight != 0 || !strings.Contains(e.Reason, "by chance") {
+		t.Errorf("cycle match not set aside: %+v", e)
+	}
+	if tr.caveat != "" {
+		t.Errorf("the cycle's caveat stayed: %q", tr.caveat)
+	}
+	other := &trial{caveat: "the period sits at P_rot/2 of the rotation hypothesis 40 d"}
+	other.add(Evidence{Name: "cycle_match", Points: TowardActivity, Weight: 0.8})
+	other.cycleApart("s_index")
+	if other.caveat == "" {
+		t.Error("another test's caveat was lifted with the cycle's")
 	}
 }
