@@ -133,14 +133,18 @@ type LaggedCorrelation struct {
 
 // DiscreteCorrelation returns the lagged correlation of x and y (same
 // epochs t, NaN for missing) over lags in [−maxLag, maxLag] in bins of
-// width binWidth days, by the discrete correlation function of Edelson &
-// Krolik (1988, ApJ 333, 646; from memory):
+// width binWidth days. The pairs (i, j) with |t_j − t_i − τ| < binWidth/2
+// are binned as in the discrete correlation function of Edelson & Krolik
+// (1988, ApJ 333, 646; from memory), and each bin's correlation is
+// normalised with the means and scatters of its own pairs, the local
+// normalisation of Welsh (1999, PASP 111, 1347; from memory):
 //
-//	UDCF_ij = (x_i − x̄)(y_j − ȳ) / (s_x s_y),  Δt_ij = t_j − t_i
-//	DCF(τ)  = mean of UDCF_ij over pairs with |Δt_ij − τ| < binWidth/2
+//	r(τ) = Σ (x_i − x̄_τ)(y_j − ȳ_τ) / √(Σ (x_i − x̄_τ)² Σ (y_j − ȳ_τ)²)
 //
-// (the measurement-error term of the original is left out: it assumes the
-// errors are known better than the scatter). The p-value comes from nPerm
+// It lies in [−1, 1], as a correlation coefficient must; the global
+// normalisation of the original (x̄, s_x over all epochs) does not, and
+// gave values such as 1.5 where a bin's few pairs fell on large
+// excursions. The p-value comes from nPerm
 // permutations of y over its epochs, drawn from rng (so it cannot be below
 // 1/(nPerm+1)); bins with fewer than minPairs pairs are ignored. It returns
 // P = 1 when no bin has enough pairs.
@@ -191,11 +195,17 @@ func DiscreteCorrelation(t, x, y []float64, maxLag, binWidth float64, minPairs, 
 			if len(ps) < minPairs {
 				continue
 			}
-			s := 0.0
+			var sx, sy, sxx, syy, sxy float64
 			for _, p := range ps {
-				s += zx[p.i] * zy[p.j]
+				a, b := zx[p.i], zy[p.j]
+				sx, sy, sxx, syy, sxy = sx+a, sy+b, sxx+a*a, syy+b*b, sxy+a*b
 			}
-			v := s / float64(len(ps))
+			m := float64(len(ps))
+			den := (m*sxx - sx*sx) * (m*syy - sy*sy)
+			if !(den > 0) {
+				continue
+			}
+			v := math.Max(-1, math.Min(1, (m*sxy-sx*sy)/math.Sqrt(den)))
 			if bb < 0 || math.Abs(v) > math.Abs(bv) {
 				bv, bb = v, b
 			}
