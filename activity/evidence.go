@@ -478,35 +478,41 @@ func (tr *trial) indicatorTests() {
 	// or that correlates with the signal with the opposite sign, moves
 	// with something else too (§14.13).
 	longTerm := 1/tr.f >= 100 && !(1/tr.f < 3*float64(tr.rot.Period))
-	outOfPhase := make([]bool, len(hf))
-	offPhase := make([]string, len(hf))
-	wrongSign := make([]bool, len(hf))
+	// powerAside and corrAside hold, per indicator, why its power or its
+	// correlation counts for neither side ("" where it counts).
+	powerAside := make([]string, len(hf))
+	corrAside := make([]string, len(hf))
 	if longTerm {
 		k := 0
 		for _, r := range rs {
 			if !r.ok {
 				continue
 			}
-			outOfPhase[k] = hf[k] < alpha && !(hc[k] < alpha) && r.sens >= 5
 			sign := longTermSign(r.name)
+			off := false // its phase at the period is not activity's
 			if hf[k] < alpha {
 				dev, tol := phaseGap(r.phase, tr.phase, sign), math.Pi/6+3*math.Hypot(1/r.snr, tr.ampErr/tr.amp)
-				if dev > tol {
-					offPhase[k] = fmt.Sprintf("%.0f° from the phase with the RVs that long-term activity would give (allowed: %.0f°)", dev*180/math.Pi, tol*180/math.Pi)
-					outOfPhase[k] = true
+				off = dev > tol
+				switch {
+				case off:
+					powerAside[k] = fmt.Sprintf(", but %.0f° from the phase with the RVs that long-term activity would give (allowed: %.0f°): it varies there for another reason", dev*180/math.Pi, tol*180/math.Pi)
+				case !(hc[k] < alpha) && r.sens >= 5:
+					powerAside[k] = fmt.Sprintf(", but it does not correlate with the signal (Holm-corrected p = %.2g), though activity of the signal's amplitude would move it by %.1fσ and, over so long a period, in phase with the RVs: it varies there for another reason", hc[k], r.sens)
 				}
 			}
-			wrongSign[k] = hc[k] < alpha && sign*r.corr.R < 0
-			if c := tr.rot.Cycle; c != nil && c.Indicator == r.name && (offPhase[k] != "" || wrongSign[k]) {
+			if hc[k] < alpha && sign*r.corr.R < 0 {
+				corrAside[k] = ", of the sign opposite to long-term activity's (which redshifts the lines as the chromospheric emission and the line width rise): not activity evidence"
+			}
+			if c := tr.rot.Cycle; c != nil && c.Indicator == r.name && (off || corrAside[k] != "") {
 				tr.cycleApart(r.name)
 			}
 			k++
 		}
 	}
-	group := func(name string, adj []float64, w Weight, neutral []bool, item func(k int, r res, p float64, sig bool) Evidence) {
+	group := func(name string, adj []float64, w Weight, aside []string, item func(k int, r res, p float64, sig bool) Evidence) {
 		nsig := 0
 		for k, p := range adj {
-			if p < alpha && !(neutral != nil && neutral[k]) {
+			if p < alpha && aside[k] == "" {
 				nsig++
 			}
 		}
@@ -520,15 +526,9 @@ func (tr *trial) indicatorTests() {
 			e.Name = name + ":" + r.name
 			e.Value, e.Threshold = Num(p), Num(alpha)
 			switch {
-			case neutral != nil && neutral[k] && name == "indicator_power" && offPhase[k] != "":
+			case aside[k] != "":
 				e.Points = TowardNeither
-				e.Reason += fmt.Sprintf(", but %s: it varies there for another reason", offPhase[k])
-			case neutral != nil && neutral[k] && name == "indicator_power":
-				e.Points = TowardNeither
-				e.Reason += fmt.Sprintf(", but it does not correlate with the signal (Holm-corrected p = %.2g), though activity of the signal's amplitude would move it by %.1fσ and, over so long a period, in phase with the RVs: it varies there for another reason", hc[k], r.sens)
-			case neutral != nil && neutral[k]:
-				e.Points = TowardNeither
-				e.Reason += ", of the sign opposite to long-term activity's (which redshifts the lines as the chromospheric emission and the line width rise): not activity evidence"
+				e.Reason += aside[k]
 			case nsig > 0 && p < alpha:
 				e.Points, e.Weight = TowardActivity, w.Activity/float64(nsig)
 			case nsig > 0:
@@ -548,13 +548,13 @@ func (tr *trial) indicatorTests() {
 			k++
 		}
 	}
-	group("indicator_power", hf, tr.d.w.IndicatorPower, outOfPhase, func(k int, r res, p float64, sig bool) Evidence {
+	group("indicator_power", hf, tr.d.w.IndicatorPower, powerAside, func(k int, r res, p float64, sig bool) Evidence {
 		if sig {
 			return Evidence{Reason: fmt.Sprintf("%s varies at the signal's period (amplitude %.3g, %.1fσ; Holm-corrected false-alarm probability %.2g)", r.name, r.amp, r.snr, p)}
 		}
 		return Evidence{Reason: fmt.Sprintf("%s shows no significant power at the signal's period (Holm-corrected false-alarm probability %.2g)", r.name, p)}
 	})
-	group("indicator_correlation", hc, tr.d.w.IndicatorCorrelation, wrongSign, func(k int, r res, p float64, sig bool) Evidence {
+	group("indicator_correlation", hc, tr.d.w.IndicatorCorrelation, corrAside, func(k int, r res, p float64, sig bool) Evidence {
 		return Evidence{Reason: fmt.Sprintf("%s against the fitted signal: r = %.2f (Holm-corrected p = %.2g, %d epochs; against the signal's own RVs r = %.2f)", r.name, r.corr.R, p, r.corr.N, r.raw.R)}
 	})
 	// The lagged correlation uses the signal's own RVs, which keep whatever
