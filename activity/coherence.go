@@ -127,7 +127,7 @@ func (tr *trial) seasonCoherence() {
 		}
 		a, ae := fit.amplitude(0)
 		parts = append(parts, part{v: [2]float64{fit.A[0], fit.B[0]}, inv: [2][2]float64{{c[1][1] / det, -c[0][1] / det}, {-c[1][0] / det, c[0][0] / det}}, snr: a / ae})
-		ph := math.Atan2(fit.B[0], fit.A[0])
+		ph := fit.phase(0)
 		phErr := math.NaN()
 		if a > 0 {
 			// First-order error of atan2(B, A).

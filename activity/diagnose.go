@@ -277,7 +277,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		if r := rivals[k]; r != nil && sig.Caveat == "" {
 			sig.Caveat = fmt.Sprintf("its period is ambiguous: the %s at %.4g d fits the data about as well", r.label, 1/r.freq)
 		}
-		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: math.Atan2(all.B[k], all.A[k]), rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
+		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: all.phase(k), rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
 		if r := rivals[k]; r != nil {
 			how := "fits about as well as"

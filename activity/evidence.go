@@ -409,7 +409,7 @@ func (tr *trial) indicatorTests() {
 		r.fap = waldFAP(fit, beta)
 		a, ae := fit.amplitude(0)
 		r.amp, r.snr = a, a/(ae*beta)
-		r.phase = math.Atan2(fit.B[0], fit.A[0])
+		r.phase = fit.phase(0)
 		r.ratio, r.ratioHow = tr.activityRatio(&ind, sigma)
 		r.sens = r.ratio * tr.amp / (ae * beta)
 		// The indicator as the correlations see it: offsets removed, and

@@ -55,6 +55,10 @@ func (f *sineFit) amplitude(k int) (float64, float64) {
 	return a, math.Sqrt(math.Max(v, 0))
 }
 
+// phase returns φ_k = atan2(B_k, A_k), the sinusoid being
+// amplitude·cos(2πf_k(t − t0) − φ_k).
+func (f *sineFit) phase(k int) float64 { return math.Atan2(f.B[k], f.A[k]) }
+
 var errSingularFit = errors.New("activity: sinusoid fit is singular")
 
 // fitSines fits y at frequencies freqs (c/d) with phase reference t0;
