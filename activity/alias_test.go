@@ -43,6 +43,58 @@ func TestAliasRival(t *testing.T) {
 	}
 }
 
+// TestAliasPeriodPrior: with a prior uniform in ln P, the 1-day alias of
+// a 15.46 d signal at 1.07 d starts 2 ln(15.46/1.07) ≈ 5.3 behind in
+// −2 ln odds. A signal (K/σ_K about 4) whose alias fits only 4–9.2 worse
+// in χ² is therefore no longer ambiguous at its own period, while judged
+// at the alias the true period stays the likelier one, its prior term
+// counted with the opposite sign.
+func TestAliasPeriodPrior(t *testing.T) {
+	const p = 15.46
+	alias := 1 / (1.0027379 - 1/p)
+	if got, want := aliasPrior(1/p, 1/alias), 2*math.Log(p/alias); math.Abs(got-want) > 1e-12 || math.Abs(want-5.3) > 0.05 {
+		t.Fatalf("aliasPrior = %.4f, want 2 ln(%.2f/%.4f) = %.4f ≈ 5.3", got, p, alias, want)
+	}
+	s := synth(5, 1, sine(0.4, p, 0.3), nil, nil)
+	o := (&Options{Periods: []float64{p}, SkipModels: true, Seed: 5}).withDefaults()
+	d, err := newData(context.Background(), s, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	freqs := d.refineGiven([]float64{1 / p})
+	base, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, beta := d.jointSignificance(freqs)
+	win := d.samplingPeaks()
+	// The likelihood alone leaves the 1-day alias within reach: its Δχ²
+	// is below the limit, so only the prior keeps the period unambiguous.
+	found := false
+	for _, r := range d.aliasCandidates(base, freqs, 0, win, beta[0]) {
+		if math.Abs(r.freq-1/alias) < 2/d.T {
+			found = true
+			if !(r.dchi > 2 && r.dchi < aliasAmbiguityLimit && r.odds() >= aliasAmbiguityLimit) {
+				t.Errorf("the alias at %.4f d: Δχ² %+.1f and prior %+.1f; the case needs Δχ² between 2 and %.1f and their sum above it", 1/r.freq, r.dchi, r.prior, aliasAmbiguityLimit)
+			}
+		}
+	}
+	if !found {
+		t.Fatalf("the 1-day alias at %.4f d was not weighed", alias)
+	}
+	if r := d.aliasRivals(base, freqs, 0, win, beta[0]); r != nil {
+		t.Errorf("at its own period: the %s at %.4g d is a rival (Δχ² %+.1f, prior %+.1f)", r.label, 1/r.freq, r.dchi, r.prior)
+	}
+	dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{alias}, SkipModels: true, Seed: 5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sg := &dg.Signals[0]
+	if e := evidence(sg, "period_alias"); e == nil || !(float64(e.Value) < 0) || !strings.Contains(e.Reason, "-5.3 from a period prior") || !strings.Contains(sg.Caveat, "ambiguous") {
+		t.Errorf("judged at the alias %.4f d: caveat %q, alias evidence %+v", alias, sg.Caveat, e)
+	}
+}
+
 // TestRotationWindowDifferentialRotation: a star file gives P_rot = 25 ±
 // 0.25 d, measured from spots at some latitude; a signal 7 % faster is
 // within the spread of the star's spot rotation periods (differential

@@ -280,12 +280,12 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: all.phase(k), rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
 		if r := rivals[k]; r != nil {
-			how := "fits about as well as"
-			if r.dchi < 0 {
-				how = "fits better than"
+			how := "is about as probable as"
+			if r.odds() < 0 {
+				how = "is more probable than"
 			}
-			sig.Evidence = append(sig.Evidence, Evidence{Name: "period_alias", Value: Num(r.dchi), Threshold: Num(aliasAmbiguityLimit), Points: TowardNeither,
-				Reason: fmt.Sprintf("the %s at %.4g d %s the period, the other signals in the fit: Δχ² = %+.1f in units of the residual scatter (red noise allowed for), below %.1f; the verdict cannot rest on the period", r.label, 1/r.freq, how, r.dchi, aliasAmbiguityLimit)})
+			sig.Evidence = append(sig.Evidence, Evidence{Name: "period_alias", Value: Num(r.odds()), Threshold: Num(aliasAmbiguityLimit), Points: TowardNeither,
+				Reason: fmt.Sprintf("the %s at %.4g d %s the period, the other signals in the fit: Δχ² = %+.1f in units of the residual scatter (red noise allowed for), %+.1f from a period prior uniform in ln P, %+.1f in all, below %.1f; the verdict cannot rest on the period", r.label, 1/r.freq, how, r.dchi, r.prior, r.odds(), aliasAmbiguityLimit)})
 		}
 		// A planet claim needs the signal to stay significant once
 		// correlated noise is allowed for: by the red-noise factor of the

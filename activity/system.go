@@ -170,9 +170,9 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 }
 
 // aliasAmbiguityLimit is the Δχ² (in units of the residual scatter, red
-// noise allowed for) below which an alias of a signal's period fits about
-// as well as the period itself: 2 ln 100, an alias at least 1 % as likely
-// as the period.
+// noise allowed for, and with the period prior's term, see aliasPrior)
+// below which an alias of a signal's period is about as probable as the
+// period itself: 2 ln 100, an alias at least 1 % as likely as the period.
 const aliasAmbiguityLimit = 9.210340371976184 // 2 ln 100
 
 // aliasMinSeparation is the smallest relative separation in frequency
@@ -187,8 +187,26 @@ const aliasMinSeparation = 0.05
 type aliasRival struct {
 	freq  float64 // the alias's best frequency
 	dchi  float64 // χ²(alias) − χ²(period), in units of the residual scatter and over β²
+	prior float64 // aliasPrior(f, freq): the period prior's term, added to dchi
 	label string  // what kind of alias
 }
+
+// odds is −2 ln of the alias's posterior odds against the period: the
+// fit's Δχ² and the period prior's term.
+func (r *aliasRival) odds() float64 { return r.dchi + r.prior }
+
+// aliasPrior is the period prior's share of −2 ln of an alias's posterior
+// odds against the period: 2 ln(f_alias/f). Both candidates are peaks of
+// one width in frequency (1/T), so each one's posterior mass is its
+// likelihood times the prior density in frequency at it; a prior uniform
+// in ln P (Jeffreys' prior for a scale such as the period, the usual
+// choice in Keplerian fits; common practice) has density ∝ 1/f, and
+// favours the longer of two periods by their ratio. A fit that treats
+// the frequency grid as uniform (Δχ² alone) favours neither, which lets
+// the 1-day alias near 1 d of every planet at a few days or more stand
+// as its equal: a planet at 10 d whose alias at 1.11 d fits 7 worse in
+// χ² is 9 times likelier by the prior and 300 times by both.
+func aliasPrior(f, fAlias float64) float64 { return 2 * math.Log(fAlias/f) }
 
 // aliasRivals tests, for signal k of freqs, its aliases |f ± f_w| through
 // the sampling's window: the nominal 1-day (sidereal and solar) and 1-year
@@ -199,11 +217,25 @@ type aliasRival struct {
 // one), the other signals held in the joint fit, and its χ² compared with
 // that at f. The difference is taken in units of the joint fit's reduced
 // χ² and divided by β², the residuals' red-noise factor at the period
-// (Pont, Zucker & Queloz 2006); base is the joint fit at freqs. It returns the best alias when it comes
-// within aliasAmbiguityLimit (or fits better), nil otherwise. This is the
+// (Pont, Zucker & Queloz 2006), and the period prior's term (aliasPrior)
+// added; base is the joint fit at freqs. It returns the likeliest alias
+// when it comes within aliasAmbiguityLimit (or is likelier than the
+// period), nil otherwise. This is the
 // question Dawson & Fabrycky (2010) answer by comparing periodograms, in
 // its simplest form: the fit of each candidate (docs/methods.md §14.6).
 func (d *data) aliasRivals(base *sineFit, freqs []float64, k int, win []float64, beta float64) *aliasRival {
+	var best *aliasRival
+	for _, r := range d.aliasCandidates(base, freqs, k, win, beta) {
+		if r.odds() < aliasAmbiguityLimit && (best == nil || r.odds() < best.odds()) {
+			best = &r
+		}
+	}
+	return best
+}
+
+// aliasCandidates returns every alias aliasRivals weighs, each at its
+// best frequency, whether it comes within the limit or not.
+func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []float64, beta float64) []aliasRival {
 	if base == nil || base.Dof <= 0 || !isFinite(base.ChiSq) {
 		return nil
 	}
@@ -229,7 +261,7 @@ func (d *data) aliasRivals(base *sineFit, freqs []float64, k int, win []float64,
 	}
 	f := freqs[k]
 	res := 1 / d.T
-	var best *aliasRival
+	var out []aliasRival
 	trial := append([]float64(nil), freqs...)
 	for _, sh := range shifts {
 		for _, fa := range []float64{math.Abs(f - sh.df), f + sh.df} {
@@ -249,16 +281,15 @@ func (d *data) aliasRivals(base *sineFit, freqs []float64, k int, win []float64,
 					bestChi, bestF = fit.ChiSq, trial[k]
 				}
 			}
-			dchi := (bestChi - base.ChiSq) / scale
-			if dchi < aliasAmbiguityLimit && (best == nil || dchi < best.dchi) {
-				best = &aliasRival{freq: bestF, dchi: dchi, label: sh.label}
+			if isFinite(bestChi) {
+				out = append(out, aliasRival{freq: bestF, dchi: (bestChi - base.ChiSq) / scale, prior: aliasPrior(f, bestF), label: sh.label})
 			}
 		}
 		if d.ctx.Err() != nil {
-			return best
+			return out
 		}
 	}
-	return best
+	return out
 }
 
 // samplingPeaks returns the frequencies of the sampling's spectral-window
