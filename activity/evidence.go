@@ -332,17 +332,17 @@ func phaseGap(ind, rv, sign float64) float64 {
 }
 
 // cycleApart sets the cycle match aside when the indicator that shows the
-// cycle does not vary with the signal as long-term activity would: the
-// period then shares the cycle's by chance, and neither its weight nor its
-// caveat stands.
-func (tr *trial) cycleApart(indicator string) {
+// cycle does not vary with the signal as long-term activity would (why
+// says how): the period then shares the cycle's by chance, and neither
+// its weight nor its caveat stands.
+func (tr *trial) cycleApart(indicator, why string) {
 	for i := range tr.ev {
 		e := &tr.ev[i]
 		if e.Name != "cycle_match" || e.Points != TowardActivity {
 			continue
 		}
 		e.Points, e.Weight = TowardNeither, 0
-		e.Reason += fmt.Sprintf(", but %s does not vary in phase with the signal as long-term activity would (see its power and correlation): the period shares the cycle's by chance", indicator)
+		e.Reason += fmt.Sprintf(", but %s %s: the period shares the cycle's by chance", indicator, why)
 		if tr.caveat == cycleCaveat(indicator) {
 			tr.caveat = ""
 		}
@@ -504,7 +504,28 @@ func (tr *trial) indicatorTests() {
 				corrAside[k] = ", of the sign opposite to long-term activity's (which redshifts the lines as the chromospheric emission and the line width rise): not activity evidence"
 			}
 			if c := tr.rot.Cycle; c != nil && c.Indicator == r.name && (off || corrAside[k] != "") {
-				tr.cycleApart(r.name)
+				tr.cycleApart(r.name, "does not vary in phase with the signal as long-term activity would (see its power and correlation)")
+			}
+			k++
+		}
+	}
+	// A cycle match says that the indicator showing the cycle varies at
+	// the signal's period. When that indicator, fitted at the period,
+	// shows there neither significant power nor a significant correlation
+	// with the signal, it does not: the match rests only on the width of
+	// the cycle's window (half a resolution element, and a cycle longer
+	// than the baseline has an error as large as its period), and the
+	// cycle's own variation lies at a frequency the fit at the period does
+	// not see (a sinusoid a resolution element away is orthogonal to it
+	// over the baseline). The match is then set aside.
+	if c := tr.rot.Cycle; c != nil {
+		k := 0
+		for _, r := range rs {
+			if !r.ok {
+				continue
+			}
+			if r.name == c.Indicator && !(hf[k] < alpha) && !(hc[k] < alpha) {
+				tr.cycleApart(r.name, fmt.Sprintf("shows at the signal's period neither significant power (Holm-corrected false-alarm probability %.2g) nor a correlation with the signal (Holm-corrected p = %.2g): it varies at the cycle's period, not at the signal's", hf[k], hc[k]))
 			}
 			k++
 		}

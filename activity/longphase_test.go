@@ -78,7 +78,7 @@ func TestPhaseGap(t *testing.T) {
 func TestCycleApart(t *testing.T) {
 	tr := &trial{caveat: cycleCaveat("s_index")}
 	tr.add(Evidence{Name: "cycle_match", Points: TowardActivity, Weight: 0.8})
-	tr.cycleApart("s_index")
+	tr.cycleApart("s_index", "does not vary with the signal")
 	if e := tr.ev[0]; e.Points != TowardNeither || e.Weight != 0 || !strings.Contains(e.Reason, "by chance") {
 		t.Errorf("cycle match not set aside: %+v", e)
 	}
@@ -87,8 +87,52 @@ func TestCycleApart(t *testing.T) {
 	}
 	other := &trial{caveat: "the period sits at P_rot/2 of the rotation hypothesis 40 d"}
 	other.add(Evidence{Name: "cycle_match", Points: TowardActivity, Weight: 0.8})
-	other.cycleApart("s_index")
+	other.cycleApart("s_index", "does not vary with the signal")
 	if other.caveat == "" {
 		t.Error("another test's caveat was lifted with the cycle's")
+	}
+}
+
+// TestCycleMatchNeedsIndicatorAtPeriod: the S-index carries a strong
+// cycle of 1000 d, whose window (a cycle twice the baseline has an error
+// of about its period) reaches a 340 d planet one resolution element
+// away. Fitted at 340 d the S-index shows nothing, so the match is set
+// aside, with its caveat. With the S-index varying at 340 d too, in phase
+// with the RVs, the match stands.
+func TestCycleMatchNeedsIndicatorAtPeriod(t *testing.T) {
+	const p, pc = 340.0, 1000.0
+	for _, withSignal := range []bool{false, true} {
+		ind := func(t float64) float64 {
+			v := sine(0.1, pc, 0)(t)
+			if withSignal {
+				v += sine(0.02, p, 0)(t)
+			}
+			return v
+		}
+		s := synth(9, 1, sine(5, p, 0), map[string]func(float64) float64{"s_index": ind}, map[string]float64{"s_index": 0.005})
+		dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{p}, SkipModels: true, Seed: 9})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if c := dg.Rotation.Cycle; c == nil || c.Indicator != "s_index" {
+			t.Fatalf("no cycle found in the S-index: %+v", c)
+		}
+		sg := dg.Signals[0]
+		e := evidence(&sg, "cycle_match")
+		if e == nil || !(float64(e.Value) <= 1) {
+			t.Fatalf("S-index at the period %v: the 340 d signal should be within the cycle's window: %+v", withSignal, e)
+		}
+		if withSignal {
+			if e.Points != TowardActivity {
+				t.Errorf("the S-index varies at 340 d in phase with the RVs, yet the cycle match does not count: %s", e.Reason)
+			}
+			continue
+		}
+		if e.Points != TowardNeither || e.Weight != 0 || !strings.Contains(e.Reason, "neither significant power") {
+			t.Errorf("the S-index shows nothing at 340 d, yet the cycle match counts: %+v", e)
+		}
+		if strings.Contains(sg.Caveat, "magnetic cycle") {
+			t.Errorf("the cycle's caveat stayed: %q", sg.Caveat)
+		}
 	}
 }
