@@ -45,7 +45,7 @@ func TestAliasRival(t *testing.T) {
 
 // TestAliasPeriodPrior: with a prior uniform in ln P, the 1-day alias of
 // a 15.46 d signal at 1.07 d starts 2 ln(15.46/1.07) ≈ 5.3 behind in
-// −2 ln odds. A signal (K/σ_K about 4) whose alias fits only 4–9.2 worse
+// −2 ln odds. A signal (K/σ_K about 4) whose alias fits only 2–9.2 worse
 // in χ² is therefore no longer ambiguous at its own period, while judged
 // at the alias the true period stays the likelier one, its prior term
 // counted with the opposite sign.

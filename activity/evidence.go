@@ -482,12 +482,27 @@ func (tr *trial) indicatorTests() {
 	// correlation counts for neither side ("" where it counts).
 	powerAside := make([]string, len(hf))
 	corrAside := make([]string, len(hf))
-	if longTerm {
-		k := 0
-		for _, r := range rs {
-			if !r.ok {
-				continue
-			}
+	// A cycle match says that the indicator showing the cycle varies at
+	// the signal's period. When that indicator, fitted at the period,
+	// shows there neither significant power nor a significant correlation
+	// with the signal, it does not: the match rests only on the width of
+	// the cycle's window (half a resolution element, and a cycle longer
+	// than the baseline has an error as large as its period), and the
+	// cycle's own variation lies at a frequency the fit at the period does
+	// not see (a sinusoid a resolution element away is orthogonal to it
+	// over the baseline). The match is then set aside, as it is over a
+	// long period when the indicator varies out of phase.
+	cycle := tr.rot.Cycle
+	k := 0
+	for _, r := range rs {
+		if !r.ok {
+			continue
+		}
+		ofCycle := cycle != nil && cycle.Indicator == r.name
+		if ofCycle && !(hf[k] < alpha) && !(hc[k] < alpha) {
+			tr.cycleApart(r.name, fmt.Sprintf("shows at the signal's period neither significant power (Holm-corrected false-alarm probability %.2g) nor a correlation with the signal (Holm-corrected p = %.2g): it varies at the cycle's period, not at the signal's", hf[k], hc[k]))
+		}
+		if longTerm {
 			sign := longTermSign(r.name)
 			off := false // its phase at the period is not activity's
 			if hf[k] < alpha {
@@ -503,32 +518,11 @@ func (tr *trial) indicatorTests() {
 			if hc[k] < alpha && sign*r.corr.R < 0 {
 				corrAside[k] = ", of the sign opposite to long-term activity's (which redshifts the lines as the chromospheric emission and the line width rise): not activity evidence"
 			}
-			if c := tr.rot.Cycle; c != nil && c.Indicator == r.name && (off || corrAside[k] != "") {
+			if ofCycle && (off || corrAside[k] != "") {
 				tr.cycleApart(r.name, "does not vary in phase with the signal as long-term activity would (see its power and correlation)")
 			}
-			k++
 		}
-	}
-	// A cycle match says that the indicator showing the cycle varies at
-	// the signal's period. When that indicator, fitted at the period,
-	// shows there neither significant power nor a significant correlation
-	// with the signal, it does not: the match rests only on the width of
-	// the cycle's window (half a resolution element, and a cycle longer
-	// than the baseline has an error as large as its period), and the
-	// cycle's own variation lies at a frequency the fit at the period does
-	// not see (a sinusoid a resolution element away is orthogonal to it
-	// over the baseline). The match is then set aside.
-	if c := tr.rot.Cycle; c != nil {
-		k := 0
-		for _, r := range rs {
-			if !r.ok {
-				continue
-			}
-			if r.name == c.Indicator && !(hf[k] < alpha) && !(hc[k] < alpha) {
-				tr.cycleApart(r.name, fmt.Sprintf("shows at the signal's period neither significant power (Holm-corrected false-alarm probability %.2g) nor a correlation with the signal (Holm-corrected p = %.2g): it varies at the cycle's period, not at the signal's", hf[k], hc[k]))
-			}
-			k++
-		}
+		k++
 	}
 	group := func(name string, adj []float64, w Weight, aside []string, item func(k int, r res, p float64, sig bool) Evidence) {
 		nsig := 0

@@ -220,9 +220,9 @@ func aliasPrior(f, fAlias float64) float64 { return 2 * math.Log(fAlias/f) }
 // (Pont, Zucker & Queloz 2006), and the period prior's term (aliasPrior)
 // added; base is the joint fit at freqs. It returns the likeliest alias
 // when it comes within aliasAmbiguityLimit (or is likelier than the
-// period), nil otherwise. This is the
-// question Dawson & Fabrycky (2010) answer by comparing periodograms, in
-// its simplest form: the fit of each candidate (docs/methods.md §14.6).
+// period), nil otherwise. This is the question Dawson & Fabrycky (2010)
+// answer by comparing periodograms, in its simplest form: the fit of each
+// candidate (docs/methods.md §14.6).
 func (d *data) aliasRivals(base *sineFit, freqs []float64, k int, win []float64, beta float64) *aliasRival {
 	var best *aliasRival
 	for _, r := range d.aliasCandidates(base, freqs, k, win, beta) {
