@@ -349,6 +349,8 @@ func (tr *trial) cycleApart(indicator, why string) {
 	}
 }
 
+// cycleCaveat is the caveat a cycle match seen in indicator sets, so that
+// cycleApart lifts that caveat and no other.
 func cycleCaveat(indicator string) string {
 	return fmt.Sprintf("the period matches the magnetic cycle seen in %s", indicator)
 }
@@ -378,6 +380,7 @@ func (tr *trial) indicatorTests() {
 		phase float64
 	}
 	var rs []res
+	cycle := tr.rot.Cycle
 	for _, ind := range d.s.Indicators {
 		if ind.Name == chromaticColumn {
 			continue
@@ -396,8 +399,8 @@ func (tr *trial) indicatorTests() {
 		// leaks to neighbouring long periods and would otherwise push a
 		// real long-period planet to activity.
 		freqs := []float64{tr.f}
-		if c := tr.rot.Cycle; c != nil && 1/tr.f >= 100 && math.Abs(tr.f-1/c.Period) > 1.5/d.T {
-			freqs = append(freqs, 1/c.Period)
+		if cycle != nil && 1/tr.f >= 100 && math.Abs(tr.f-1/cycle.Period) > 1.5/d.T {
+			freqs = append(freqs, 1/cycle.Period)
 		}
 		fit, err := fitSines(d.t, ind.Value, sigma, d.inst, d.ninst, freqs, d.t0)
 		if err != nil {
@@ -492,7 +495,6 @@ func (tr *trial) indicatorTests() {
 	// not see (a sinusoid a resolution element away is orthogonal to it
 	// over the baseline). The match is then set aside, as it is over a
 	// long period when the indicator varies out of phase.
-	cycle := tr.rot.Cycle
 	k := 0
 	for _, r := range rs {
 		if !r.ok {
