@@ -363,29 +363,64 @@ func (d *data) findSignals() ([]found, error) {
 	var out []found
 	resid := append([]float64(nil), d.rv...)
 	var freqs []float64
+	chiPrev := d.chi2Offsets(d.rv)
 	for len(out) < o.MaxSignals {
 		pg, err := rvfit.GLS(d.t, resid, d.err, d.grid, &rvfit.GLSOptions{Instrument: d.s.Instrument, Context: d.ctx})
 		if err != nil {
 			return nil, fmt.Errorf("activity: RV periodogram: %w", err)
 		}
-		k := argmax(pg.Power)
-		fap := rvfit.BaluevFAP(pg.Power[k], pg.NObs, pg.NOffsets, d.grid.FMax(), pg.TEff)
+		// The periodogram's highest peaks are each refined in the joint
+		// fit (within a grid step), and the one that fits best is the
+		// signal. The grid's peak, interpolated, is within a fraction of a
+		// step of the best frequency, but a strong signal's peak is so
+		// sharp in χ² that this fraction can put one of its aliases above
+		// it on the grid, and leaves a residual that the next step would
+		// find as a second signal within the resolution of the first.
+		best, bestChi := math.NaN(), math.Inf(1)
+		trial := append(append([]float64(nil), freqs...), 0)
+		for _, k := range rvfit.LocalMaxima(pg.Power, d.grid, 1/d.T, candidatePeaks) {
+			trial[len(freqs)] = refinePeak(pg, k)
+			f := d.refineFreq(trial, len(freqs), d.grid.DF, 2)
+			trial[len(freqs)] = f
+			if fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0); err == nil && fit.ChiSq < bestChi {
+				best, bestChi = f, fit.ChiSq
+			}
+		}
+		if math.IsNaN(best) {
+			break
+		}
+		// Its power is the share of the residual χ² it removes, the
+		// other signals refitted with it.
+		pow := powerOf(bestChi, chiPrev)
+		fap := rvfit.BaluevFAP(pow, pg.NObs, pg.NOffsets, d.grid.FMax(), pg.TEff)
 		if fap > o.FAPThreshold {
 			break
 		}
-		f := refinePeak(pg, k)
-		freqs = append(freqs, f)
-		out = append(out, found{freq: f, power: pg.Power[k], fap: fap, fapCorr: math.NaN(), source: "periodogram"})
+		freqs = append(freqs, best)
+		out = append(out, found{power: pow, fap: fap, fapCorr: math.NaN(), source: "periodogram"})
+		// Each earlier frequency is refined again with the new signal in
+		// the fit.
+		for j := range freqs {
+			freqs[j] = d.refineFreq(freqs, j, d.grid.DF, 2)
+			out[j].freq = freqs[j]
+		}
 		fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
 		if err != nil {
 			break
 		}
+		chiPrev = fit.ChiSq
 		for i, ti := range d.t {
 			resid[i] = d.rv[i] - fit.model(i, ti)
 		}
 	}
 	return out, nil
 }
+
+// candidatePeaks is how many of the periodogram's highest peaks (one per
+// resolution element) the blind search refines before it picks the
+// signal: enough for a peak, its 1-day aliases on either side and the
+// sampling window's.
+const candidatePeaks = 5
 
 // tEff is the effective time span sqrt(4π Var_w(t)) of Baluev (2008),
 // weights 1/σ².

@@ -17,20 +17,31 @@ import (
 // refineGiven moves each given frequency to the maximum of the joint fit's
 // power within a quarter of the resolution element 1/T of it (a wider
 // search would absorb phase changes, which the coherence tests must see),
-// the other signals held in
-// the fit (a period quoted to a few digits, or from other data, is rarely
-// at the peak of these data).
+// the other signals held in the fit (a period quoted to a few digits, or
+// from other data, is rarely at the peak of these data).
 func (d *data) refineGiven(freqs []float64) []float64 {
 	out := append([]float64(nil), freqs...)
-	df := 1 / d.T
 	for k := range out {
 		if d.ctx.Err() != nil {
 			return out
 		}
-		best, bestChi := out[k], math.Inf(1)
-		trial := append([]float64(nil), out...)
+		out[k] = d.refineFreq(out, k, 1/(4*d.T), 1)
+	}
+	return out
+}
+
+// refineFreq returns the frequency within half of freqs[k] at which the
+// joint fit of freqs, the others held, has the least χ²: a scan in steps
+// of half/10, then, for each further level, a scan ten times finer about
+// the best of the one before.
+func (d *data) refineFreq(freqs []float64, k int, half float64, levels int) float64 {
+	best, bestChi := freqs[k], math.Inf(1)
+	trial := append([]float64(nil), freqs...)
+	step := half / 10
+	for range levels {
+		centre := best
 		for s := -10; s <= 10; s++ {
-			trial[k] = out[k] + float64(s)*df/40
+			trial[k] = centre + float64(s)*step
 			if trial[k] <= 0 {
 				continue
 			}
@@ -39,9 +50,9 @@ func (d *data) refineGiven(freqs []float64) []float64 {
 				best, bestChi = trial[k], fit.ChiSq
 			}
 		}
-		out[k] = best
+		step /= 10
 	}
-	return out
+	return best
 }
 
 // jointSignificance returns, for each signal k, the power it adds to a

@@ -288,7 +288,7 @@ func seedCandidates(s *Series, nPlanets int, o *FitOptions) ([][]seedPeak, error
 			cands[p] = []seedPeak{{f, resid.fitSine(f)}}
 		} else {
 			pg := resid.periodogram(g, true, 1)
-			for _, k := range localMaxima(pg.Power, g, 1/T, 3) {
+			for _, k := range LocalMaxima(pg.Power, g, 1/T, 3) {
 				f, _ := resid.refine(g.Freq(k), g.DF)
 				cands[p] = append(cands[p], seedPeak{f, resid.fitSine(f)})
 			}

@@ -263,9 +263,10 @@ func aliasSources(wp []WindowPeak) []aliasSource {
 	return src
 }
 
-// localMaxima returns the indices of local maxima of p, strongest first,
-// keeping only maxima at least sep frequency apart from a stronger one.
-func localMaxima(p []float64, g Grid, sep float64, n int) []int {
+// LocalMaxima returns the indices of local maxima of p on the grid g, strongest first,
+// keeping only maxima at least sep frequency apart from a stronger one, at
+// most n of them.
+func LocalMaxima(p []float64, g Grid, sep float64, n int) []int {
 	var cand []int
 	for k := range p {
 		left := k == 0 || p[k] > p[k-1]
@@ -303,7 +304,7 @@ func windowPeaks(w []float64, g Grid, T float64, n int) []WindowPeak {
 		}
 	}
 	var out []WindowPeak
-	for _, k := range localMaxima(masked, g, 1/T, n) {
+	for _, k := range LocalMaxima(masked, g, 1/T, n) {
 		out = append(out, WindowPeak{Freq: g.Freq(k), Period: 1 / g.Freq(k), Power: w[k]})
 	}
 	return out
@@ -348,7 +349,7 @@ func (d *glsData) refine(f, df float64) (float64, float64) {
 
 func (d *glsData) peaks(pg *Periodogram, T float64, n int, sources []aliasSource) []Peak {
 	g := pg.Grid
-	idx := localMaxima(pg.Power, g, 1/T, n)
+	idx := LocalMaxima(pg.Power, g, 1/T, n)
 	out := make([]Peak, 0, len(idx))
 	for _, k := range idx {
 		f, p := d.refine(g.Freq(k), g.DF)
