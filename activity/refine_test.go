@@ -61,3 +61,40 @@ func TestBlindSearchRefinesStrongSignal(t *testing.T) {
 		}
 	}
 }
+
+// TestAliasCheckLeavesOutTwin: a second frequency within the resolution
+// of the first (a given period quoted twice, or a split peak) would keep
+// the signal at its period while its alias is tried, and every alias would
+// fit as well as the period. The alias check leaves it out: the aliases
+// weigh as they do without it.
+func TestAliasCheckLeavesOutTwin(t *testing.T) {
+	const p = 4.2308
+	s := clusteredNights(1, 55, p)
+	o := (&Options{Periods: []float64{p}, SkipModels: true, Seed: 1}).withDefaults()
+	d, err := newData(context.Background(), s, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	f := d.refineGiven([]float64{1 / p})[0]
+	win := d.samplingPeaks()
+	best := func(freqs []float64) float64 {
+		t.Helper()
+		base, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		_, beta := d.jointSignificance(freqs)
+		m := math.Inf(1)
+		for _, r := range d.aliasCandidates(base, freqs, 0, win, beta[0]) {
+			m = math.Min(m, r.odds())
+		}
+		return m
+	}
+	alone := best([]float64{f})
+	if !(alone > 100) {
+		t.Fatalf("alone, the likeliest alias is at %.1f in −2 ln odds; the case needs a clear period", alone)
+	}
+	if twin := best([]float64{f, f + 0.02/d.T}); !(math.Abs(twin-alone) < 0.1*alone) {
+		t.Errorf("with a twin 0.02/T away, the likeliest alias is at %.1f in −2 ln odds (alone %.1f)", twin, alone)
+	}
+}

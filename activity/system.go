@@ -3,6 +3,7 @@ package activity
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 
 	"spotsift/rvfit"
@@ -250,6 +251,27 @@ func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []floa
 	if base == nil || base.Dof <= 0 || !isFinite(base.ChiSq) {
 		return nil
 	}
+	// Another signal within the resolution of f is this one, split by an
+	// imperfect fit (relations labels it so): held in the fit, it would
+	// keep the signal at f while the alias is tried, and every alias
+	// would fit as well. It is left out of both fits.
+	res := 1 / d.T
+	if twins := sameSignal(freqs, k, res); len(twins) > 0 {
+		kept, at := make([]float64, 0, len(freqs)-len(twins)), 0
+		for j, fj := range freqs {
+			if j == k {
+				at = len(kept)
+			}
+			if !slices.Contains(twins, j) {
+				kept = append(kept, fj)
+			}
+		}
+		fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, kept, d.t0)
+		if err != nil || fit.Dof <= 0 || !isFinite(fit.ChiSq) {
+			return nil
+		}
+		base, freqs, k = fit, kept, at
+	}
 	b2 := 1.0
 	if isFinite(beta) {
 		b2 = math.Max(1, beta*beta)
@@ -271,7 +293,6 @@ func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []floa
 		shifts = append(shifts, shift{fw, label})
 	}
 	f := freqs[k]
-	res := 1 / d.T
 	var out []aliasRival
 	trial := append([]float64(nil), freqs...)
 	for _, sh := range shifts {
@@ -298,6 +319,19 @@ func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []floa
 		}
 		if d.ctx.Err() != nil {
 			return out
+		}
+	}
+	return out
+}
+
+// sameSignal returns the indices of the signals of freqs other than k
+// that lie within tol in frequency of signal k: the relations' "same
+// signal, split by an imperfect fit".
+func sameSignal(freqs []float64, k int, tol float64) []int {
+	var out []int
+	for j, fj := range freqs {
+		if j != k && math.Abs(fj-freqs[k]) <= tol {
+			out = append(out, j)
 		}
 	}
 	return out
