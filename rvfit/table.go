@@ -272,6 +272,13 @@ const (
 	maxRelative = 100000
 )
 
+// kmsRVErr is the median RV uncertainty, in the table's unit, below which
+// a table that gives no unit is in km/s: 2 cm/s, below the photon noise
+// of any spectrograph's single measurement (the most stable reach about
+// 10 cm/s; common practice), while in km/s it is 20 m/s, above the
+// uncertainties of most RV work.
+const kmsRVErr = 0.02
+
 // minRVErr is the smallest RV uncertainty taken as measured: 1 µm/s, far
 // below any spectrograph's.
 const minRVErr = 1e-6
@@ -423,6 +430,15 @@ func (rt *rawTable) build(p *rolePlan, opts *ReadOptions) (*Series, []string, er
 			return nil, nil, terr(0, r.c.name, fmt.Errorf("%w %q for a velocity: want m/s or km/s", ErrBadUnit, clip(r.u)))
 		}
 		scales[j] = sc
+	}
+	if isRV && rvUnit == "" && errUnit == "" {
+		// No unit anywhere: velocities whose uncertainties are below
+		// any spectrograph's reach in m/s are in km/s, as many archive
+		// tables are (HARPS's, SOPHIE's).
+		if med := median(s.RVErr); med < kmsRVErr {
+			scales = [2]float64{1000, 1000}
+			note("columns %q and %q: uncertainties near %.2g are below any spectrograph's reach in m/s, so the velocities are taken in km/s (no unit given) and converted to m/s; declare --rv-unit m/s if not", p.rv.name, p.rvErr.name, med)
+		}
 	}
 	for k := range s.RV {
 		s.RV[k] *= scales[0]

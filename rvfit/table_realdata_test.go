@@ -9,7 +9,8 @@ import (
 )
 
 // realFiles are the public files of ../shared/realdata with the options
-// README.md documents for each ("Reading real tables"). minRows is the
+// README.md documents for each ("Reading real tables"), and 51 Peg's
+// also without its unit, which its uncertainties give. minRows is the
 // fewest epochs each must give (the file's row count less documented
 // rejections, from looking at the files).
 var realFiles = []struct {
@@ -21,6 +22,7 @@ var realFiles = []struct {
 	{"keck-hires/HD26965_KECK.vels", ReadOptions{Columns: map[string]string{"s_index": "4", "halpha": "5"}}, 280, []string{"s_index", "halpha"}},
 	{"corot7/corot7.txt", ReadOptions{}, 170, nil},
 	{"51peg-harps/51pegrv.txt", ReadOptions{RVUnit: "km/s"}, 90, nil},
+	{"51peg-harps/51pegrv.txt", ReadOptions{}, 90, nil}, // km/s by its uncertainties
 	{"eps-eri/22049_Benedict06_Tull.rdb", ReadOptions{}, 30, nil},
 	{"eps-eri/22049_CLS21_APF.csv", ReadOptions{Duplicates: "mean"}, 500, nil},
 	{"eps-eri/22049_CLS21_Hamilton.csv", ReadOptions{}, 300, nil},
@@ -55,6 +57,11 @@ func TestReadRealFiles(t *testing.T) {
 				if tm < 2440000 || tm > 2470000 {
 					t.Fatalf("time %v is not a full Julian date of the last decades", tm)
 				}
+			}
+			// In m/s, whatever unit the file uses: these instruments'
+			// uncertainties lie between 0.1 and 30 m/s (common practice).
+			if med := median(s.RVErr); !(med > 0.1 && med < 30) {
+				t.Errorf("median RV uncertainty %.3g m/s: the velocities' unit was not recognised", med)
 			}
 		})
 	}

@@ -539,3 +539,31 @@ func BenchmarkReadCSV(b *testing.B) {
 		})
 	}
 }
+
+// Velocities given with no unit whose uncertainties are below any
+// spectrograph's reach in m/s (0.6 mm/s here) are km/s, as in many
+// archive tables: converted, with a warning that names the columns and
+// the flag that says otherwise. Uncertainties of 1.2 m/s stay in m/s, and
+// a declared unit is never second-guessed.
+func TestUndeclaredKmsVelocities(t *testing.T) {
+	kms := "RJD RV e_RV\n56451.84 -33.14602 0.00063\n56452.84 -33.14632 0.00061\n56453.84 -33.14683 0.00060\n"
+	s, warns, err := ReadCSV(strings.NewReader(kms), "kms.txt", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(s.RV[1]+33146.32) > 1e-6 || math.Abs(s.RVErr[0]-0.63) > 1e-9 {
+		t.Errorf("not converted from km/s: rv %v, rv_err %v", s.RV, s.RVErr)
+	}
+	if w := strings.Join(warns, "\n"); !strings.Contains(w, `"RV" and "e_RV"`) || !strings.Contains(w, "km/s") || !strings.Contains(w, "--rv-unit m/s") {
+		t.Errorf("warnings %q: want the columns, the unit and the flag named", warns)
+	}
+	s, _, err = ReadCSV(strings.NewReader(kms), "kms.txt", &ReadOptions{RVUnit: "m/s"})
+	if err != nil || s.RV[1] != -33.14632 {
+		t.Errorf("declared m/s: rv %v, err %v", s.RV, err)
+	}
+	ms := "time rv rv_err\n56451.84 -12.5 1.2\n56452.84 3.1 1.1\n56453.84 7.4 1.3\n"
+	s, warns, err = ReadCSV(strings.NewReader(ms), "ms.txt", nil)
+	if err != nil || s.RV[0] != -12.5 || strings.Contains(strings.Join(warns, " "), "km/s") {
+		t.Errorf("m/s table: rv %v, warnings %q, err %v", s.RV, warns, err)
+	}
+}
