@@ -135,10 +135,14 @@ func (d *data) peaksOfWindow(g rvfit.Grid, fmin, level float64, max int) []float
 
 // relations labels every signal that lies, within one resolution element,
 // at a 1-day, 1-year or spectral-window alias of a stronger signal, or at
-// twice or three times a stronger signal's frequency (an eccentric orbit
-// puts power at its harmonics: to first order in e, a Keplerian of
-// semi-amplitude K has a component of amplitude eK at 2/P; Lucy 2005,
-// from memory). Strength is the fitted amplitude.
+// 2 to maxHarmonic times a stronger signal's frequency, or at a 1-day or
+// window alias of its second or third harmonic when that harmonic fits
+// the data about as well. An eccentric orbit puts power at its harmonics:
+// a Keplerian is a Fourier series in the mean anomaly whose n-th term has
+// an amplitude of order e^(n−1) K (to first order in e, eK at 2/P; Lucy
+// 2005, from memory), and a harmonic beyond the periods searched (the
+// third of a 2.9 d orbit lies at 0.96 d) shows only through its aliases.
+// Strength is the fitted amplitude.
 func (d *data) relations(freqs, amps []float64) []*relation {
 	out := make([]*relation, len(freqs))
 	order := make([]int, len(freqs))
@@ -148,6 +152,18 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 	sort.SliceStable(order, func(a, b int) bool { return amps[order[a]] > amps[order[b]] })
 	tol := 1 / d.T
 	win := d.windowPeaks()
+	type shift struct {
+		df   float64
+		what string
+	}
+	daily := []shift{{siderealFreq, "1-day alias"}, {1, "1-day alias"}}
+	for _, fw := range win {
+		daily = append(daily, shift{fw, fmt.Sprintf("alias through the sampling's window peak at %.4g d", 1/fw)})
+	}
+	near := func(fk, h, df float64) bool {
+		return math.Abs(fk-math.Abs(h-df)) <= tol || math.Abs(fk-(h+df)) <= tol
+	}
+	var base *sineFit
 	for r, k := range order {
 		for _, j := range order[:r] {
 			if out[j] != nil {
@@ -158,7 +174,7 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 			if math.Abs(fk-fj) <= tol {
 				out[k] = &relation{j, fmt.Sprintf("within the frequency resolution of %s: the same signal, split by an imperfect fit", name)}
 			}
-			for _, n := range []float64{2, 3} {
+			for n := 2.0; n <= maxHarmonic; n++ {
 				if out[k] == nil && math.Abs(fk-n*fj) <= tol {
 					out[k] = &relation{j, fmt.Sprintf("at %g× the frequency of %s: a harmonic of an eccentric orbit, or of a signal that is not a sinusoid", n, name)}
 				}
@@ -167,18 +183,61 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 				df   float64
 				what string
 			}{{siderealFreq, "1-day alias"}, {yearFreq, "1-year alias"}} {
-				if out[k] == nil && (math.Abs(fk-math.Abs(fj-a.df)) <= tol || math.Abs(fk-(fj+a.df)) <= tol) {
+				if out[k] == nil && near(fk, fj, a.df) {
 					out[k] = &relation{j, fmt.Sprintf("the %s of %s", a.what, name)}
 				}
 			}
 			for _, fw := range win {
-				if out[k] == nil && (math.Abs(fk-math.Abs(fj-fw)) <= tol || math.Abs(fk-(fj+fw)) <= tol) {
+				if out[k] == nil && near(fk, fj, fw) {
 					out[k] = &relation{j, fmt.Sprintf("an alias of %s through the sampling's window peak at %.4g d", name, 1/fw)}
+				}
+			}
+			for _, n := range []float64{2, 3} {
+				for _, a := range daily {
+					if out[k] != nil || !near(fk, n*fj, a.df) {
+						continue
+					}
+					if base == nil {
+						var err error
+						if base, err = fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0); err != nil {
+							return out
+						}
+					}
+					if d.fitsAsWell(base, freqs, k, n*fj) {
+						out[k] = &relation{j, fmt.Sprintf("the %s of %g× the frequency of %s, a harmonic of an eccentric orbit that fits the data about as well in its place", a.what, n, name)}
+					}
 				}
 			}
 		}
 	}
 	return out
+}
+
+// maxHarmonic is the highest harmonic of a stronger signal's frequency at
+// which a signal is labelled a harmonic: the fifth term of an orbit with
+// e = 0.6 still has about a seventh of the first term's amplitude (0.14–
+// 0.15, from a Fourier transform of the Keplerian over the mean anomaly,
+// computed; 0.08 at e = 0.5, 0.012 at e = 0.3), which strong signals show.
+const maxHarmonic = 5
+
+// fitsAsWell reports whether signal k of freqs, moved to frequency h
+// (refined within one resolution element), fits the data about as well as
+// at its own frequency: a χ² no more than aliasAmbiguityLimit worse, in
+// units of the joint fit's reduced χ² (base is the joint fit at freqs).
+func (d *data) fitsAsWell(base *sineFit, freqs []float64, k int, h float64) bool {
+	if base == nil || base.Dof <= 0 || !isFinite(base.ChiSq) {
+		return false
+	}
+	scale := math.Max(1, base.ChiSq/float64(base.Dof))
+	trial := append([]float64(nil), freqs...)
+	res := 1 / d.T
+	for s := -8; s <= 8; s++ {
+		trial[k] = h + float64(s)*res/8
+		if fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0); err == nil && (fit.ChiSq-base.ChiSq)/scale < aliasAmbiguityLimit {
+			return true
+		}
+	}
+	return false
 }
 
 // aliasAmbiguityLimit is the Δχ² (in units of the residual scatter, red
