@@ -402,6 +402,24 @@ func (tr *trial) indicatorTests() {
 		if cycle != nil && 1/tr.f >= 100 && math.Abs(tr.f-1/cycle.Period) > 1.5/d.T {
 			freqs = append(freqs, 1/cycle.Period)
 		}
+		// So is the star's rotation, P_rot and P_rot/2, when the period
+		// is resolved from them: an indicator's variation at the rotation
+		// is usually its strongest, and left in the residuals it is
+		// correlated noise that inflates β and hides whatever the
+		// indicator does at the period (a sideband of evolving spots a
+		// few resolution elements from P_rot, for one).
+		if prot := float64(tr.rot.Period); prot > 0 {
+			for _, n := range []float64{1, 2} {
+				fh := n / prot
+				resolved := true
+				for _, g := range freqs {
+					resolved = resolved && math.Abs(g-fh) > 1.5/d.T
+				}
+				if resolved {
+					freqs = append(freqs, fh)
+				}
+			}
+		}
 		fit, err := fitSines(d.t, ind.Value, sigma, d.inst, d.ninst, freqs, d.t0)
 		if err != nil {
 			r.why = "the sinusoid fit is singular on its epochs"
@@ -416,16 +434,16 @@ func (tr *trial) indicatorTests() {
 		r.ratio, r.ratioHow = tr.activityRatio(&ind, sigma)
 		r.sens = r.ratio * tr.amp / (ae * beta)
 		// The indicator as the correlations see it: offsets removed, and
-		// the magnetic cycle too when it was fitted beside the signal (a
-		// slow cycle correlates with any long-period sinusoid over a few
-		// seasons, whatever causes the sinusoid).
+		// the magnetic cycle and the rotation too when they were fitted
+		// beside the signal (a slow cycle correlates with any long-period
+		// sinusoid over a few seasons, whatever causes the sinusoid).
 		vals := make([]float64, len(ind.Value))
 		for i := range vals {
 			vals[i] = math.NaN()
 			if ind.Valid(i) {
 				vals[i] = ind.Value[i] - fit.Offset[d.inst[i]]
-				if len(freqs) > 1 {
-					vals[i] -= fit.component(1, d.t[i])
+				for j := 1; j < len(freqs); j++ {
+					vals[i] -= fit.component(j, d.t[i])
 				}
 			}
 		}
