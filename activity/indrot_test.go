@@ -29,6 +29,8 @@ func TestIndicatorRotationFittedAlongside(t *testing.T) {
 	sg := dg.Signals[0]
 	if e := evidence(&sg, "indicator_power:fwhm"); e == nil || e.Points != TowardActivity {
 		t.Errorf("at the %.2f d sideband the FWHM must vary: %+v", side, e)
+	} else {
+		t.Log(e.Reason)
 	}
 	if sg.Verdict == PlanetLike {
 		t.Errorf("the sideband at %.2f d is planet-like: %s", side, sg.Summary)
