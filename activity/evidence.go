@@ -468,6 +468,10 @@ func (tr *trial) indicatorTests() {
 		}
 		r.corr = Pearson(tr.comp, vals)
 		r.raw = Pearson(tr.own, vals)
+		if tr.det.indVals == nil {
+			tr.det.indVals = map[string][]float64{}
+		}
+		tr.det.indVals[ind.Name] = vals
 		period := 1 / tr.f
 		bin := math.Max(period/20, 0.5)
 		r.lag = DiscreteCorrelation(d.t, tr.own, vals, period/2, bin, max(10, n/10), d.opts.Permutations, tr.rng)

@@ -917,9 +917,10 @@ type corrPanel struct {
 
 // figCorrelations draws each indicator against the RVs the way the
 // evidence correlates them: for signal k, the signal's own RVs (offsets
-// and the other signals removed) against the indicator less its
-// per-instrument zero points fitted with a sinusoid at the signal's
-// frequency; r is Pearson's r of exactly these values, the number the
+// and the other signals removed) against the indicator as the evidence
+// saw it (less its per-instrument zero points, fitted with a sinusoid at
+// the signal's frequency, and less the cycle and rotation terms fitted
+// beside it); r is Pearson's r of exactly these values, the number the
 // evidence table quotes as "against the signal's own RVs".
 func figCorrelations(s *rvfit.Series, dg *Diagnosis, z *zeroPoints) (*figure, []corrPanel) {
 	var ps []*plot.Plot
@@ -940,13 +941,19 @@ func figCorrelations(s *rvfit.Series, dg *Diagnosis, z *zeroPoints) (*figure, []
 		}
 		for j := range dg.Signals {
 			det := &dg.details.signals[j]
-			vals := validValues(ind)
-			fit, err := fitSines(s.Time, ind.Value, indicatorErrors(ind), z.inst, ninst, []float64{det.freq}, s.Time[0])
-			if err != nil || len(det.own) != len(vals) {
-				continue
+			vals := det.indVals[ind.Name]
+			if vals == nil {
+				vals = validValues(ind)
+				fit, err := fitSines(s.Time, ind.Value, indicatorErrors(ind), z.inst, ninst, []float64{det.freq}, s.Time[0])
+				if err != nil {
+					continue
+				}
+				for i := range vals {
+					vals[i] -= fit.Offset[z.inst[i]]
+				}
 			}
-			for i := range vals {
-				vals[i] -= fit.Offset[z.inst[i]]
+			if len(det.own) != len(vals) {
+				continue
 			}
 			c := Pearson(det.own, vals)
 			p := newPlot(fmt.Sprintf("S%d · %s: r = %s", j+1, safeLabel(ind.Name), fmtR(c.R)), safeLabel(ind.Name)+" − zero point", fmt.Sprintf("S%d's own RVs (m/s)", j+1))

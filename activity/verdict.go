@@ -250,6 +250,10 @@ type signalDetails struct {
 	// multi is the multi-output GP with the sinusoid of the whole-model
 	// comparison (RVs and indicators), nil when it did not run.
 	multi *GPActivityFit
+	// indVals holds, by indicator name, the indicator as its correlation
+	// with the signal saw it (zero points, and the cycle and rotation
+	// terms fitted beside the period, removed; NaN where it has no value).
+	indVals map[string][]float64
 }
 
 // seasonPoint is the signal fitted in one season (or half).
