@@ -220,7 +220,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		for k := range amps {
 			amps[k], _ = all.amplitude(k)
 		}
-		rels = d.relations(freqs, amps)
+		rels = d.relations(all, freqs, amps)
 		jointPow, jointBeta = d.jointSignificance(freqs)
 		rivals = make([]*aliasRival, len(freqs))
 		win := d.samplingPeaks()

@@ -142,8 +142,8 @@ func (d *data) peaksOfWindow(g rvfit.Grid, fmin, level float64, max int) []float
 // an amplitude of order e^(n−1) K (to first order in e, eK at 2/P; Lucy
 // 2005, from memory), and a harmonic beyond the periods searched (the
 // third of a 2.9 d orbit lies at 0.96 d) shows only through its aliases.
-// Strength is the fitted amplitude.
-func (d *data) relations(freqs, amps []float64) []*relation {
+// Strength is the fitted amplitude; base is the joint fit at freqs.
+func (d *data) relations(base *sineFit, freqs, amps []float64) []*relation {
 	out := make([]*relation, len(freqs))
 	order := make([]int, len(freqs))
 	for k := range order {
@@ -163,7 +163,6 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 	near := func(fk, h, df float64) bool {
 		return math.Abs(fk-math.Abs(h-df)) <= tol || math.Abs(fk-(h+df)) <= tol
 	}
-	var base *sineFit
 	for r, k := range order {
 		for _, j := range order[:r] {
 			if out[j] != nil {
@@ -194,16 +193,7 @@ func (d *data) relations(freqs, amps []float64) []*relation {
 			}
 			for _, n := range []float64{2, 3} {
 				for _, a := range daily {
-					if out[k] != nil || !near(fk, n*fj, a.df) {
-						continue
-					}
-					if base == nil {
-						var err error
-						if base, err = fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0); err != nil {
-							return out
-						}
-					}
-					if d.fitsAsWell(base, freqs, k, n*fj) {
+					if out[k] == nil && near(fk, n*fj, a.df) && d.fitsAsWell(base, freqs, k, n*fj) {
 						out[k] = &relation{j, fmt.Sprintf("the %s of %g× the frequency of %s, a harmonic of an eccentric orbit that fits the data about as well in its place", a.what, n, name)}
 					}
 				}
