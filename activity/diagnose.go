@@ -398,8 +398,9 @@ func (d *data) findSignals() ([]found, error) {
 		}
 		freqs = append(freqs, best)
 		out = append(out, found{power: pow, fap: fap, fapCorr: math.NaN(), source: "periodogram"})
-		// Each earlier frequency is refined again with the new signal in
-		// the fit.
+		// Every frequency is refined again, the earlier ones with the new
+		// signal in the fit, the new one with the earlier ones as they
+		// moved.
 		for j := range freqs {
 			freqs[j] = d.refineFreq(freqs, j, d.grid.DF, 2)
 			out[j].freq = freqs[j]

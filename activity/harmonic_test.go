@@ -32,7 +32,7 @@ func keplerSeries(seed uint64, sigma float64, planets ...[3]float64) *rvfit.Seri
 // as the orbit's (never judged planet-like), while a second planet at an
 // unrelated period is not:
 //   - e = 0.6 at 111.4 d: the fourth harmonic, 27.85 d, has about a fifth
-//     of the first term's amplitude;
+//     of the first term's amplitude (0.21–0.22, computed: docs/methods.md §14.6);
 //   - e = 0.15 at 2.875 d: the third harmonic lies at 0.958 d, beyond the
 //     periods searched, and shows through its 1-day alias at 23.0 d.
 func TestEccentricHarmonicsLabelled(t *testing.T) {

@@ -152,13 +152,9 @@ func (d *data) relations(base *sineFit, freqs, amps []float64) []*relation {
 	sort.SliceStable(order, func(a, b int) bool { return amps[order[a]] > amps[order[b]] })
 	tol := 1 / d.T
 	win := d.windowPeaks()
-	type shift struct {
-		df   float64
-		what string
-	}
-	daily := []shift{{siderealFreq, "1-day alias"}, {1, "1-day alias"}}
+	daily := []freqShift{{siderealFreq, "1-day alias"}, {1, "1-day alias"}}
 	for _, fw := range win {
-		daily = append(daily, shift{fw, fmt.Sprintf("alias through the sampling's window peak at %.4g d", 1/fw)})
+		daily = append(daily, freqShift{fw, fmt.Sprintf("alias through the sampling's window peak at %.4g d", 1/fw)})
 	}
 	near := func(fk, h, df float64) bool {
 		return math.Abs(fk-math.Abs(h-df)) <= tol || math.Abs(fk-(h+df)) <= tol
@@ -178,12 +174,9 @@ func (d *data) relations(base *sineFit, freqs, amps []float64) []*relation {
 					out[k] = &relation{j, fmt.Sprintf("at %g× the frequency of %s: a harmonic of an eccentric orbit, or of a signal that is not a sinusoid", n, name)}
 				}
 			}
-			for _, a := range []struct {
-				df   float64
-				what string
-			}{{siderealFreq, "1-day alias"}, {yearFreq, "1-year alias"}} {
+			for _, a := range []freqShift{{siderealFreq, "1-day alias"}, {yearFreq, "1-year alias"}} {
 				if out[k] == nil && near(fk, fj, a.df) {
-					out[k] = &relation{j, fmt.Sprintf("the %s of %s", a.what, name)}
+					out[k] = &relation{j, fmt.Sprintf("the %s of %s", a.label, name)}
 				}
 			}
 			for _, fw := range win {
@@ -194,13 +187,21 @@ func (d *data) relations(base *sineFit, freqs, amps []float64) []*relation {
 			for _, n := range []float64{2, 3} {
 				for _, a := range daily {
 					if out[k] == nil && near(fk, n*fj, a.df) && d.fitsAsWell(base, freqs, k, n*fj) {
-						out[k] = &relation{j, fmt.Sprintf("the %s of %g× the frequency of %s, a harmonic of an eccentric orbit that fits the data about as well in its place", a.what, n, name)}
+						out[k] = &relation{j, fmt.Sprintf("the %s of %g× the frequency of %s, a harmonic of an eccentric orbit that fits the data about as well in its place", a.label, n, name)}
 					}
 				}
 			}
 		}
 	}
 	return out
+}
+
+// freqShift is a shift in frequency by which a signal's power reappears
+// elsewhere (a day, a year, a peak of the sampling's window), and what
+// such an alias is called.
+type freqShift struct {
+	df    float64
+	label string
 }
 
 // maxHarmonic is the highest harmonic of a stronger signal's frequency at
@@ -326,11 +327,7 @@ func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []floa
 		b2 = math.Max(1, beta*beta)
 	}
 	scale := math.Max(1, base.ChiSq/float64(base.Dof)) * b2
-	type shift struct {
-		df    float64
-		label string
-	}
-	shifts := []shift{{siderealFreq, "1-day alias"}, {1, "1-day alias"}, {yearFreq, "1-year alias"}}
+	shifts := []freqShift{{siderealFreq, "1-day alias"}, {1, "1-day alias"}, {yearFreq, "1-year alias"}}
 	for _, fw := range win {
 		label := fmt.Sprintf("alias (through the sampling's window peak at %.4g d)", 1/fw)
 		switch {
@@ -339,7 +336,7 @@ func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []floa
 		case math.Abs(fw-yearFreq) < 1.5/d.T:
 			label = "1-year alias"
 		}
-		shifts = append(shifts, shift{fw, label})
+		shifts = append(shifts, freqShift{fw, label})
 	}
 	f := freqs[k]
 	var out []aliasRival
