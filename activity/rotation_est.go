@@ -31,6 +31,13 @@ const relationsOnly = "activity-rotation relations only"
 // more than half the baseline.
 const rotPMin, rotPMax = 1.5, 200.0
 
+// relationsScatter is the scatter, in ln P, of the rotation period the
+// activity–rotation relations predict: they give the solar period to
+// 10–20 % and scatter more away from the Sun (Mamajek & Hillenbrand 2008),
+// so no narrower than 0.3. A period measured no better than this says
+// nothing the relations would not.
+const relationsScatter = 0.3
+
 // seasonLabels returns one label per epoch: its instrument and its
 // observing season (a new season after a gap longer than 60 days; common
 // practice for ground-based visibility). A floating offset per label
@@ -164,8 +171,7 @@ func (d *data) searchRotation(ctx context.Context, rel []RotationEstimate) *rota
 	}
 	sort.SliceStable(rs.peaks, func(a, b int) bool { return rs.peaks[a].fap < rs.peaks[b].fap })
 	// The activity–rotation relations set a log-normal prior on P, no
-	// narrower than 0.3 in ln P (they predict the solar period to 10–20 %,
-	// and scatter more away from the Sun; Mamajek & Hillenbrand 2008).
+	// narrower than relationsScatter.
 	if len(rel) > 0 {
 		mu, sd := 0.0, 0.0
 		for _, r := range rel {
@@ -173,7 +179,7 @@ func (d *data) searchRotation(ctx context.Context, rel []RotationEstimate) *rota
 			sd = math.Max(sd, r.Err/r.Period)
 		}
 		mu /= float64(len(rel))
-		sd = math.Max(sd, 0.3)
+		sd = math.Max(sd, relationsScatter)
 		for k := range rs.lnPri {
 			z := (math.Log(1/g.Freq(k)) - mu) / sd
 			rs.lnPri[k] = -0.5 * z * z
@@ -418,7 +424,7 @@ func (d *data) estimateRotation(ctx context.Context, rng *rand.Rand) Rotation {
 			le = math.Max(le, r.Err/r.Period)
 		}
 		p := math.Exp(lm / float64(len(rel)))
-		rot.Period, rot.Err, rot.Source = Num(p), Num(math.Max(le, 0.3)*p), rel[0].Method
+		rot.Period, rot.Err, rot.Source = Num(p), Num(math.Max(le, relationsScatter)*p), rel[0].Method
 		rot.Hypotheses = []RotationHypothesis{{Period: p, Err: float64(rot.Err), Share: 1, Why: relationsOnly, FAP: Num(math.NaN())}}
 	}
 	rot.Estimates = est
@@ -578,15 +584,19 @@ func (d *data) gpRotation(rs *rotationSearch, hyp []RotationHypothesis, rel []Ro
 	if !r.ok {
 		return RotationEstimate{}, false
 	}
+	// A GP whose period runs to the edge of its box, or whose period is
+	// pinned no better than the relations pin it, has found no coherent
+	// rotation in the indicator: it measures nothing, and refines nothing.
+	// (Left in, an error of 30 d on a 2 d period put every hypothesis
+	// within its reach, and one was replaced by a 2 d "rotation".)
+	if r.period < m.pLo*1.02 || r.period > m.pHi/1.02 || !(r.periodE <= relationsScatter*r.period) {
+		return RotationEstimate{}, false
+	}
 	// A floor of 2% on the error: differential rotation and spot evolution
 	// blur any single rotation period at that level (common practice).
 	out := RotationEstimate{Method: "gp fit to " + name, Period: r.period, Err: math.Max(r.periodE, 0.02*r.period), Note: "season means removed"}
 	if m.lnPSigma > 0 {
 		out.Note += "; period prior from the activity-rotation relations"
-	}
-	if math.IsNaN(r.periodE) {
-		out.Err = 0.1 * r.period
-		out.Note += "; the posterior's curvature was not usable, a 10% error is assumed"
 	}
 	return out, true
 }
