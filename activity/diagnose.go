@@ -277,7 +277,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		if r := rivals[k]; r != nil && sig.Caveat == "" {
 			sig.Caveat = fmt.Sprintf("its period is ambiguous: the %s at %.4g d fits the data about as well", r.label, 1/r.freq)
 		}
-		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: all.phase(k), rot: diag.Rotation, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
+		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: all.phase(k), rot: diag.Rotation, beta: jointBeta[k], rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
 		if r := rivals[k]; r != nil {
 			how := "is about as probable as"
@@ -499,6 +499,9 @@ type trial struct {
 	phase float64
 	rot   Rotation
 	rng   *rand.Rand
+	// beta is the red-noise factor of the joint fit's residuals at the
+	// period (NaN when unknown).
+	beta float64
 	// strongRotation reports whether the period sits at P_rot or P_rot/2
 	// of a rotation hypothesis; gpDegenerate is the share of the rotation
 	// hypotheses at one of whose harmonics up to P_rot/4 it sits, where a

@@ -87,20 +87,23 @@ func (h harmonic) rank() int {
 // fits as well as an orbit: P_rot … P_rot/4.
 func (h harmonic) gpReach() bool { return !h.alias && h.n >= 1 }
 
-// aliasSearched reports whether the frequency a signal at f would have at
-// a rotation harmonic of frequency fh lies within the periods searched: f
-// itself when the match is the harmonic, and when it is a 1-day alias of
-// it, the one of |f − 1 sidereal day⁻¹| and f + 1 sidereal day⁻¹ nearer fh.
-func (d *data) aliasSearched(f, fh float64, alias bool) bool {
-	g := f
-	if alias {
-		g = math.Abs(f - siderealFreq)
-		if a := f + siderealFreq; math.Abs(a-fh) < math.Abs(g-fh) {
-			g = a
-		}
+// atHarmonic returns the frequency a signal at f would have at a rotation
+// harmonic of frequency fh: f itself when the match is the harmonic, and
+// when it is a 1-day alias of it, the one of |f − 1 sidereal day⁻¹| and
+// f + 1 sidereal day⁻¹ nearer fh.
+func atHarmonic(f, fh float64, alias bool) float64 {
+	if !alias {
+		return f
 	}
-	return g >= d.grid.FMin && g <= d.grid.FMax()
+	g := math.Abs(f - siderealFreq)
+	if a := f + siderealFreq; math.Abs(a-fh) < math.Abs(g-fh) {
+		g = a
+	}
+	return g
 }
+
+// searched reports whether frequency g lies within the periods searched.
+func (d *data) searched(g float64) bool { return g >= d.grid.FMin && g <= d.grid.FMax() }
 
 // windowWeight scales a harmonic, alias or cycle match by the share q of
 // the searched period axis (in ln P: planets are spread about evenly in
@@ -237,13 +240,25 @@ func (tr *trial) rotationMatch() {
 			// rotator's harmonic (1 − 2/P_rot c/d for P_rot near 2 d)
 			// carries the harmonic's whole error in frequency to the
 			// long periods, where it spans every period beyond a few
-			// days, and landing there is no evidence of activity. But
-			// when the signal's own 1-day alias, the frequency it would
-			// have at the harmonic, lies beyond the periods searched,
-			// the alias check cannot fit it, and the bar stays.
-			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 && (ww > 0 || !tr.d.aliasSearched(tr.f, match.n/prot, match.alias)) {
-				tr.strongRotation = true
-				tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
+			// days, and landing there is no evidence of activity. When
+			// the signal's own 1-day alias, the frequency it would have
+			// at the harmonic, lies beyond the periods searched, the
+			// alias check has not weighed it: it is weighed here, from
+			// the signal's own data, and the bar stays unless the data
+			// reject that alias.
+			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 {
+				bars := ww > 0
+				if g := atHarmonic(tr.f, match.n/prot, match.alias); !bars && !tr.d.searched(g) {
+					r, ok := tr.ownAliasOdds(g, "1-day alias")
+					bars = !ok || r.odds() < aliasAmbiguityLimit
+					if !bars {
+						parts[len(parts)-1] += fmt.Sprintf("; the 1-day alias at %.4g d that would put it there fits worse (Δχ² = %+.1f in units of the residual scatter, %+.1f from the period prior), so the window bars nothing", 1/r.freq, r.dchi, r.prior)
+					}
+				}
+				if bars {
+					tr.strongRotation = true
+					tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
+				}
 			}
 			if match.gpReach() && hy.Share >= 0.1 && ww >= 0.5 {
 				tr.gpDegenerate = math.Min(1, tr.gpDegenerate+hy.Share)

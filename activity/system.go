@@ -370,6 +370,40 @@ func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []floa
 	return out
 }
 
+// ownAliasOdds returns the alias at g of the trial's signal, refined
+// within 1.5 resolution elements as aliasCandidates refines one, and its
+// odds against the period, from the signal's own data (the RVs less the
+// offsets and every other signal): the alias test for a frequency beyond
+// the periods searched, which aliasRivals does not reach. ok is false when
+// no fit could be made.
+func (tr *trial) ownAliasOdds(g float64, label string) (r aliasRival, ok bool) {
+	d := tr.d
+	base, err := fitSines(d.t, tr.own, d.err, d.inst, d.ninst, []float64{tr.f}, d.t0)
+	if err != nil || base.Dof <= 0 || !isFinite(base.ChiSq) {
+		return r, false
+	}
+	res := 1 / d.T
+	bestChi, bestF := math.Inf(1), g
+	for s := -12; s <= 12; s++ {
+		x := g + float64(s)*res/8
+		if x <= 0 || math.Abs(x-tr.f) < res {
+			continue
+		}
+		if fit, err := fitSines(d.t, tr.own, d.err, d.inst, d.ninst, []float64{x}, d.t0); err == nil && fit.ChiSq < bestChi {
+			bestChi, bestF = fit.ChiSq, x
+		}
+	}
+	if !isFinite(bestChi) {
+		return r, false
+	}
+	b2 := 1.0
+	if isFinite(tr.beta) {
+		b2 = math.Max(1, tr.beta*tr.beta)
+	}
+	scale := math.Max(1, base.ChiSq/float64(base.Dof)) * b2
+	return aliasRival{freq: bestF, dchi: (bestChi - base.ChiSq) / scale, prior: aliasPrior(tr.f, bestF), label: label}, true
+}
+
 // sameSignal returns the indices of the signals of freqs other than k
 // that lie within tol in frequency of signal k: the relations' "same
 // signal, split by an imperfect fit".
