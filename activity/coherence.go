@@ -103,7 +103,7 @@ func (tr *trial) seasonCoherence() {
 			continue
 		}
 		g, ng := groupIndex(gs)
-		fit, err := fitSines(ts, ys, es, g, ng, []float64{tr.f}, d.t0)
+		fit, err := fitCurves(ts, ys, es, g, ng, []float64{tr.f}, []orbitShape{tr.shape}, d.t0)
 		if err != nil {
 			continue
 		}
@@ -199,7 +199,7 @@ func (tr *trial) gpPartFit(ts, ys, es []float64, g []int, ng int, gi []int) (ab 
 	}
 	// The design of the GP model on this part: its offsets and the
 	// sinusoid at the signal's frequency.
-	part := gpModel{t: ts, inst: g, ninst: ng, freq: tr.f, t0: tr.d.t0}
+	part := gpModel{t: ts, inst: g, ninst: ng, freq: tr.f, shape: tr.shape, t0: tr.d.t0}
 	cols := part.design()
 	beta, cb, _, ok := glsProfile(sol, cols, ys, true)
 	if !ok || cb == nil {

@@ -138,6 +138,9 @@ type data struct {
 	opts  Options
 	w     *Weights
 	ctx   context.Context
+	// ecc are the signals the blind search models as eccentric orbits
+	// (eccentricSearch); fitRV gives each its shape.
+	ecc []eccSignal
 }
 
 // Diagnose judges every signal of a star's time series: does it track the
@@ -196,6 +199,9 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	if err != nil {
 		return nil, err
 	}
+	for _, e := range d.ecc {
+		diag.Notes = append(diag.Notes, fmt.Sprintf("the signal at %.5g d is modelled as an eccentric orbit (e = %.2f), found by the eccentric orbit search: one Keplerian there explains several peaks of the sinusoid search (its harmonics and their aliases) better than they explain themselves", 1/e.f, e.sh.e))
+	}
 	if len(sigs) == 0 {
 		diag.Notes = append(diag.Notes, fmt.Sprintf("no periodogram peak has a false-alarm probability below %g: no signal to judge", o.FAPThreshold))
 	}
@@ -212,7 +218,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	var rivals []*aliasRival
 	var jointPow, jointBeta []float64
 	if len(freqs) > 0 {
-		all, err = fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
+		all, err = d.fitRV(freqs)
 		if err != nil {
 			return nil, fmt.Errorf("activity: joint fit of %d sinusoids: %w", len(freqs), err)
 		}
@@ -277,7 +283,15 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		if r := rivals[k]; r != nil && sig.Caveat == "" {
 			sig.Caveat = fmt.Sprintf("its period is ambiguous: the %s at %.4g d fits the data about as well", r.label, 1/r.freq)
 		}
-		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: all.phase(k), rot: diag.Rotation, beta: jointBeta[k], rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
+		// An eccentric orbit's phase is that of its first Fourier term,
+		// the sinusoid the tests at the period fit.
+		phase := all.phase(k)
+		if all.shape(k).e > 0 {
+			if fund, err := fitSines(d.t, comp, d.err, d.inst, d.ninst, []float64{sg.freq}, d.t0); err == nil {
+				phase = fund.phase(0)
+			}
+		}
+		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: phase, shape: all.shape(k), rot: diag.Rotation, beta: jointBeta[k], rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
 		if r := rivals[k]; r != nil {
 			how := "is about as probable as"
@@ -360,10 +374,51 @@ func (d *data) findSignals() ([]found, error) {
 		}
 		return out, nil
 	}
-	var out []found
-	resid := append([]float64(nil), d.rv...)
+	out, err := d.prewhiten(nil)
+	if err != nil || len(out) < 2 {
+		return out, err
+	}
+	freqs := make([]float64, len(out))
+	for k := range out {
+		freqs[k] = out[k].freq
+	}
+	orb, _, ok := d.eccentricSearch(freqs)
+	if !ok {
+		return out, nil
+	}
+	// One eccentric orbit explains several of the signals better than
+	// their sinusoids do: the search starts again from the orbit, and
+	// finds again whatever it leaves unexplained.
+	d.ecc = []eccSignal{orb}
+	return d.prewhiten([]found{{freq: orb.f, fapCorr: math.NaN(), source: sourceEccentric}})
+}
+
+// sourceEccentric is the Source of a signal the eccentric orbit search
+// found (eccentricSearch).
+const sourceEccentric = "eccentric orbit"
+
+// prewhiten continues the blind search from the signals pre: the highest
+// peaks of the residuals' periodogram, one at a time, while they are
+// significant, every frequency refined in the joint fit after each.
+func (d *data) prewhiten(pre []found) ([]found, error) {
+	o := d.opts
+	out := append([]found(nil), pre...)
 	var freqs []float64
+	for _, f := range out {
+		freqs = append(freqs, f.freq)
+	}
+	resid := append([]float64(nil), d.rv...)
 	chiPrev := d.chi2Offsets(d.rv)
+	if len(freqs) > 0 {
+		fit, err := d.fitRV(freqs)
+		if err != nil {
+			return nil, fmt.Errorf("activity: joint fit of %d signals: %w", len(freqs), err)
+		}
+		chiPrev = fit.ChiSq
+		for i, ti := range d.t {
+			resid[i] = d.rv[i] - fit.model(i, ti)
+		}
+	}
 	for len(out) < o.MaxSignals {
 		pg, err := rvfit.GLS(d.t, resid, d.err, d.grid, &rvfit.GLSOptions{Instrument: d.s.Instrument, Context: d.ctx})
 		if err != nil {
@@ -382,7 +437,7 @@ func (d *data) findSignals() ([]found, error) {
 			trial[len(freqs)] = refinePeak(pg, k)
 			f := d.refineFreq(trial, len(freqs), d.grid.DF, 2)
 			trial[len(freqs)] = f
-			if fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0); err == nil && fit.ChiSq < bestChi {
+			if fit, err := d.fitRV(trial); err == nil && fit.ChiSq < bestChi {
 				best, bestChi = f, fit.ChiSq
 			}
 		}
@@ -402,10 +457,12 @@ func (d *data) findSignals() ([]found, error) {
 		// signal in the fit, the new one with the earlier ones as they
 		// moved.
 		for j := range freqs {
-			freqs[j] = d.refineFreq(freqs, j, d.grid.DF, 2)
-			out[j].freq = freqs[j]
+			f := d.refineFreq(freqs, j, d.grid.DF, 2)
+			d.moveEcc(freqs[j], f)
+			freqs[j] = f
+			out[j].freq = f
 		}
-		fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
+		fit, err := d.fitRV(freqs)
 		if err != nil {
 			break
 		}
@@ -497,6 +554,9 @@ type trial struct {
 	// phase is the fitted sinusoid's phase φ, the sinusoid being
 	// amp·cos(2πf(t − t0) − φ) with t0 the data's phase reference.
 	phase float64
+	// shape is the signal's shape in the joint fit (an eccentric orbit's,
+	// or a sinusoid's).
+	shape orbitShape
 	rot   Rotation
 	rng   *rand.Rand
 	// beta is the red-noise factor of the joint fit's residuals at the

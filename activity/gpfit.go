@@ -30,6 +30,7 @@ type gpModel struct {
 	inst        []int
 	ninst       int
 	freq        float64
+	shape       orbitShape // the signal's shape at freq (a sinusoid's by default)
 	t0          float64
 	// Period bounds (days) and an optional Gaussian prior on ln P.
 	pLo, pHi        float64
@@ -98,7 +99,7 @@ func (m *gpModel) design() [][]float64 {
 	if m.freq > 0 {
 		cc, sc := make([]float64, n), make([]float64, n)
 		for i, ti := range m.t {
-			sc[i], cc[i] = math.Sincos(2 * math.Pi * m.freq * (ti - m.t0))
+			cc[i], sc[i] = basis(m.freq, m.shape, ti, m.t0)
 		}
 		cols = append(cols, cc, sc)
 	}

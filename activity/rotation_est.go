@@ -724,7 +724,7 @@ func (tr *trial) modelComparison() {
 		lnSig := math.Max(errs[i]/pa, 0.1)
 		mi := &gpModel{t: d.t, y: tr.own, sigma: d.err, inst: d.inst, ninst: d.ninst, t0: d.t0,
 			pLo: math.Max(0.5, pa*math.Exp(-4*lnSig)), pHi: pa * math.Exp(4*lnSig), lnPMu: math.Log(pa), lnPSigma: lnSig,
-			scale: math.Max(stddev(tr.own), 1e-12), ctx: d.ctx}
+			scale: math.Max(stddev(tr.own), 1e-12), ctx: d.ctx, shape: tr.shape}
 		if free {
 			mi.pLo, mi.pHi, mi.lnPMu, mi.lnPSigma = rotPMin, math.Max(3, math.Min(rotPMax, d.T/2)), 0, 0
 		}
@@ -795,6 +795,9 @@ func (tr *trial) modelComparison() {
 	if d.opts.Periods == nil {
 		extra = 3 // the period was searched for too
 	}
+	if tr.shape.e > 0 {
+		extra += 2 // and an eccentric orbit's e and periastron
+	}
 	dBIC := -2*dlnL + extra*math.Log(n)
 	K, kErr := sinusoidAmplitude(r1.beta, r1.covBeta)
 	snr := K / kErr
@@ -802,7 +805,9 @@ func (tr *trial) modelComparison() {
 	// (2015) on the RVs and the indicators (FitGPActivity's GPMulti), with
 	// and without the Keplerian, replaces the RV-only comparison when the
 	// indicators allow it.
-	if !free && !d.opts.SingleOutput && d.ctx.Err() == nil {
+	// (The multi-output model fits a sinusoid: an eccentric orbit keeps
+	// the RV-only comparison, which fits its shape.)
+	if !free && !d.opts.SingleOutput && tr.shape.e == 0 && d.ctx.Err() == nil {
 		if w0, w1, ok := tr.multiComparison(prot, perr); ok {
 			tr.det.multi = w1
 			dlnL = w1.LogLikelihood - w0.LogLikelihood

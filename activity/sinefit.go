@@ -5,6 +5,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"spotsift/rvfit"
 )
 
 // sineFit is a weighted least-squares fit of sinusoids at fixed
@@ -12,9 +14,15 @@ import (
 //
 //	y_i ≈ Σ_k [A_k cos 2πf_k(t_i − t0) + B_k sin 2πf_k(t_i − t0)] + c_g(i)
 //
-// with the covariance of each (A_k, B_k) and the fitted model.
+// with the covariance of each (A_k, B_k) and the fitted model. A signal
+// with an eccentric orbit's shape (orbitShape) takes the cosine and sine
+// of its true anomaly ν in place of the sinusoid's: for a fixed period,
+// eccentricity and time of periastron the Keplerian
+// K[cos(ν + ω) + e cos ω] is A cos ν + B sin ν plus a constant the offsets
+// take, linear in A = K cos ω and B = −K sin ω, so that √(A² + B²) is K.
 type sineFit struct {
 	Freq   []float64
+	Shape  []orbitShape // per signal; nil when every one is a sinusoid
 	A, B   []float64
 	CovAB  [][2][2]float64 // covariance of (A_k, B_k), scaled by the reduced χ² when it exceeds 1
 	ChiSq  float64         // χ² of the fit
@@ -24,9 +32,35 @@ type sineFit struct {
 	group  []int
 }
 
-// component returns sinusoid k at time t.
+// orbitShape is the shape of an eccentric orbit: its eccentricity e and
+// the phase phi (in cycles from the phase reference t0) of periastron.
+// The zero shape is a sinusoid.
+type orbitShape struct{ e, phi float64 }
+
+// basis returns the two columns of a signal at frequency f with shape sh
+// at time t: the cosine and sine of 2πf(t − t0) for a sinusoid, of the
+// true anomaly for an eccentric orbit.
+func basis(f float64, sh orbitShape, t, t0 float64) (c, s float64) {
+	if sh.e == 0 {
+		s, c = math.Sincos(2 * math.Pi * f * (t - t0))
+		return c, s
+	}
+	M := 2 * math.Pi * (f*(t-t0) - sh.phi)
+	s, c = math.Sincos(rvfit.TrueAnomaly(rvfit.EccentricAnomaly(M, sh.e), sh.e))
+	return c, s
+}
+
+// shape returns signal k's shape.
+func (f *sineFit) shape(k int) orbitShape {
+	if f.Shape == nil {
+		return orbitShape{}
+	}
+	return f.Shape[k]
+}
+
+// component returns signal k at time t.
 func (f *sineFit) component(k int, t float64) float64 {
-	s, c := math.Sincos(2 * math.Pi * f.Freq[k] * (t - f.t0))
+	c, s := basis(f.Freq[k], f.shape(k), t, f.t0)
 	return f.A[k]*c + f.B[k]*s
 }
 
@@ -65,6 +99,11 @@ var errSingularFit = errors.New("activity: sinusoid fit is singular")
 // group holds a group index (0..ng−1) per epoch, or is nil for one offset.
 // Epochs with a NaN value or a bad error are skipped.
 func fitSines(t, y, sigma []float64, group []int, ng int, freqs []float64, t0 float64) (*sineFit, error) {
+	return fitCurves(t, y, sigma, group, ng, freqs, nil, t0)
+}
+
+// fitCurves is fitSines with a shape per frequency (nil: all sinusoids).
+func fitCurves(t, y, sigma []float64, group []int, ng int, freqs []float64, shapes []orbitShape, t0 float64) (*sineFit, error) {
 	if group == nil {
 		ng = 1
 	}
@@ -87,7 +126,11 @@ func fitSines(t, y, sigma []float64, group []int, ng int, freqs []float64, t0 fl
 		w := 1 / (sigma[i] * sigma[i])
 		clear(row)
 		for k, fr := range freqs {
-			row[2*k+1], row[2*k] = math.Sincos(2 * math.Pi * fr * (t[i] - t0))
+			var sh orbitShape
+			if shapes != nil {
+				sh = shapes[k]
+			}
+			row[2*k], row[2*k+1] = basis(fr, sh, t[i], t0)
 		}
 		g := 0
 		if group != nil {
@@ -123,6 +166,7 @@ func fitSines(t, y, sigma []float64, group []int, ng int, freqs []float64, t0 fl
 		return nil, errSingularFit
 	}
 	f := &sineFit{Freq: append([]float64(nil), freqs...), A: make([]float64, nf), B: make([]float64, nf),
+		Shape: append([]orbitShape(nil), shapes...),
 		CovAB: make([][2][2]float64, nf), Offset: make([]float64, ng), t0: t0, group: group}
 	for k := range freqs {
 		f.A[k], f.B[k] = x.AtVec(2*k), x.AtVec(2*k+1)

@@ -46,7 +46,7 @@ func (d *data) refineFreq(freqs []float64, k int, half float64, levels int) floa
 			if trial[k] <= 0 {
 				continue
 			}
-			fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0)
+			fit, err := d.fitRV(trial)
 			if err == nil && fit.ChiSq < bestChi {
 				best, bestChi = trial[k], fit.ChiSq
 			}
@@ -64,7 +64,7 @@ func (d *data) refineFreq(freqs []float64, k int, half float64, levels int) floa
 // is accounted for.
 func (d *data) jointSignificance(freqs []float64) (power, beta []float64) {
 	power, beta = make([]float64, len(freqs)), make([]float64, len(freqs))
-	all, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, freqs, d.t0)
+	all, err := d.fitRV(freqs)
 	if err != nil {
 		for k := range power {
 			power[k], beta[k] = math.NaN(), math.NaN()
@@ -84,7 +84,7 @@ func (d *data) jointSignificance(freqs []float64) (power, beta []float64) {
 		}
 		chi0 := d.chi2Offsets(d.rv)
 		if len(others) > 0 {
-			if f, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, others, d.t0); err == nil {
+			if f, err := d.fitRV(others); err == nil {
 				chi0 = f.ChiSq
 			}
 		}
@@ -224,7 +224,7 @@ func (d *data) fitsAsWell(base *sineFit, freqs []float64, k int, h float64) bool
 	res := 1 / d.T
 	for s := -8; s <= 8; s++ {
 		trial[k] = h + float64(s)*res/8
-		if fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0); err == nil && (fit.ChiSq-base.ChiSq)/scale < aliasAmbiguityLimit {
+		if fit, err := d.fitRV(trial); err == nil && (fit.ChiSq-base.ChiSq)/scale < aliasAmbiguityLimit {
 			return true
 		}
 	}
@@ -316,7 +316,7 @@ func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []floa
 				kept = append(kept, fj)
 			}
 		}
-		fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, kept, d.t0)
+		fit, err := d.fitRV(kept)
 		if err != nil || fit.Dof <= 0 || !isFinite(fit.ChiSq) {
 			return nil
 		}
@@ -355,7 +355,7 @@ func (d *data) aliasCandidates(base *sineFit, freqs []float64, k int, win []floa
 				if trial[k] <= 0 || math.Abs(trial[k]-f) < res || math.Abs(math.Log(trial[k]/f)) < aliasMinSeparation {
 					continue
 				}
-				if fit, err := fitSines(d.t, d.rv, d.err, d.inst, d.ninst, trial, d.t0); err == nil && fit.ChiSq < bestChi {
+				if fit, err := d.fitRV(trial); err == nil && fit.ChiSq < bestChi {
 					bestChi, bestF = fit.ChiSq, trial[k]
 				}
 			}

@@ -91,8 +91,9 @@ type Signal struct {
 	// Period in days and frequency in c/d.
 	Period Num `json:"period"`
 	Freq   Num `json:"freq"`
-	// Source is "given" (named by the user) or "periodogram" (found by
-	// iterative prewhitening).
+	// Source is "given" (named by the user), "periodogram" (found by
+	// iterative prewhitening) or "eccentric orbit" (found by the eccentric
+	// orbit search, and modelled as a Keplerian in the joint fit).
 	Source string `json:"source"`
 	// Power is the fraction of χ² the signal removes from a joint fit of
 	// all the other signals; FAP its false-alarm probability (Baluev 2008
