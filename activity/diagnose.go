@@ -317,6 +317,13 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 				sig.Caveat = fmt.Sprintf("the signal is not significant once the residuals' correlated noise is allowed for (false-alarm probability %.2g with errors scaled by β = %.2f) and neither the GP activity model nor the stacked periodogram (with the residuals' own noise) confirms it", float64(sig.FAPCorrelated), jointBeta[k])
 			}
 		}
+		// A period longer than the baseline is not seen through one cycle:
+		// a companion on a wider orbit, a magnetic cycle or an
+		// instrument's drift would trace the same arc (a periodicity is
+		// claimed over one full cycle at least; common practice).
+		if sig.Caveat == "" && 1/sg.freq > d.T {
+			sig.Caveat = fmt.Sprintf("its period, %.4g d, is longer than the %.4g d the data span: they do not cover one cycle, and a companion on a wider orbit, a magnetic cycle or an instrument's drift would trace the same arc", 1/sg.freq, d.T)
+		}
 		Score(&sig, &o)
 		diag.Signals = append(diag.Signals, sig)
 		tr.det.freq, tr.det.own, tr.det.comp = sg.freq, own, comp
