@@ -3,9 +3,10 @@ package activity
 import (
 	"context"
 	"math"
-	"os"
 	"path/filepath"
 	"testing"
+
+	"spotsift/rvfit/rvtest"
 )
 
 // TestEccentricOrbitFound: an orbit with e = 0.85 is a spike once a
@@ -45,11 +46,7 @@ func TestEccentricOrbitFound(t *testing.T) {
 // planet-like signal; the sinusoid search alone found four "planets" at
 // its harmonics and their aliases and missed the orbit.
 func TestHD156846Blind(t *testing.T) {
-	dir := filepath.Join("..", "..", "shared", "realdata", "keck-hires")
-	path := filepath.Join(dir, "HD156846_KECK.vels")
-	if _, err := os.Stat(path); err != nil {
-		t.Skipf("%s is absent (the real RV files live in ../shared/realdata beside the repository): %v", path, err)
-	}
+	path := filepath.Join(rvtest.RealDataDir(t), "keck-hires", "HD156846_KECK.vels")
 	dg, err := Diagnose(context.Background(), readVels(t, path), &Options{Seed: 1})
 	if err != nil {
 		t.Fatal(err)

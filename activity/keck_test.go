@@ -1,0 +1,85 @@
+package activity
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"spotsift/rvfit/rvtest"
+)
+
+// keckPlanets are Keck/HIRES stars of ../shared/realdata/keck-hires with
+// planets whose periods (days) are published (from memory, with the
+// discovery papers): HD 209458 b (Charbonneau et al. 2000; Henry et al.
+// 2000), HIP 14810 b and c (Wright et al. 2007), HD 156846 b (e = 0.85;
+// Tamuz et al. 2008), HD 134987 b (Vogt et al. 2000), HD 177830 b (Vogt et
+// al. 2000) and c (Meschiari et al. 2011), HD 108874 b and c (Vogt et al.
+// 2005), HD 11964 c (Wright et al. 2009; b, near 1950 d, is too long for
+// these RVs to judge), HD 141399 b and c (Vogt et al. 2014), HD 99492 b
+// (Marcy et al. 2005), HD 192310 b (Howard et al. 2011), HD 34445 b
+// (Howard et al. 2010), HD 31253 b (Meschiari et al. 2011), HD 147506 b
+// (HAT-P-2 b; Bakos et al. 2007), HIP 57050 b (Haghighipour et al. 2010).
+var keckPlanets = []struct {
+	file    string
+	periods []float64
+}{
+	{"HD209458", []float64{3.5247}},
+	{"HIP14810", []float64{6.674, 147.7}},
+	{"HD156846", []float64{359.5}},
+	{"HD134987", []float64{258.2}},
+	{"HD177830", []float64{406.6, 110.9}},
+	{"HD108874", []float64{395.4, 1680}},
+	{"HD11964A", []float64{37.9}},
+	{"HD141399", []float64{94.4, 202.1}},
+	{"HD99492", []float64{17.05}},
+	{"HD192310", []float64{74.7}},
+	{"HD34445", []float64{1049}},
+	{"HD31253", []float64{466}},
+	{"HD147506", []float64{5.633}},
+	{"HIP57050", []float64{41.4}},
+}
+
+// TestKeckPlanetsBlind: the published planets of fourteen Keck/HIRES
+// stars, from their files as published, blind and without star files
+// (one instrument label per zero-point era, as readVels gives): each must
+// be found, within the frequency resolution 1/T of its published period,
+// and judged planet-like. Before the eighth pass of 4 Dec 2026 three of
+// the eighteen were not: HD 156846 b (its harmonics were found instead),
+// HD 99492 b and HD 192310 b (barred by a 2 d "rotation" a GP fit to the
+// S-values had returned with an error of 30 d).
+func TestKeckPlanetsBlind(t *testing.T) {
+	if os.Getenv("SPOTSIFT_LONG") == "" {
+		t.Skip("fourteen real stars take a minute or two; set SPOTSIFT_LONG=1 to run them")
+	}
+	dir := filepath.Join(rvtest.RealDataDir(t), "keck-hires")
+	for _, st := range keckPlanets {
+		t.Run(st.file, func(t *testing.T) {
+			s := readVels(t, filepath.Join(dir, st.file+"_KECK.vels"))
+			dg, err := Diagnose(context.Background(), s, &Options{Seed: 1})
+			if err != nil {
+				t.Fatal(err)
+			}
+			T := float64(dg.Baseline)
+			var got []string
+			for _, sg := range dg.Signals {
+				got = append(got, fmt.Sprintf("%.5g d %s", float64(sg.Period), sg.Verdict))
+			}
+			for _, p := range st.periods {
+				ok := false
+				for _, sg := range dg.Signals {
+					if math.Abs(1/float64(sg.Period)-1/p) < 1/T && sg.Verdict == PlanetLike {
+						ok = true
+					}
+				}
+				if !ok {
+					t.Errorf("%s: the published planet at %g d is not found planet-like (signals: %s)", st.file, p, strings.Join(got, "; "))
+				}
+			}
+			t.Logf("%s: %s", st.file, strings.Join(got, "; "))
+		})
+	}
+}
