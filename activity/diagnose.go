@@ -220,7 +220,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	if len(freqs) > 0 {
 		all, err = d.fitRV(freqs)
 		if err != nil {
-			return nil, fmt.Errorf("activity: joint fit of %d sinusoids: %w", len(freqs), err)
+			return nil, fmt.Errorf("activity: joint fit of %d signals: %w", len(freqs), err)
 		}
 		amps := make([]float64, len(freqs))
 		for k := range amps {
@@ -272,7 +272,8 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		amp, ampErr := all.amplitude(k)
 		sig := Signal{Period: Num(1 / sg.freq), Freq: Num(sg.freq), Source: sg.source, Power: Num(sg.power), FAP: Num(sg.fap),
 			FAPCorrelated: Num(sg.fapCorr), Amplitude: Num(amp), AmplitudeErr: Num(ampErr),
-			K: Num(amp), KErr: Num(ampErr), KFrom: KFromSinusoid}
+			K: Num(amp), KErr: Num(ampErr)}
+		sig.KFrom = kFromJoint(&sig)
 		if given {
 			sig.PeriodGiven = Num(o.Periods[k])
 		}

@@ -50,9 +50,19 @@ type OrbitPlanet struct {
 
 // Values of Signal.KFrom.
 const (
-	KFromKeplerian = "keplerian" // the orbital solution's Keplerian fit
+	KFromKeplerian = "keplerian" // the orbital solution's Keplerian fit, or the eccentric orbit search's
 	KFromSinusoid  = "sinusoid"  // the joint sinusoid fit of every signal
 )
+
+// kFromJoint is the KFrom of the diagnosis's joint fit for sg: a
+// Keplerian for a signal of the eccentric orbit search, a sinusoid for
+// the others.
+func kFromJoint(sg *Signal) string {
+	if sg.Source == sourceEccentric {
+		return KFromKeplerian
+	}
+	return KFromSinusoid
+}
 
 // AdoptK sets the K to quote of every signal of dg, computed from s (the
 // series dg was diagnosed from) and star (nil when none was given): for
@@ -82,7 +92,7 @@ func AdoptK(dg *Diagnosis, s *rvfit.Series, star *Star) *OrbitSolution {
 	dg.details.orbit, dg.details.orbitDone = orb, true
 	for k := range dg.Signals {
 		sg := &dg.Signals[k]
-		sg.K, sg.KErr, sg.KFrom = sg.Amplitude, sg.AmplitudeErr, KFromSinusoid
+		sg.K, sg.KErr, sg.KFrom = sg.Amplitude, sg.AmplitudeErr, kFromJoint(sg)
 	}
 	if orb != nil && orb.Err == "" {
 		for j, k := range orb.Signals {

@@ -109,17 +109,18 @@ type Signal struct {
 	PeriodGiven Num `json:"period_given,omitempty"`
 	// K is the adopted semi-amplitude in m/s, KErr its one-sigma error and
 	// KFrom the model it comes from: KFromKeplerian (the orbital solution,
-	// for planet-like and inconclusive signals) or KFromSinusoid (the
-	// joint sinusoid fit, for activity-like signals or when no Keplerian
-	// fit is available). Diagnose sets the sinusoid's; AdoptK (which the
+	// for planet-like and inconclusive signals, or the eccentric orbit
+	// search's Keplerian) or KFromSinusoid (the joint sinusoid fit, for
+	// activity-like signals or when no Keplerian fit is available). Diagnose sets the sinusoid's; AdoptK (which the
 	// commands and WriteReport call) replaces it by the Keplerian fit's.
 	K     Num    `json:"k"`
 	KErr  Num    `json:"k_err"`
 	KFrom string `json:"k_from"`
 	// Amplitude is the semi-amplitude in m/s of the signal's sinusoid in
-	// the diagnosis's joint fit of every signal and the instrument offsets,
-	// and AmplitudeErr its one-sigma error: what the tests start from, not
-	// the K to quote (that is K).
+	// the diagnosis's joint fit of every signal and the instrument offsets
+	// (for a signal of the eccentric orbit search, its Keplerian's), and
+	// AmplitudeErr its one-sigma error: what the tests start from, not the
+	// K to quote (that is K).
 	Amplitude    Num `json:"sinusoid_amplitude"`
 	AmplitudeErr Num `json:"sinusoid_amplitude_err"`
 	// Verdict is PlanetLike, ActivityLike or Inconclusive.
