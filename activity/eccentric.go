@@ -53,7 +53,27 @@ const (
 	eccPMin = 10.0
 	// eccBICMargin is the BIC difference an eccentric orbit must win by.
 	eccBICMargin = 10.0
+	// eccMax bounds the eccentricities fitted (HD 80606 b, e = 0.93, is
+	// among the most eccentric planets known; from memory).
+	eccMax = 0.95
 )
+
+// orbitBeta returns the red-noise factor of the residuals of a joint fit
+// of the orbit o and sinusoids at others, at the orbit's period.
+func (d *data) orbitBeta(o eccSignal, others []float64) float64 {
+	freqs := append([]float64{o.f}, others...)
+	shapes := make([]orbitShape, len(freqs))
+	shapes[0] = o.sh
+	fit, err := fitCurves(d.t, d.rv, d.err, d.inst, d.ninst, freqs, shapes, d.t0)
+	if err != nil {
+		return math.NaN()
+	}
+	resid := make([]float64, len(d.t))
+	for i, ti := range d.t {
+		resid[i] = d.rv[i] - fit.model(i, ti)
+	}
+	return redNoiseBeta(d.t, resid, d.err, 1/o.f)
+}
 
 // eccGrid is the grid of shapes tried at each candidate period: the phase
 // of periastron in steps of half the spike's width, which narrows as
@@ -172,11 +192,13 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 	}
 	// Each sinusoid has 3 parameters (frequency, A, B); the orbit 5
 	// (frequency, e, periastron, A, B). Both models' χ² are scaled by the
-	// reduced χ² of the orbit's fit (the better model when it wins), and
-	// gain is how far the orbit's BIC lies below the sinusoids'.
-	gainOf := func(chi float64, rest int) float64 {
+	// reduced χ² of the orbit's fit (the better model when it wins), times
+	// β² when the search is final (beta > 0: the red-noise factor of its
+	// residuals at the orbit's period, as for the alias check), and gain
+	// is how far the orbit's BIC lies below the sinusoids'.
+	gainOf := func(chi float64, rest int, beta float64) float64 {
 		dof := n - float64(2*(rest+1)+d.ninst)
-		scale := math.Max(1, chi/dof)
+		scale := math.Max(1, chi/dof) * math.Max(1, beta*beta)
 		return (all.ChiSq-chi)/scale - float64(3*len(freqs)-5-3*rest)*math.Log(n)
 	}
 	// A short local fit at every candidate (the frequency f_j/n can be a
@@ -188,7 +210,7 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 		}
 		cands[i].gain = math.Inf(-1)
 		if _, chi, ok := d.fitEccentric(cands[i].f, cands[i].rest, grid, 150); ok {
-			cands[i].gain = gainOf(chi, len(cands[i].rest))
+			cands[i].gain = gainOf(chi, len(cands[i].rest), 0)
 		}
 	}
 	sort.SliceStable(cands, func(a, b int) bool { return cands[a].gain > cands[b].gain })
@@ -197,10 +219,13 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 	for ci := 0; ci < len(cands) && ci < 3; ci++ {
 		c := cands[ci]
 		o, chi, ok := d.fitEccentric(c.f, c.rest, grid, 600)
-		if !ok {
+		// An orbit whose eccentricity runs to the edge of its disk is a
+		// spike fitted to a few epochs, not a measured orbit.
+		if !ok || o.sh.e > eccMax-0.01 {
 			continue
 		}
-		if g := gainOf(chi, len(c.rest)); g > bestGain {
+		beta := d.orbitBeta(o, c.rest)
+		if g := gainOf(chi, len(c.rest), beta); g > bestGain {
 			bestGain, best, bestOrb = g, ci, o
 		}
 	}
@@ -227,7 +252,7 @@ func (d *data) eccentricGrid(f0 float64, others []float64, grid []orbitShape) (o
 
 // fitEccentric fits one eccentric orbit near frequency f0 beside
 // sinusoids at others: the grid of shapes at f0, then a local fit of the
-// frequency (within the resolution), e (up to 0.95) and the periastron
+// frequency (within the resolution), e (below eccMax) and the periastron
 // from the best of them, in at most maxEval steps. It returns the orbit
 // and the fit's χ².
 func (d *data) fitEccentric(f0 float64, others []float64, grid []orbitShape, maxEval int) (eccSignal, float64, bool) {
@@ -246,7 +271,7 @@ func (d *data) fitEccentric(f0 float64, others []float64, grid []orbitShape, max
 		return eccSignal{}, 0, false
 	}
 	// The local fit: frequency, and (h, k) = √e (cos 2πφ, sin 2πφ) on the
-	// disk e < 0.95.
+	// disk e < eccMax.
 	res := 1 / d.T
 	sq := math.Sqrt(bestSh.e)
 	start := []float64{f0, sq * math.Cos(2*math.Pi*bestSh.phi), sq * math.Sin(2*math.Pi*bestSh.phi)}
@@ -259,14 +284,14 @@ func (d *data) fitEccentric(f0 float64, others []float64, grid []orbitShape, max
 			return math.Inf(-1)
 		}
 		sh := toShape(x)
-		if !(sh.e < 0.95) {
+		if !(sh.e < eccMax) {
 			return math.Inf(-1)
 		}
 		return -0.5 * chiAt(x[0], sh)
 	}
 	space := mapfit.Space{
 		{Name: "freq", Kind: mapfit.Free, Scale: res / 10},
-		{Name: "h", Kind: mapfit.DiskPair, Hi: math.Sqrt(0.95)},
+		{Name: "h", Kind: mapfit.DiskPair, Hi: math.Sqrt(eccMax)},
 		{Name: "k", Kind: mapfit.Free},
 	}
 	r, err := mapfit.Fit(&mapfit.Problem{Space: space, LogPost: post, Starts: [][]float64{start}},
