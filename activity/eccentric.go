@@ -58,6 +58,22 @@ const (
 	eccMax = 0.95
 )
 
+// periastronCycles returns the number of the orbit's cycles in which an
+// epoch falls near periastron: within half the time the orbit spends
+// there, (1 − e)^1.5 of a period (derived from Kepler's second law), of it.
+func (d *data) periastronCycles(o eccSignal) int {
+	half := 0.5 * math.Pow(1-o.sh.e, 1.5)
+	seen := map[float64]bool{}
+	for _, ti := range d.t {
+		x := o.f*(ti-d.t0) - o.sh.phi
+		c := math.Round(x)
+		if math.Abs(x-c) < half {
+			seen[c] = true
+		}
+	}
+	return len(seen)
+}
+
 // orbitBeta returns the red-noise factor of the residuals of a joint fit
 // of the orbit o and sinusoids at others, at the orbit's period.
 func (d *data) orbitBeta(o eccSignal, others []float64) float64 {
@@ -166,7 +182,7 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 			g := math.Abs(freqs[j] + sh)
 			for h := 1; h <= eccMaxHarmonic; h++ {
 				f0 := g / float64(h)
-				if f0 < res || 1/f0 < eccPMin || 1/f0 > d.T {
+				if f0 < res || 1/f0 < eccPMin || 1/f0 > d.T/2 {
 					continue
 				}
 				dup := false
@@ -220,8 +236,9 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 		c := cands[ci]
 		o, chi, ok := d.fitEccentric(c.f, c.rest, grid, 600)
 		// An orbit whose eccentricity runs to the edge of its disk is a
-		// spike fitted to a few epochs, not a measured orbit.
-		if !ok || o.sh.e > eccMax-0.01 {
+		// spike fitted to a few epochs, not a measured orbit; so is one
+		// whose periastron the data see in fewer than two cycles.
+		if !ok || o.sh.e > eccMax-0.01 || d.periastronCycles(o) < 2 {
 			continue
 		}
 		beta := d.orbitBeta(o, c.rest)
