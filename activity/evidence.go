@@ -87,19 +87,22 @@ func (h harmonic) rank() int {
 // fits as well as an orbit: P_rot … P_rot/4.
 func (h harmonic) gpReach() bool { return !h.alias && h.n >= 1 }
 
-// atHarmonic returns the frequency a signal at f would have at a rotation
-// harmonic of frequency fh: f itself when the match is the harmonic, and
-// when it is a 1-day alias of it, the one of |f − 1 sidereal day⁻¹| and
-// f + 1 sidereal day⁻¹ nearer fh.
-func atHarmonic(f, fh float64, alias bool) float64 {
+// atHarmonic returns the frequencies a signal at f could have at a
+// rotation harmonic of frequency fh, within tol of it: f itself when the
+// match is the harmonic, and when it is a 1-day alias of it, those of
+// |f ± 1 sidereal day⁻¹| and |f ± 1 solar day⁻¹| within tol of fh (nightly
+// data alias by both days; the nearest one alone may not be the one).
+func atHarmonic(f, fh, tol float64, alias bool) []float64 {
 	if !alias {
-		return f
+		return []float64{f}
 	}
-	g := math.Abs(f - siderealFreq)
-	if a := f + siderealFreq; math.Abs(a-fh) < math.Abs(g-fh) {
-		g = a
+	var out []float64
+	for _, g := range []float64{math.Abs(f - siderealFreq), f + siderealFreq, math.Abs(f - 1), f + 1} {
+		if math.Abs(g-fh) <= tol {
+			out = append(out, g)
+		}
 	}
-	return g
+	return out
 }
 
 // searched reports whether frequency g lies within the periods searched.
@@ -248,11 +251,28 @@ func (tr *trial) rotationMatch() {
 			// reject that alias.
 			if (match.n == 1 || match.n == 2) && !strings.HasPrefix(match.label, "1-year") && measured && hy.Share >= 0.1 {
 				bars := ww > 0
-				if g := atHarmonic(tr.f, match.n/prot, match.alias); !bars && !tr.d.searched(g) {
-					r, ok := tr.ownAliasOdds(g, "1-day alias")
-					bars = !ok || r.odds() < aliasAmbiguityLimit
-					if !bars {
-						parts[len(parts)-1] += fmt.Sprintf("; the 1-day alias at %.4g d that would put it there fits worse (Δχ² = %+.1f in units of the residual scatter, %+.1f from the period prior), so the window bars nothing", 1/r.freq, r.dchi, r.prior)
+				if !bars {
+					// Each 1-day alias that would put the signal in the
+					// window beyond the periods searched bars it unless
+					// the data reject that alias. The data alone: the
+					// period prior of the alias check (uniform in ln P,
+					// which favours the long period by 2 ln(f_alias/f))
+					// is a planet's, and the question here is the star's
+					// own harmonic, a period the rotation names.
+					var worse []string
+					for _, g := range atHarmonic(tr.f, match.n/prot, matchTol, match.alias) {
+						if tr.d.searched(g) {
+							continue
+						}
+						r, ok := tr.ownAliasOdds(g, "1-day alias")
+						if !ok || r.dchi < aliasAmbiguityLimit {
+							bars = true
+							break
+						}
+						worse = append(worse, fmt.Sprintf("%.4g d (Δχ² = %+.1f in units of the residual scatter)", 1/r.freq, r.dchi))
+					}
+					if !bars && len(worse) > 0 {
+						parts[len(parts)-1] += "; the 1-day aliases that would put it there, beyond the periods searched, fit worse: " + strings.Join(worse, ", ") + ", so the window bars nothing"
 					}
 				}
 				if bars {
