@@ -163,7 +163,15 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 		return orb, nil, false
 	}
 	all, err := d.fitRV(freqs)
-	if err != nil {
+	if err != nil || all.Dof <= 0 {
+		return orb, nil, false
+	}
+	// An orbit gains on the sinusoids only the χ² they leave: when that
+	// is within the noise of its degrees of freedom (three standard
+	// deviations of χ²) plus the margin, no orbit can win, and none is
+	// fitted.
+	dofS := float64(all.Dof)
+	if all.ChiSq-dofS < eccBICMargin+3*math.Sqrt(2*dofS) {
 		return orb, nil, false
 	}
 	res := 1 / d.T
@@ -232,7 +240,9 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 	sort.SliceStable(cands, func(a, b int) bool { return cands[a].gain > cands[b].gain })
 	bestGain, best := eccBICMargin, -1
 	var bestOrb eccSignal
-	for ci := 0; ci < len(cands) && ci < 3; ci++ {
+	// (A candidate the short fit leaves worse than the sinusoids is not
+	// fitted further.)
+	for ci := 0; ci < len(cands) && ci < 3 && cands[ci].gain > 0; ci++ {
 		c := cands[ci]
 		o, chi, ok := d.fitEccentric(c.f, c.rest, grid, 600)
 		// An orbit whose eccentricity runs to the edge of its disk is a
@@ -260,8 +270,8 @@ func (d *data) eccentricGrid(f0 float64, others []float64, grid []orbitShape) (o
 	bestChi, bestSh := math.Inf(1), orbitShape{}
 	for _, sh := range grid {
 		shapes[0] = sh
-		if fit, err := fitCurves(d.t, d.rv, d.err, d.inst, d.ninst, freqs, shapes, d.t0); err == nil && fit.ChiSq < bestChi {
-			bestChi, bestSh = fit.ChiSq, sh
+		if chi, err := chiCurves(d.t, d.rv, d.err, d.inst, d.ninst, freqs, shapes, d.t0); err == nil && chi < bestChi {
+			bestChi, bestSh = chi, sh
 		}
 	}
 	return bestSh, bestChi
@@ -277,11 +287,11 @@ func (d *data) fitEccentric(f0 float64, others []float64, grid []orbitShape, max
 	shapes := make([]orbitShape, len(freqs))
 	chiAt := func(f float64, sh orbitShape) float64 {
 		freqs[0], shapes[0] = f, sh
-		fit, err := fitCurves(d.t, d.rv, d.err, d.inst, d.ninst, freqs, shapes, d.t0)
-		if err != nil || !isFinite(fit.ChiSq) {
+		chi, err := chiCurves(d.t, d.rv, d.err, d.inst, d.ninst, freqs, shapes, d.t0)
+		if err != nil || !isFinite(chi) {
 			return math.Inf(1)
 		}
-		return fit.ChiSq
+		return chi
 	}
 	bestSh, bestChi := d.eccentricGrid(f0, others, grid)
 	if !isFinite(bestChi) {

@@ -109,50 +109,13 @@ func fitCurves(t, y, sigma []float64, group []int, ng int, freqs []float64, shap
 	}
 	nf := len(freqs)
 	np := 2*nf + ng
-	var rows []int
-	for i := range t {
-		if isFinite(y[i]) && sigma[i] > 0 && isFinite(sigma[i]) {
-			rows = append(rows, i)
-		}
+	ne, err := normalEquations(t, y, sigma, group, ng, freqs, shapes, t0, false)
+	if err != nil {
+		return nil, err
 	}
-	if len(rows) < np+1 {
-		return nil, errSingularFit
-	}
-	ata := mat.NewSymDense(np, nil)
-	atb := mat.NewVecDense(np, nil)
-	row := make([]float64, np)
-	used := make([]bool, ng)
-	for _, i := range rows {
-		w := 1 / (sigma[i] * sigma[i])
-		clear(row)
-		for k, fr := range freqs {
-			var sh orbitShape
-			if shapes != nil {
-				sh = shapes[k]
-			}
-			row[2*k], row[2*k+1] = basis(fr, sh, t[i], t0)
-		}
-		g := 0
-		if group != nil {
-			g = group[i]
-		}
-		used[g] = true
-		row[2*nf+g] = 1
-		for a := 0; a < np; a++ {
-			if row[a] == 0 {
-				continue
-			}
-			atb.SetVec(a, atb.AtVec(a)+w*row[a]*y[i])
-			for b := a; b < np; b++ {
-				ata.SetSym(a, b, ata.At(a, b)+w*row[a]*row[b])
-			}
-		}
-	}
-	for g, u := range used {
-		if !u { // a group without data: pin its offset
-			ata.SetSym(2*nf+g, 2*nf+g, 1)
-		}
-	}
+	rows := ne.rows
+	ata := mat.NewSymDense(np, ne.aw) // reads the upper triangle
+	atb := mat.NewVecDense(np, ne.bw)
 	var ch mat.Cholesky
 	if ok := ch.Factorize(ata); !ok {
 		return nil, errSingularFit
@@ -188,6 +151,106 @@ func fitCurves(t, y, sigma []float64, group []int, ng int, freqs []float64, shap
 		f.CovAB[k] = [2][2]float64{{cov.At(a, a) * scale, cov.At(a, b) * scale}, {cov.At(b, a) * scale, cov.At(b, b) * scale}}
 	}
 	return f, nil
+}
+
+// normalEq holds the weighted normal equations of a linear fit: the upper
+// triangle of AᵀWA (row-major, np × np), AᵀWy, the epochs used and, when
+// kept, each one's row of A.
+type normalEq struct {
+	aw, bw []float64
+	rows   []int
+	x      []float64 // len(rows) × np, when kept
+}
+
+// normalEquations builds the normal equations of fitCurves, in plain
+// slices handed to gonum once; keep stores the rows of A for chiCurves.
+func normalEquations(t, y, sigma []float64, group []int, ng int, freqs []float64, shapes []orbitShape, t0 float64, keep bool) (*normalEq, error) {
+	nf := len(freqs)
+	np := 2*nf + ng
+	ne := &normalEq{aw: make([]float64, np*np), bw: make([]float64, np)}
+	for i := range t {
+		if isFinite(y[i]) && sigma[i] > 0 && isFinite(sigma[i]) {
+			ne.rows = append(ne.rows, i)
+		}
+	}
+	if len(ne.rows) < np+1 {
+		return nil, errSingularFit
+	}
+	if keep {
+		ne.x = make([]float64, len(ne.rows)*np)
+	}
+	row := make([]float64, np)
+	used := make([]bool, ng)
+	for r, i := range ne.rows {
+		w := 1 / (sigma[i] * sigma[i])
+		clear(row)
+		for k, fr := range freqs {
+			var sh orbitShape
+			if shapes != nil {
+				sh = shapes[k]
+			}
+			row[2*k], row[2*k+1] = basis(fr, sh, t[i], t0)
+		}
+		g := 0
+		if group != nil {
+			g = group[i]
+		}
+		used[g] = true
+		row[2*nf+g] = 1
+		if keep {
+			copy(ne.x[r*np:(r+1)*np], row)
+		}
+		for a := 0; a < np; a++ {
+			ra := row[a]
+			if ra == 0 {
+				continue
+			}
+			wa := w * ra
+			ne.bw[a] += wa * y[i]
+			line := ne.aw[a*np : (a+1)*np]
+			for b := a; b < np; b++ {
+				line[b] += wa * row[b]
+			}
+		}
+	}
+	for g, u := range used {
+		if !u { // a group without data: pin its offset
+			ne.aw[(2*nf+g)*np+2*nf+g] = 1
+		}
+	}
+	return ne, nil
+}
+
+// chiCurves returns the χ² of fitCurves alone, without its covariance
+// and from the rows of A it built (each basis computed once): the
+// eccentric orbit search's many trial fits.
+func chiCurves(t, y, sigma []float64, group []int, ng int, freqs []float64, shapes []orbitShape, t0 float64) (float64, error) {
+	if group == nil {
+		ng = 1
+	}
+	np := 2*len(freqs) + ng
+	ne, err := normalEquations(t, y, sigma, group, ng, freqs, shapes, t0, true)
+	if err != nil {
+		return 0, err
+	}
+	var ch mat.Cholesky
+	if ok := ch.Factorize(mat.NewSymDense(np, ne.aw)); !ok {
+		return 0, errSingularFit
+	}
+	var x mat.VecDense
+	if err := ch.SolveVecTo(&x, mat.NewVecDense(np, ne.bw)); err != nil {
+		return 0, errSingularFit
+	}
+	chi := 0.0
+	for r, i := range ne.rows {
+		m := 0.0
+		for a, v := range ne.x[r*np : (r+1)*np] {
+			m += v * x.AtVec(a)
+		}
+		d := (y[i] - m) / sigma[i]
+		chi += d * d
+	}
+	return chi, nil
 }
 
 // groupIndex maps labels to indices 0..n−1 in order of first appearance.
