@@ -68,3 +68,15 @@ func TestHD156846Blind(t *testing.T) {
 		t.Errorf("HD 156846 b (359.5 d) was not found")
 	}
 }
+
+// BenchmarkEccentricSearch is the blind diagnosis (no GP) of the orbit of
+// TestEccentricOrbitFound: the sinusoid search, the eccentric orbit
+// search that replaces its four signals, and the search again.
+func BenchmarkEccentricSearch(b *testing.B) {
+	s := keplerSeries(4, 2, [3]float64{120, 40, 0.85})
+	for b.Loop() {
+		if _, err := Diagnose(context.Background(), s, &Options{SkipModels: true, Seed: 1}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
