@@ -197,8 +197,8 @@ func (tr *trial) gpPartFit(ts, ys, es []float64, g []int, ng int, gi []int) (ab 
 	if err != nil || sol == nil {
 		return ab, cov, false
 	}
-	// The design of the GP model on this part: its offsets and the
-	// sinusoid at the signal's frequency.
+	// The design of the GP model on this part: its offsets and the signal
+	// at its frequency (a sinusoid, or its eccentric orbit's shape).
 	part := gpModel{t: ts, inst: g, ninst: ng, freq: tr.f, shape: tr.shape, t0: tr.d.t0}
 	cols := part.design()
 	beta, cb, _, ok := glsProfile(sol, cols, ys, true)

@@ -390,7 +390,7 @@ func (d *data) findSignals() ([]found, error) {
 	for k := range out {
 		freqs[k] = out[k].freq
 	}
-	orb, _, ok := d.eccentricSearch(freqs)
+	orb, ok := d.eccentricSearch(freqs)
 	if !ok {
 		return out, nil
 	}

@@ -156,15 +156,14 @@ func explainedBy(g, f0, res float64) bool {
 
 // eccentricSearch looks for one eccentric orbit that explains several of
 // the signals freqs found by the sinusoid search better than they explain
-// themselves. It returns the orbit and the frequencies of the signals it
-// leaves unexplained, or ok false.
-func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, ok bool) {
+// themselves. It returns the orbit, or ok false.
+func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, ok bool) {
 	if len(freqs) < 2 || d.ctx.Err() != nil {
-		return orb, nil, false
+		return orb, false
 	}
 	all, err := d.fitRV(freqs)
 	if err != nil || all.Dof <= 0 {
-		return orb, nil, false
+		return orb, false
 	}
 	// An orbit gains on the sinusoids only the χ² they leave: when that
 	// is within the noise of its degrees of freedom (three standard
@@ -172,7 +171,7 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 	// fitted.
 	dofS := float64(all.Dof)
 	if all.ChiSq-dofS < eccBICMargin+3*math.Sqrt(2*dofS) {
-		return orb, nil, false
+		return orb, false
 	}
 	res := 1 / d.T
 	n := float64(len(d.t))
@@ -230,7 +229,7 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 	// at the three best.
 	for i := range cands {
 		if d.ctx.Err() != nil {
-			return orb, nil, false
+			return orb, false
 		}
 		cands[i].gain = math.Inf(-1)
 		if _, chi, ok := d.fitEccentric(cands[i].f, cands[i].rest, grid, 150); ok {
@@ -238,28 +237,26 @@ func (d *data) eccentricSearch(freqs []float64) (orb eccSignal, rest []float64, 
 		}
 	}
 	sort.SliceStable(cands, func(a, b int) bool { return cands[a].gain > cands[b].gain })
-	bestGain, best := eccBICMargin, -1
-	var bestOrb eccSignal
+	// The orbit must gain more than the margin; the best one that does is
+	// the search's.
+	bestGain := eccBICMargin
 	// (A candidate the short fit leaves worse than the sinusoids is not
 	// fitted further.)
 	for ci := 0; ci < len(cands) && ci < 3 && cands[ci].gain > 0; ci++ {
 		c := cands[ci]
-		o, chi, ok := d.fitEccentric(c.f, c.rest, grid, 600)
+		o, chi, fitted := d.fitEccentric(c.f, c.rest, grid, 600)
 		// An orbit whose eccentricity runs to the edge of its disk is a
 		// spike fitted to a few epochs, not a measured orbit; so is one
 		// whose periastron the data see in fewer than two cycles.
-		if !ok || o.sh.e > eccMax-0.01 || d.periastronCycles(o) < 2 {
+		if !fitted || o.sh.e > eccMax-0.01 || d.periastronCycles(o) < 2 {
 			continue
 		}
 		beta := d.orbitBeta(o, c.rest)
 		if g := gainOf(chi, len(c.rest), beta); g > bestGain {
-			bestGain, best, bestOrb = g, ci, o
+			bestGain, orb, ok = g, o, true
 		}
 	}
-	if best < 0 {
-		return orb, nil, false
-	}
-	return bestOrb, cands[best].rest, true
+	return orb, ok
 }
 
 // eccentricGrid returns the best shape of grid for an orbit at frequency
