@@ -257,7 +257,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 			return nil, err
 		}
 		// The signal's own data: the RVs less the offsets and every other
-		// signal's sinusoid.
+		// signal's fitted curve (a sinusoid, or an eccentric orbit's).
 		own := make([]float64, len(d.t))
 		comp := make([]float64, len(d.t))
 		for i, ti := range d.t {
@@ -556,11 +556,12 @@ type trial struct {
 	d      *data
 	f      float64
 	own    []float64 // the signal's own data (offsets and other signals removed)
-	comp   []float64 // the fitted sinusoid at each epoch
+	comp   []float64 // the fitted curve at each epoch (sinusoid or eccentric orbit)
 	amp    float64
 	ampErr float64
-	// phase is the fitted sinusoid's phase φ, the sinusoid being
-	// amp·cos(2πf(t − t0) − φ) with t0 the data's phase reference.
+	// phase is the fitted sinusoid's phase φ (for an eccentric orbit, its
+	// first Fourier term's), the sinusoid being amp·cos(2πf(t − t0) − φ)
+	// with t0 the data's phase reference.
 	phase float64
 	// shape is the signal's shape in the joint fit (an eccentric orbit's,
 	// or a sinusoid's).
