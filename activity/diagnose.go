@@ -216,6 +216,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 	var all *sineFit
 	var rels []*relation
 	var rivals []*aliasRival
+	var cands [][]aliasRival
 	var jointPow, jointBeta []float64
 	if len(freqs) > 0 {
 		all, err = d.fitRV(freqs)
@@ -229,10 +230,12 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		rels = d.relations(all, freqs, amps)
 		jointPow, jointBeta = d.jointSignificance(freqs)
 		rivals = make([]*aliasRival, len(freqs))
+		cands = make([][]aliasRival, len(freqs))
 		win := d.samplingPeaks()
 		for k := range freqs {
 			if rels[k] == nil {
-				rivals[k] = d.aliasRivals(all, freqs, k, win, jointBeta[k])
+				cands[k] = d.aliasCandidates(all, freqs, k, win, jointBeta[k])
+				rivals[k] = likeliestRival(cands[k])
 			}
 		}
 		tEff := d.tEff()
@@ -281,9 +284,6 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 			sig.RelatedTo = r.label
 			sig.Caveat = "it is " + r.label
 		}
-		if r := rivals[k]; r != nil && sig.Caveat == "" {
-			sig.Caveat = fmt.Sprintf("its period is ambiguous: the %s at %.4g d fits the data about as well", r.label, 1/r.freq)
-		}
 		// An eccentric orbit's phase is that of its first Fourier term,
 		// the sinusoid the tests at the period fit.
 		phase := all.phase(k)
@@ -294,13 +294,36 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		}
 		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: phase, shape: all.shape(k), rot: diag.Rotation, beta: jointBeta[k], rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
+		// With the activity modelled by the GP of the model comparison,
+		// the aliases are weighed again, and that answer replaces the
+		// white-noise fits' (gpAliasRival).
+		white := rivals[k]
+		var gpClosest *aliasRival
+		if rels[k] == nil && len(cands[k]) > 0 && d.ctx.Err() == nil {
+			if r, ok := tr.gpAliasRival(all, freqs, k, cands[k]); ok {
+				gpClosest, rivals[k] = r, nil
+				if r != nil && r.odds() < aliasAmbiguityLimit {
+					rivals[k] = r
+				}
+			}
+		}
 		if r := rivals[k]; r != nil {
+			if sig.Caveat == "" || sig.Caveat == tr.caveat {
+				sig.Caveat = fmt.Sprintf("its period is ambiguous: the %s at %.4g d fits the data about as well", r.label, 1/r.freq)
+			}
 			how := "is about as probable as"
 			if r.odds() < 0 {
 				how = "is more probable than"
 			}
+			fit := "in units of the residual scatter (red noise allowed for)"
+			if r.gp {
+				fit = "(2 Δln L) with activity modelled by the GP of the model comparison"
+			}
 			sig.Evidence = append(sig.Evidence, Evidence{Name: "period_alias", Value: Num(r.odds()), Threshold: Num(aliasAmbiguityLimit), Points: TowardNeither,
-				Reason: fmt.Sprintf("the %s at %.4g d %s the period, the other signals in the fit: Δχ² = %+.1f in units of the residual scatter (red noise allowed for), %+.1f from a period prior uniform in ln P, %+.1f in all, below %.1f; the verdict cannot rest on the period", r.label, 1/r.freq, how, r.dchi, r.prior, r.odds(), aliasAmbiguityLimit)})
+				Reason: fmt.Sprintf("the %s at %.4g d %s the period, the other signals in the fit: Δχ² = %+.1f %s, %+.1f from a period prior uniform in ln P, %+.1f in all, below %.1f; the verdict cannot rest on the period", r.label, 1/r.freq, how, r.dchi, fit, r.prior, r.odds(), aliasAmbiguityLimit)})
+		} else if white != nil && gpClosest != nil {
+			sig.Evidence = append(sig.Evidence, Evidence{Name: "period_alias", Value: Num(gpClosest.odds()), Threshold: Num(aliasAmbiguityLimit), Points: TowardNeither,
+				Reason: fmt.Sprintf("the %s at %.4g d fits about as well in sinusoid fits with the residual scatter scaled (odds %+.1f), but with activity modelled by the GP of the model comparison the likeliest alias, the %s at %.4g d, is less probable than the period: Δχ² = %+.1f (2 Δln L), %+.1f from a period prior uniform in ln P, %+.1f in all, above %.1f; the period stands", white.label, 1/white.freq, white.odds(), gpClosest.label, 1/gpClosest.freq, gpClosest.dchi, gpClosest.prior, gpClosest.odds(), aliasAmbiguityLimit)})
 		}
 		// A planet claim needs the signal to stay significant once
 		// correlated noise is allowed for: by the red-noise factor of the

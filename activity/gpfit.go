@@ -31,7 +31,10 @@ type gpModel struct {
 	ninst       int
 	freq        float64
 	shape       orbitShape // the signal's shape at freq (a sinusoid's by default)
-	t0          float64
+	// fixed holds further columns of X, placed after the offsets: other
+	// signals at fixed periods, their amplitudes fitted with the rest.
+	fixed [][]float64
+	t0    float64
 	// Period bounds (days) and an optional Gaussian prior on ln P.
 	pLo, pHi        float64
 	lnPMu, lnPSigma float64 // lnPSigma = 0: log-uniform on [pLo, pHi]
@@ -96,6 +99,7 @@ func (m *gpModel) design() [][]float64 {
 		}
 		cols = append(cols, c)
 	}
+	cols = append(cols, m.fixed...)
 	if m.freq > 0 {
 		cc, sc := make([]float64, n), make([]float64, n)
 		for i, ti := range m.t {

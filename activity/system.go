@@ -251,6 +251,10 @@ type aliasRival struct {
 	dchi  float64 // χ²(alias) − χ²(period), in units of the residual scatter and over β²
 	prior float64 // aliasPrior(f, freq): the period prior's term, added to dchi
 	label string  // what kind of alias
+	// gp reports that dchi is 2 Δln L of the GP activity model with the
+	// signal at the alias and at the period (gpAliasRival), not the white-
+	// noise fits' scaled Δχ².
+	gp bool
 }
 
 // odds is −2 ln of the alias's posterior odds against the period: the
@@ -286,8 +290,14 @@ func aliasPrior(f, fAlias float64) float64 { return 2 * math.Log(fAlias/f) }
 // answer by comparing periodograms, in its simplest form: the fit of each
 // candidate (docs/methods.md §14.6).
 func (d *data) aliasRivals(base *sineFit, freqs []float64, k int, win []float64, beta float64) *aliasRival {
+	return likeliestRival(d.aliasCandidates(base, freqs, k, win, beta))
+}
+
+// likeliestRival returns the alias of cands with the smallest odds against
+// the period when they come within aliasAmbiguityLimit, nil otherwise.
+func likeliestRival(cands []aliasRival) *aliasRival {
 	var best *aliasRival
-	for _, r := range d.aliasCandidates(base, freqs, k, win, beta) {
+	for _, r := range cands {
 		if r.odds() < aliasAmbiguityLimit && (best == nil || r.odds() < best.odds()) {
 			best = &r
 		}
