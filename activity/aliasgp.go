@@ -2,6 +2,7 @@ package activity
 
 import (
 	"math"
+	"slices"
 )
 
 // gpAliasMaxRefits is how many of the likeliest aliases gpAliasRival fits
@@ -42,8 +43,11 @@ func (tr *trial) gpAliasRival(all *sineFit, freqs []float64, k int, cands []alia
 	m := *g
 	m.y = d.rv
 	m.fixed = nil
+	// A signal within the resolution of this one is this one, split by an
+	// imperfect fit: it is left out, as aliasCandidates leaves it out.
+	twins := sameSignal(freqs, k, 1/d.T)
 	for j, fj := range freqs {
-		if j == k {
+		if j == k || slices.Contains(twins, j) {
 			continue
 		}
 		cc, sc := make([]float64, len(d.t)), make([]float64, len(d.t))
@@ -56,31 +60,24 @@ func (tr *trial) gpAliasRival(all *sineFit, freqs []float64, k int, cands []alia
 	for i, s := range m.sigma {
 		variance[i] = s * s
 	}
-	type solver interface {
-		Solve(dst, y []float64) ([]float64, error)
-		LogLikelihood(r []float64) (float64, error)
-	}
-	factor := func(theta []float64) solver {
-		sol, err := m.noise(theta).Factor(m.t, variance, m.inst)
-		if err != nil || sol == nil {
-			return nil
-		}
-		return sol
-	}
-	sol := factor(r1.theta)
-	if sol == nil {
+	sol, err := m.noise(r1.theta).Factor(m.t, variance, m.inst)
+	if err != nil || sol == nil {
 		return nil, false
 	}
 	m.freq = 0
 	base := m.design() // the offsets and the other signals
-	lnLAt := func(sol solver, f float64) float64 {
+	// colsAt is X with the signal at frequency f; lnLAt the profile ln L
+	// there at the period's GP parameters.
+	colsAt := func(f float64) [][]float64 {
 		cols := append([][]float64(nil), base...)
 		cc, sc := make([]float64, len(m.t)), make([]float64, len(m.t))
 		for i, ti := range m.t {
 			cc[i], sc[i] = basis(f, orbitShape{}, ti, m.t0)
 		}
-		cols = append(cols, cc, sc)
-		_, _, r, okG := glsProfile(sol, cols, m.y, false)
+		return append(cols, cc, sc)
+	}
+	lnLAt := func(f float64) float64 {
+		_, _, r, okG := glsProfile(sol, colsAt(f), m.y, false)
 		if !okG {
 			return math.Inf(-1)
 		}
@@ -95,7 +92,7 @@ func (tr *trial) gpAliasRival(all *sineFit, freqs []float64, k int, cands []alia
 	bestF, lnF := f, math.Inf(-1)
 	for s := -4; s <= 4; s++ {
 		x := f + float64(s)*res/8
-		if l := lnLAt(sol, x); l > lnF {
+		if l := lnLAt(x); l > lnF {
 			bestF, lnF = x, l
 		}
 	}
@@ -114,7 +111,7 @@ func (tr *trial) gpAliasRival(all *sineFit, freqs []float64, k int, cands []alia
 			if x <= 0 || math.Abs(x-f) < res || math.Abs(math.Log(x/f)) < aliasMinSeparation {
 				continue
 			}
-			if l := lnLAt(sol, x); l > bestL {
+			if l := lnLAt(x); l > bestL {
 				bestL, bestA = l, x
 			}
 		}
@@ -131,18 +128,14 @@ func (tr *trial) gpAliasRival(all *sineFit, freqs []float64, k int, cands []alia
 	// The red noise the GP leaves: β of the residuals less the GP's
 	// prediction at the data, at the period's fit.
 	b2 := 1.0
-	{
-		m1 := m
-		m1.freq, m1.shape = bestF, orbitShape{}
-		if _, _, _, r, s1, okP := m1.profileSolve(r1.theta, m1.design(), false); okP {
-			if mean, _, err := predictAtData(s1, r, m1.t); err == nil {
-				z := make([]float64, len(r))
-				for i := range r {
-					z[i] = r[i] - mean[i]
-				}
-				if b := redNoiseBeta(m1.t, z, m1.sigma, 1/f); isFinite(b) {
-					b2 = math.Max(1, b*b)
-				}
+	if _, _, r, okG := glsProfile(sol, colsAt(bestF), m.y, false); okG {
+		if mean, _, err := predictAtData(sol, r, m.t); err == nil {
+			z := make([]float64, len(r))
+			for i := range r {
+				z[i] = r[i] - mean[i]
+			}
+			if b := redNoiseBeta(m.t, z, m.sigma, 1/f); isFinite(b) {
+				b2 = math.Max(1, b*b)
 			}
 		}
 	}
