@@ -21,7 +21,9 @@ import (
 // 2005), HD 11964 c (Wright et al. 2009; b, near 1950 d, is too long for
 // these RVs to judge), HD 141399 b and c (Vogt et al. 2014), HD 99492 b
 // (Marcy et al. 2005), HD 34445 b (Howard et al. 2010), HD 31253 b (Meschiari et al. 2011), HD 147506 b
-// (HAT-P-2 b; Bakos et al. 2007), HIP 57050 b (Haghighipour et al. 2010).
+// (HAT-P-2 b; Bakos et al. 2007), HIP 57050 b (Haghighipour et al. 2010),
+// HD 179079 b (Valenti et al. 2009; its 1-day alias near 1.07 d is
+// rejected only with the activity modelled, docs/methods.md §14.6).
 // HD 192310 b (74.7 d; Howard et al. 2011) is left out: these RVs alone
 // do not reject its 1-day alias at 0.984 d (it fits as well), which would
 // sit at P_rot/2 of a 1.86 d rotation hypothesis drawn from a weak S-index
@@ -39,6 +41,7 @@ var keckPlanets = []struct {
 	{"HD11964A", []float64{37.9}},
 	{"HD141399", []float64{94.4, 202.1}},
 	{"HD99492", []float64{17.05}},
+	{"HD179079", []float64{14.48}},
 	{"HD34445", []float64{1049}},
 	{"HD31253", []float64{466}},
 	{"HD147506", []float64{5.633}},
