@@ -248,7 +248,7 @@ const aliasMinSeparation = 0.05
 // as well as the period itself.
 type aliasRival struct {
 	freq  float64 // the alias's best frequency
-	dchi  float64 // χ²(alias) − χ²(period), in units of the residual scatter and over β²
+	dchi  float64 // χ²(alias) − χ²(period), in units of the residual scatter and over β² (2 Δln L when gp)
 	prior float64 // aliasPrior(f, freq): the period prior's term, added to dchi
 	label string  // what kind of alias
 	// gp reports that dchi is 2 Δln L of the GP activity model with the
