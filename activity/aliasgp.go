@@ -66,18 +66,30 @@ func (tr *trial) gpAliasRival(all *sineFit, freqs []float64, k int, cands []alia
 	}
 	m.freq = 0
 	base := m.design() // the offsets and the other signals
-	// colsAt is X with the signal at frequency f; lnLAt the profile ln L
-	// there at the period's GP parameters.
-	colsAt := func(f float64) [][]float64 {
-		cols := append([][]float64(nil), base...)
+	// The fixed columns are solved once; each frequency tried adds the
+	// signal's two.
+	kBase, okB := solveColumns(sol, base)
+	if !okB {
+		return nil, false
+	}
+	// residAt returns the GLS residuals with the signal at frequency f, at
+	// the period's GP parameters; lnLAt the profile ln L there.
+	residAt := func(f float64) ([]float64, bool) {
 		cc, sc := make([]float64, len(m.t)), make([]float64, len(m.t))
 		for i, ti := range m.t {
 			cc[i], sc[i] = basis(f, orbitShape{}, ti, m.t0)
 		}
-		return append(cols, cc, sc)
+		kSig, okS := solveColumns(sol, [][]float64{cc, sc})
+		if !okS {
+			return nil, false
+		}
+		cols := append(append([][]float64(nil), base...), cc, sc)
+		kx := append(append([][]float64(nil), kBase...), kSig...)
+		_, _, r, okG := glsSolved(kx, cols, m.y, false)
+		return r, okG
 	}
 	lnLAt := func(f float64) float64 {
-		_, _, r, okG := glsProfile(sol, colsAt(f), m.y, false)
+		r, okG := residAt(f)
 		if !okG {
 			return math.Inf(-1)
 		}
@@ -128,7 +140,7 @@ func (tr *trial) gpAliasRival(all *sineFit, freqs []float64, k int, cands []alia
 	// The red noise the GP leaves: β of the residuals less the GP's
 	// prediction at the data, at the period's fit.
 	b2 := 1.0
-	if _, _, r, okG := glsProfile(sol, colsAt(bestF), m.y, false); okG {
+	if r, okG := residAt(bestF); okG {
 		if mean, _, err := predictAtData(sol, r, m.t); err == nil {
 			z := make([]float64, len(r))
 			for i := range r {

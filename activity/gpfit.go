@@ -148,14 +148,31 @@ func (m *gpModel) profileSolve(theta []float64, cols [][]float64, wantCov bool) 
 func glsProfile(sol interface {
 	Solve(dst, y []float64) ([]float64, error)
 }, cols [][]float64, y []float64, wantCov bool) (beta []float64, cov *mat.SymDense, r []float64, ok bool) {
-	nc := len(cols)
-	kx := make([][]float64, nc)
+	kx, ok := solveColumns(sol, cols)
+	if !ok {
+		return nil, nil, nil, false
+	}
+	return glsSolved(kx, cols, y, wantCov)
+}
+
+// solveColumns returns K⁻¹c for each column c of cols.
+func solveColumns(sol interface {
+	Solve(dst, y []float64) ([]float64, error)
+}, cols [][]float64) ([][]float64, bool) {
+	kx := make([][]float64, len(cols))
 	var err error
 	for j, c := range cols {
 		if kx[j], err = sol.Solve(nil, c); err != nil {
-			return nil, nil, nil, false
+			return nil, false
 		}
 	}
+	return kx, true
+}
+
+// glsSolved is glsProfile with K⁻¹X given (kx), for callers that vary
+// some columns and keep the others' solves.
+func glsSolved(kx, cols [][]float64, y []float64, wantCov bool) (beta []float64, cov *mat.SymDense, r []float64, ok bool) {
+	nc := len(cols)
 	a := mat.NewSymDense(max(nc, 1), nil)
 	b := mat.NewVecDense(max(nc, 1), nil)
 	for j := 0; j < nc; j++ {
