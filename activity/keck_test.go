@@ -48,7 +48,19 @@ var keckPlanets = []struct {
 	{"HIP57050", []float64{41.4}},
 }
 
-// TestKeckPlanetsBlind: the published planets of thirteen Keck/HIRES
+// foundPlanetLike reports whether a signal within the frequency
+// resolution 1/T of period p is planet-like: a published planet found
+// blind and judged so.
+func foundPlanetLike(sigs []Signal, p, T float64) bool {
+	for _, sg := range sigs {
+		if math.Abs(1/float64(sg.Period)-1/p) < 1/T && sg.Verdict == PlanetLike {
+			return true
+		}
+	}
+	return false
+}
+
+// TestKeckPlanetsBlind: the published planets of fourteen Keck/HIRES
 // stars, from their files as published, blind and without star files
 // (one instrument label per zero-point era, as readVels gives): each must
 // be found, within the frequency resolution 1/T of its published period,
@@ -56,10 +68,11 @@ var keckPlanets = []struct {
 // seventeen were not: HD 156846 b (its harmonics were found instead) and
 // HD 99492 b (barred through the 1-day alias of P_rot/2 of a 1.78 d
 // rotation hypothesis, a weak S-index peak, though the data reject that
-// alias by Δχ² ≈ 100).
+// alias by Δχ² ≈ 100); HD 179079 b, added in the ninth pass, was not
+// before it (its 1-day alias, weighed without the activity modelled).
 func TestKeckPlanetsBlind(t *testing.T) {
 	if os.Getenv("SPOTSIFT_LONG") == "" {
-		t.Skip("thirteen real stars take a minute or two; set SPOTSIFT_LONG=1 to run them")
+		t.Skip("fourteen real stars take a minute or two; set SPOTSIFT_LONG=1 to run them")
 	}
 	dir := filepath.Join(rvtest.RealDataDir(t), "keck-hires")
 	for _, st := range keckPlanets {
@@ -75,13 +88,7 @@ func TestKeckPlanetsBlind(t *testing.T) {
 				got = append(got, fmt.Sprintf("%.5g d %s", float64(sg.Period), sg.Verdict))
 			}
 			for _, p := range st.periods {
-				ok := false
-				for _, sg := range dg.Signals {
-					if math.Abs(1/float64(sg.Period)-1/p) < 1/T && sg.Verdict == PlanetLike {
-						ok = true
-					}
-				}
-				if !ok {
+				if !foundPlanetLike(dg.Signals, p, T) {
 					t.Errorf("%s: the published planet at %g d is not found planet-like (signals: %s)", st.file, p, strings.Join(got, "; "))
 				}
 			}
