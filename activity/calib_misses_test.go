@@ -88,6 +88,16 @@ func TestCalibrationMisses(t *testing.T) {
 					}
 					series = s.Series()
 				}
+				// SPOTSIFT_CALIBRATION_MISSES_RVONLY=1 drops the indicator
+				// columns (an RV table alone, as many archives publish);
+				// =nostar drops the star file too.
+				if v := os.Getenv("SPOTSIFT_CALIBRATION_MISSES_RVONLY"); v != "" {
+					series = series.Clone()
+					series.Indicators = nil
+					if v == "nostar" {
+						star = nil
+					}
+				}
 				o := (&Options{}).withDefaults()
 				o.Periods, o.Star, o.Seed = it.cs.Periods, star, it.seed
 				dg, err := Diagnose(context.Background(), series, &o)

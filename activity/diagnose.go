@@ -344,8 +344,9 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		// A period longer than the baseline is not seen through one cycle:
 		// a companion on a wider orbit, a magnetic cycle or an
 		// instrument's drift would trace the same arc (a periodicity is
-		// claimed over one full cycle at least; common practice).
-		if sig.Caveat == "" && 1/sg.freq > d.T {
+		// claimed over one full cycle at least; common practice). It says
+		// more than the missing indicators' caveat, which it replaces.
+		if (sig.Caveat == "" || sig.Caveat == noCycleIndicatorCaveat) && 1/sg.freq > d.T {
 			sig.Caveat = fmt.Sprintf("its period, %.4g d, is longer than the %.4g d the data span: they do not cover one cycle, and a companion on a wider orbit, a magnetic cycle or an instrument's drift would trace the same arc", 1/sg.freq, d.T)
 		}
 		Score(&sig, &o)

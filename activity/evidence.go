@@ -305,17 +305,47 @@ func (tr *trial) rotationMatch() {
 	tr.add(e)
 }
 
+// cycleMinPeriod is the shortest period the magnetic-cycle tests
+// consider: a cycle is years long (the Sun's 11 yr; the shortest known
+// are about 1.5–3 yr, from memory), and 100 d leaves room for its
+// yearly aliases and for a cycle's second harmonic.
+const cycleMinPeriod = 100.0
+
+// cycleRVMax is the largest RV semi-amplitude a magnetic cycle is taken
+// to produce: the Sun's cycle moves its RVs by a few m/s, and the most
+// active FGK stars of the HARPS surveys by up to about 25 m/s peak to
+// peak (Lovis et al. 2011, from memory); 30 m/s leaves a wide margin.
+const cycleRVMax = 30.0
+
 // cycleMatch: a long period at the magnetic cycle seen in an activity
-// indicator is activity. Only periods longer than 100 d are tested (a
-// cycle is years long); the window is the cycle's error and the
-// resolution.
+// indicator is activity. Only periods longer than cycleMinPeriod are
+// tested; the window is the cycle's error and the resolution.
+//
+// Without any activity indicator nothing can show a cycle, and the GP
+// activity model has no long-term term to absorb one: a long-period
+// signal the size of a cycle's RVs then cannot be told from one, and it
+// gets a caveat (never planet-like) instead of a weight (docs/methods.md
+// §14.15).
 func (tr *trial) cycleMatch() {
-	c := tr.rot.Cycle
-	if c == nil {
+	p := 1 / tr.f
+	if p < cycleMinPeriod {
 		return
 	}
-	p := 1 / tr.f
-	if p < 100 {
+	if !tr.d.hasActivityIndicator() {
+		e := Evidence{Name: "cycle_match", Value: Num(math.NaN()), Threshold: 1, Points: TowardNeither}
+		if tr.amp <= cycleRVMax {
+			e.Reason = fmt.Sprintf("no activity indicator was given: at %.4g d, beyond %g d, only an indicator that follows the magnetic cycle (the S-index, the line width) could tell an orbit from a cycle, which moves the RVs by up to about %g m/s", p, cycleMinPeriod, cycleRVMax)
+			if tr.caveat == "" {
+				tr.caveat = noCycleIndicatorCaveat
+			}
+		} else {
+			e.Reason = fmt.Sprintf("no activity indicator was given, but the amplitude (%.3g m/s) is beyond what a magnetic cycle moves the RVs by (about %g m/s at most)", tr.amp, cycleRVMax)
+		}
+		tr.add(e)
+		return
+	}
+	c := tr.rot.Cycle
+	if c == nil {
 		return
 	}
 	tol := math.Hypot(1/tr.d.T, c.Err/(c.Period*c.Period))
@@ -384,6 +414,23 @@ func (tr *trial) cycleApart(indicator, why string) {
 	}
 }
 
+// noCycleIndicatorCaveat is the caveat of a long-period signal in data
+// without activity indicators (cycleMatch).
+const noCycleIndicatorCaveat = "no activity indicator was given, and at this long period only one could tell an orbit from a magnetic cycle"
+
+// hasActivityIndicator reports whether the series has an activity
+// indicator column (the chromatic slope aside) with values at MinEpochs
+// epochs or more.
+func (d *data) hasActivityIndicator() bool {
+	for i := range d.s.Indicators {
+		ind := &d.s.Indicators[i]
+		if ind.Name != chromaticColumn && ind.Count() >= MinEpochs {
+			return true
+		}
+	}
+	return false
+}
+
 // cycleCaveat is the caveat a cycle match seen in indicator sets, so that
 // cycleApart lifts that caveat and no other.
 func cycleCaveat(indicator string) string {
@@ -434,7 +481,7 @@ func (tr *trial) indicatorTests() {
 		// leaks to neighbouring long periods and would otherwise push a
 		// real long-period planet to activity.
 		freqs := []float64{tr.f}
-		if cycle != nil && 1/tr.f >= 100 && math.Abs(tr.f-1/cycle.Period) > 1.5/d.T {
+		if cycle != nil && 1/tr.f >= cycleMinPeriod && math.Abs(tr.f-1/cycle.Period) > 1.5/d.T {
 			freqs = append(freqs, 1/cycle.Period)
 		}
 		fit, err := fitSines(d.t, ind.Value, sigma, d.inst, d.ninst, freqs, d.t0)
@@ -556,7 +603,7 @@ func (tr *trial) indicatorTests() {
 	// cycle allowed for lags between the regions' growth and the indices),
 	// or that correlates with the signal with the opposite sign, moves
 	// with something else too (§14.13).
-	longTerm := 1/tr.f >= 100 && !(1/tr.f < 3*float64(tr.rot.Period))
+	longTerm := 1/tr.f >= cycleMinPeriod && !(1/tr.f < 3*float64(tr.rot.Period))
 	// powerAside and corrAside hold, per indicator, why its power or its
 	// correlation counts for neither side ("" where it counts).
 	powerAside := make([]string, len(hf))

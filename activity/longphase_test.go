@@ -136,3 +136,43 @@ func TestCycleMatchNeedsIndicatorAtPeriod(t *testing.T) {
 		}
 	}
 }
+
+// TestLongPeriodWithoutIndicators: a 300 d sinusoid of 6 m/s on a 25 d
+// rotator, RVs alone. A magnetic cycle could move the RVs so, and without
+// an indicator nothing can show one: the signal gets the caveat and is not
+// planet-like. With an S-index column (flat) the caveat goes; so it does
+// for an amplitude no cycle reaches (60 m/s).
+func TestLongPeriodWithoutIndicators(t *testing.T) {
+	for _, c := range []struct {
+		name    string
+		amp     float64
+		sIndex  bool
+		caveats bool
+	}{
+		{"RVs alone", 6, false, true},
+		{"with an S-index", 6, true, false},
+		{"RVs alone, 60 m/s", 60, false, false},
+	} {
+		inds := map[string]func(float64) float64{}
+		if c.sIndex {
+			inds["s_index"] = noise
+		}
+		s := synth(11, 1, sine(c.amp, 300, 0.3), inds, map[string]float64{"s_index": 0.005})
+		dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{300}, Star: star25, SkipModels: true, Seed: 11})
+		if err != nil {
+			t.Fatal(err)
+		}
+		sg := dg.Signals[0]
+		has := sg.Caveat == noCycleIndicatorCaveat
+		if has != c.caveats {
+			t.Errorf("%s: caveat %q, want the no-indicator caveat: %v\n%s", c.name, sg.Caveat, c.caveats, dump(sg))
+		}
+		if c.caveats && sg.Verdict == PlanetLike {
+			t.Errorf("%s: planet-like with the caveat", c.name)
+		}
+		e := evidence(&sg, "cycle_match")
+		if !c.sIndex && (e == nil || e.Points != TowardNeither || !strings.Contains(e.Reason, "no activity indicator")) {
+			t.Errorf("%s: cycle_match %+v, want the no-indicator note", c.name, e)
+		}
+	}
+}
