@@ -29,7 +29,8 @@ func TestCalibrationMisses(t *testing.T) {
 	// training seeds only, below 1001), to study fresh training stars;
 	// SPOTSIFT_CALIBRATION_GENERATOR=simulator (or ff) keeps one generator;
 	// SPOTSIFT_CALIBRATION_MISSES_GIVEN=1 judges the blind search's periods
-	// again as given periods.
+	// again as given periods; SPOTSIFT_CALIBRATION_RVONLY (rvOnly) drops
+	// the indicator columns.
 	first := 1
 	if v := os.Getenv("SPOTSIFT_CALIBRATION_MISSES_FIRST"); v != "" {
 		f, err := strconv.Atoi(v)
@@ -88,16 +89,7 @@ func TestCalibrationMisses(t *testing.T) {
 					}
 					series = s.Series()
 				}
-				// SPOTSIFT_CALIBRATION_MISSES_RVONLY=1 drops the indicator
-				// columns (an RV table alone, as many archives publish);
-				// =nostar drops the star file too.
-				if v := os.Getenv("SPOTSIFT_CALIBRATION_MISSES_RVONLY"); v != "" {
-					series = series.Clone()
-					series.Indicators = nil
-					if v == "nostar" {
-						star = nil
-					}
-				}
+				series, star = rvOnly(series, star)
 				o := (&Options{}).withDefaults()
 				o.Periods, o.Star, o.Seed = it.cs.Periods, star, it.seed
 				dg, err := Diagnose(context.Background(), series, &o)
