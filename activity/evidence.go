@@ -321,7 +321,8 @@ const cycleRVMax = 30.0
 // indicator is activity. Only periods longer than cycleMinPeriod are
 // tested; the window is the cycle's error and the resolution.
 //
-// Without any activity indicator nothing can show a cycle, and the GP
+// Without an indicator that follows the cycle nothing can show one (the
+// bisector's long-term response has no fixed sign), and the GP
 // activity model has no long-term term to absorb one: a long-period
 // signal the size of a cycle's RVs then cannot be told from one, and it
 // gets a caveat (never planet-like) instead of a weight (docs/methods.md
@@ -331,15 +332,15 @@ func (tr *trial) cycleMatch() {
 	if p < cycleMinPeriod {
 		return
 	}
-	if !tr.d.hasActivityIndicator() {
+	if !tr.d.hasCycleIndicator() {
 		e := Evidence{Name: "cycle_match", Value: Num(math.NaN()), Threshold: 1, Points: TowardNeither}
 		if tr.amp <= cycleRVMax {
-			e.Reason = fmt.Sprintf("no activity indicator was given: at %.4g d, beyond %g d, only an indicator that follows the magnetic cycle (the S-index, the line width) could tell an orbit from a cycle, which moves the RVs by up to about %g m/s", p, cycleMinPeriod, cycleRVMax)
+			e.Reason = fmt.Sprintf("no activity indicator that follows the magnetic cycle (S-index, log R'HK, Hα, FWHM, ...) was given: at %.4g d, beyond %g d, only one could tell an orbit from a cycle, which moves the RVs by up to about %g m/s", p, cycleMinPeriod, cycleRVMax)
 			if tr.caveat == "" {
 				tr.caveat = noCycleIndicatorCaveat
 			}
 		} else {
-			e.Reason = fmt.Sprintf("no activity indicator was given, but the amplitude (%.3g m/s) is beyond what a magnetic cycle moves the RVs by (about %g m/s at most)", tr.amp, cycleRVMax)
+			e.Reason = fmt.Sprintf("no activity indicator that follows the magnetic cycle was given, but the amplitude (%.3g m/s) is beyond what a cycle moves the RVs by (about %g m/s at most)", tr.amp, cycleRVMax)
 		}
 		tr.add(e)
 		return
@@ -415,16 +416,22 @@ func (tr *trial) cycleApart(indicator, why string) {
 }
 
 // noCycleIndicatorCaveat is the caveat of a long-period signal in data
-// without activity indicators (cycleMatch).
-const noCycleIndicatorCaveat = "no activity indicator was given, and at this long period only one could tell an orbit from a magnetic cycle"
+// without an indicator that follows the magnetic cycle (cycleMatch).
+const noCycleIndicatorCaveat = "no activity indicator that follows the magnetic cycle was given, and at this long period only one could tell an orbit from a cycle"
 
-// hasActivityIndicator reports whether the series has an activity
-// indicator column (the chromatic slope aside) with values at MinEpochs
-// epochs or more.
-func (d *data) hasActivityIndicator() bool {
+// hasCycleIndicator reports whether the series has an indicator column
+// that can follow a magnetic cycle, with values at MinEpochs epochs or
+// more: any but the line-asymmetry measures (bisector span, V_span, ΔV),
+// whose long-term response to activity has no fixed sign and is often
+// nil, and the chromatic slope.
+func (d *data) hasCycleIndicator() bool {
 	for i := range d.s.Indicators {
 		ind := &d.s.Indicators[i]
-		if ind.Name != chromaticColumn && ind.Count() >= MinEpochs {
+		switch ind.Name {
+		case chromaticColumn, "bis", "vspan", "delta_v":
+			continue
+		}
+		if ind.Count() >= MinEpochs {
 			return true
 		}
 	}

@@ -139,25 +139,27 @@ func TestCycleMatchNeedsIndicatorAtPeriod(t *testing.T) {
 
 // TestLongPeriodWithoutIndicators: a 300 d sinusoid of 6 m/s on a 25 d
 // rotator, RVs alone. A magnetic cycle could move the RVs so, and without
-// an indicator nothing can show one: the signal gets the caveat and is not
-// planet-like. With an S-index column (flat) the caveat goes; so it does
-// for an amplitude no cycle reaches (60 m/s).
+// an indicator that follows the cycle nothing can show one: the signal
+// gets the caveat and is not planet-like, with a bisector column too. With
+// an S-index column (flat) the caveat goes; so it does for an amplitude no
+// cycle reaches (60 m/s).
 func TestLongPeriodWithoutIndicators(t *testing.T) {
 	for _, c := range []struct {
 		name    string
 		amp     float64
-		sIndex  bool
+		column  string
 		caveats bool
 	}{
-		{"RVs alone", 6, false, true},
-		{"with an S-index", 6, true, false},
-		{"RVs alone, 60 m/s", 60, false, false},
+		{"RVs alone", 6, "", true},
+		{"with a bisector only", 6, "bis", true},
+		{"with an S-index", 6, "s_index", false},
+		{"RVs alone, 60 m/s", 60, "", false},
 	} {
 		inds := map[string]func(float64) float64{}
-		if c.sIndex {
-			inds["s_index"] = noise
+		if c.column != "" {
+			inds[c.column] = noise
 		}
-		s := synth(11, 1, sine(c.amp, 300, 0.3), inds, map[string]float64{"s_index": 0.005})
+		s := synth(11, 1, sine(c.amp, 300, 0.3), inds, map[string]float64{"s_index": 0.005, "bis": 1})
 		dg, err := Diagnose(context.Background(), s, &Options{Periods: []float64{300}, Star: star25, SkipModels: true, Seed: 11})
 		if err != nil {
 			t.Fatal(err)
@@ -171,7 +173,7 @@ func TestLongPeriodWithoutIndicators(t *testing.T) {
 			t.Errorf("%s: planet-like with the caveat", c.name)
 		}
 		e := evidence(&sg, "cycle_match")
-		if !c.sIndex && (e == nil || e.Points != TowardNeither || !strings.Contains(e.Reason, "no activity indicator")) {
+		if c.column != "s_index" && (e == nil || e.Points != TowardNeither || !strings.Contains(e.Reason, "no activity indicator")) {
 			t.Errorf("%s: cycle_match %+v, want the no-indicator note", c.name, e)
 		}
 	}
