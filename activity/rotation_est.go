@@ -842,7 +842,7 @@ func (tr *trial) modelComparison() {
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("a Keplerian improves on the GP activity model (ΔBIC = %.1f, its amplitude %.1fσ from zero), but the indicators vary at the same period, so the sinusoid may model activity the GP misses", dBIC, snr)
 	case held.ok && (settled || atBound):
-		tr.heldAwayEvidence(&e, atP, r1, held, extra, indicatorsVary, atBound)
+		tr.heldAwayEvidence(&e, atP, r1, held, extra, indicatorsVary, atBound, settled)
 	case dBIC <= -10 && snr >= 3 && atRotation:
 		// At a rotation harmonic a sinusoid also models the coherent part of
 		// the activity: the two models are degenerate there.
@@ -907,10 +907,14 @@ const heldAwayLn = 0.25
 //     indicator varying at the period): the signal is more coherent than
 //     the GP lets activity be (quality ≤ 30: coherent over about ten
 //     cycles), and needs no activity at its period: planet, with the
-//     partial weight of the other branches between −2 and −10;
+//     partial weight of the other branches between −2 and −10 when the
+//     free GP found no period (atBound); when it settled on the signal
+//     (settled), the data's own red noise names this period as the
+//     star's, and only very strong evidence counts (docs/methods.md
+//     §14.10);
 //   - otherwise the GP alone explains it as well: activity when the held
 //     model is worse (ΔBIC ≥ 0), else neither.
-func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra float64, indicatorsVary, atBound bool) {
+func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra float64, indicatorsVary, atBound, settled bool) {
 	n := float64(len(tr.d.t))
 	dBIC := -2*(held.lnL-r0.lnL) + extra*math.Log(n)
 	e.Value = Num(dBIC)
@@ -932,6 +936,9 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 	case dBIC <= -10 && snr >= 3 && !indicatorsVary:
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet
 		e.Reason = fmt.Sprintf("%s fits better than the GP alone: ΔBIC = %.1f, its amplitude %sσ from zero; the signal is more coherent than the GP lets activity be", what, dBIC, sn)
+	case dBIC < -2 && snr >= 3 && !indicatorsVary && settled:
+		e.Points = TowardNeither
+		e.Reason = fmt.Sprintf("%s fits better than the GP alone: ΔBIC = %.1f, its amplitude %sσ from zero; but a free GP chose this period, and against that only very strong evidence (ΔBIC ≤ −10) counts", what, dBIC, sn)
 	case dBIC < -2 && snr >= 3 && !indicatorsVary:
 		frac := -dBIC / 10
 		e.Points, e.Weight = TowardPlanet, -tr.d.w.ModelComparison.Planet*frac
