@@ -3,6 +3,8 @@ package activity
 import (
 	"math"
 	"testing"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // TestOnSignal checks the windows in which a rotation kernel's period has
@@ -69,5 +71,45 @@ func TestHeldAwayComparison(t *testing.T) {
 			t.Errorf("%s: ΔBIC (Keplerian with the GP held away against the GP held on the period) = %.1f, want planet side %v", c.name, dBIC, c.wantPlanet)
 		}
 		t.Logf("%s: ΔBIC = %.1f (GP on %.3g d, away at %.3g d)", c.name, dBIC, atP.period, held.period)
+	}
+}
+
+// TestHeldAwayPartialEvidence checks how heldAwayEvidence reads a held-away
+// Keplerian that beats the GP held on the signal by ΔBIC = −6, between
+// "positive" and "very strong" (docs/methods.md §14.10): when the free GP
+// found no period it counts for the planet in proportion (60 %); when the
+// free GP settled on the signal it counts for neither side; at ΔBIC = −14
+// it counts fully either way.
+func TestHeldAwayPartialEvidence(t *testing.T) {
+	w := DefaultWeights()
+	const n = 100
+	tr := &trial{d: &data{t: make([]float64, n), w: &w}, f: 1 / 10.0}
+	extra := 2.0
+	penalty := extra * math.Log(n)
+	for _, c := range []struct {
+		dBIC             float64
+		settled, atBound bool
+		points           string
+		frac             float64
+	}{
+		{-6, false, true, TowardPlanet, 0.6},
+		{-6, true, false, TowardNeither, 0},
+		{-14, true, false, TowardPlanet, 1},
+		{-14, false, true, TowardPlanet, 1},
+	} {
+		// ΔBIC = −2 (ln L_held − ln L_GP) + k ln N.
+		r0 := gpResult{lnL: 0, period: 10, ok: true}
+		// The sinusoid's amplitude 4 ± 0.5 m/s: 8σ from zero.
+		cov := mat.NewSymDense(3, []float64{1, 0, 0, 0, 0.25, 0, 0, 0, 0.25})
+		held := gpResult{lnL: (penalty - c.dBIC) / 2, period: 30, beta: []float64{0, 4, 0}, covBeta: cov, ok: true}
+		r1 := gpResult{lnL: held.lnL, period: 30, ok: true}
+		var e Evidence
+		tr.heldAwayEvidence(&e, r0, r1, held, extra, false, c.atBound, c.settled)
+		if math.Abs(float64(e.Value)-c.dBIC) > 1e-9 {
+			t.Errorf("ΔBIC %g: value %v", c.dBIC, e.Value)
+		}
+		if e.Points != c.points || math.Abs(e.Weight+c.frac*w.ModelComparison.Planet) > 1e-9 {
+			t.Errorf("ΔBIC %g, settled %v: %s %+.3f, want %s %+.3f (%s)", c.dBIC, c.settled, e.Points, e.Weight, c.points, -c.frac*w.ModelComparison.Planet, e.Reason)
+		}
 	}
 }
