@@ -334,7 +334,8 @@ func (tr *trial) cycleMatch() {
 	}
 	if !tr.d.hasCycleIndicator() {
 		e := Evidence{Name: "cycle_match", Value: Num(math.NaN()), Threshold: 1, Points: TowardNeither}
-		if tr.amp <= cycleRVMax {
+		// An amplitude that could not be computed could be a cycle's.
+		if !(tr.amp > cycleRVMax) {
 			e.Reason = fmt.Sprintf("no activity indicator that follows the magnetic cycle (S-index, log R'HK, Hα, FWHM, ...) was given: at %.4g d, beyond %g d, only one could tell an orbit from a cycle, which moves the RVs by up to about %g m/s", p, cycleMinPeriod, cycleRVMax)
 			if tr.caveat == "" {
 				tr.caveat = noCycleIndicatorCaveat
