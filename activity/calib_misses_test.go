@@ -64,6 +64,10 @@ func TestCalibrationMisses(t *testing.T) {
 		}
 	}
 	out := make([]string, len(items))
+	// Every signal with a planetary or non-planetary truth, for the
+	// calibration of P(planet) fitted on these seeds (printed at the end).
+	var mu sync.Mutex
+	var pts []ProbPoint
 	var wg sync.WaitGroup
 	next := make(chan int)
 	for w := 0; w < 2; w++ {
@@ -112,6 +116,11 @@ func TestCalibrationMisses(t *testing.T) {
 				var b strings.Builder
 				for _, sg := range dg.Signals {
 					tr := truth(float64(sg.Period))
+					if p, ok := probPoint(tr, &sg, o.FAPThreshold); ok {
+						mu.Lock()
+						pts = append(pts, p)
+						mu.Unlock()
+					}
 					miss := tr == "planet" && sg.Verdict != PlanetLike || NonPlanetary(tr) && sg.Verdict == PlanetLike || tr == "planet at rotation" && sg.Verdict == PlanetLike
 					tag := "ok  "
 					if miss {
@@ -136,4 +145,5 @@ func TestCalibrationMisses(t *testing.T) {
 	}
 	close(next)
 	wg.Wait()
+	t.Logf("%d signals; calibration of P(planet) fitted on them, beside the one in use:\n%s", len(pts), calibrationTable(FitCalibration(pts)))
 }

@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"runtime"
+	"slices"
 	"sort"
 	"strings"
 
@@ -51,6 +52,8 @@ type ProbPoint struct {
 	Truth       string
 	Blocked     bool
 	Significant bool
+	// Kind is the kind of the caveat (Signal.CaveatKind) when Blocked.
+	Kind string
 }
 
 // RatesAt returns, for a verdict threshold thr, the share of
@@ -163,12 +166,74 @@ func (c *Confusion) Curve(nbins int) []CalibrationBin {
 	return out
 }
 
+// calibrationMinPoints is the fewest signals of a kind, with both truths
+// among them, that FitCalibration fits a logistic to; fewer keep a
+// constant.
+const calibrationMinPoints = 20
+
+// FitCalibration fits a Logistic per calibrated kind of caveat
+// (calibratedKinds; "" for the points without a caveat) by FitLogistic;
+// points of other kinds are left out (see Calibration). A kind with fewer than
+// calibrationMinPoints points, or with points of one truth only, gets a
+// constant: its planetary share with one planetary and one non-planetary
+// pseudo-point added (Laplace's rule of succession), so that a handful of
+// signals never claims certainty.
+func FitCalibration(pts []ProbPoint) Calibration {
+	by := map[string][]ProbPoint{}
+	for _, p := range pts {
+		k := ""
+		if p.Blocked {
+			if p.Kind == "" || !slices.Contains(calibratedKinds, p.Kind) {
+				continue
+			}
+			k = p.Kind
+		}
+		by[k] = append(by[k], p)
+	}
+	c := Calibration{}
+	for k, ps := range by {
+		n, planets := 0, 0
+		for _, p := range ps {
+			n++
+			if p.Planet {
+				planets++
+			}
+		}
+		if n >= calibrationMinPoints && planets > 0 && planets < n {
+			c[k] = FitLogistic(ps)
+			continue
+		}
+		c[k] = Logistic{A: math.Log(float64(n-planets+1) / float64(planets+1))}
+	}
+	return c
+}
+
 // FitLogistic fits the Logistic mapping from score to P(planet) to the
 // points by maximum likelihood (Newton's method on the two parameters;
-// Platt 1999).
+// Platt 1999), with weak Gaussian priors on A (σ = 10) and B (σ = 30, a
+// rise from 0.05 to 0.95 over 0.2 in score): they leave a fit to
+// hundreds of signals unchanged and keep it finite when the points are
+// separated by their score (the likelihood alone then grows without
+// bound as B does).
 func FitLogistic(pts []ProbPoint) Logistic {
+	const sigA, sigB = 10.0, 30.0
+	// lnPost is the log posterior: ln L = Σ y ln P + (1−y) ln(1−P) and
+	// the priors.
+	lnPost := func(a, b float64) float64 {
+		l := -a*a/(2*sigA*sigA) - b*b/(2*sigB*sigB)
+		for _, p := range pts {
+			z := a + b*p.Score // P(planet) = 1/(1+e^z)
+			if p.Planet {
+				l -= softplus(z)
+			} else {
+				l -= softplus(-z)
+			}
+		}
+		return l
+	}
 	a, b := 0.0, 5.0
-	for it := 0; it < 50; it++ {
+	cur := lnPost(a, b)
+	for it := 0; it < 100; it++ {
 		var ga, gb, haa, hab, hbb float64
 		for _, p := range pts {
 			q := 1 / (1 + math.Exp(a+b*p.Score)) // P(planet)
@@ -176,8 +241,8 @@ func FitLogistic(pts []ProbPoint) Logistic {
 			if p.Planet {
 				y = 1
 			}
-			// ln L = Σ y ln P + (1−y) ln(1−P); with dP/da = −P(1−P),
-			// ∂lnL/∂a = Σ (P − y) and ∂lnL/∂b = Σ (P − y) s.
+			// With dP/da = −P(1−P): ∂lnL/∂a = Σ (P − y) and ∂lnL/∂b =
+			// Σ (P − y) s.
 			r := q - y
 			ga += r
 			gb += r * p.Score
@@ -186,20 +251,42 @@ func FitLogistic(pts []ProbPoint) Logistic {
 			hab += w * p.Score
 			hbb += w * p.Score * p.Score
 		}
-		haa += 1e-6
-		hbb += 1e-6
+		ga -= a / (sigA * sigA)
+		gb -= b / (sigB * sigB)
+		haa += 1 / (sigA * sigA)
+		hbb += 1 / (sigB * sigB)
 		det := haa*hbb - hab*hab
 		if !(det > 0) {
 			break
 		}
 		da := (hbb*ga - hab*gb) / det
 		db := (haa*gb - hab*ga) / det
-		a, b = a+da, b+db
-		if math.Abs(da)+math.Abs(db) < 1e-9 {
+		// Newton's step, halved until the posterior does not fall (a full
+		// step from far away can overshoot).
+		step := 1.0
+		for ; step > 1e-6; step /= 2 {
+			if next := lnPost(a+step*da, b+step*db); next >= cur {
+				cur = next
+				break
+			}
+		}
+		if step <= 1e-6 {
+			break
+		}
+		a, b = a+step*da, b+step*db
+		if math.Abs(step*da)+math.Abs(step*db) < 1e-9 {
 			break
 		}
 	}
 	return Logistic{A: a, B: b}
+}
+
+// softplus returns ln(1 + e^x) without overflow.
+func softplus(x float64) float64 {
+	if x > 30 {
+		return x
+	}
+	return math.Log1p(math.Exp(x))
 }
 
 func (c *Confusion) add(cs, truth, verdict string) {
@@ -285,8 +372,8 @@ func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, 
 	}
 	type result struct {
 		truths, verdicts []string
-		probs, scores    []float64
-		blocked, signif  []bool
+		points           []ProbPoint
+		inCurve          []bool
 		missed           int
 		err              error
 	}
@@ -345,10 +432,8 @@ func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, 
 					}
 					r.truths = append(r.truths, tr)
 					r.verdicts = append(r.verdicts, sg.Verdict)
-					r.probs = append(r.probs, float64(sg.Probability))
-					r.scores = append(r.scores, sg.Score)
-					r.blocked = append(r.blocked, sg.Caveat != "")
-					r.signif = append(r.signif, float64(sg.FAP) <= o.FAPThreshold)
+					p, ok := probPoint(tr, &sg, o.FAPThreshold)
+					r.points, r.inCurve = append(r.points, p), append(r.inCurve, ok)
 					found[tr] = true
 				}
 				for _, p := range planets {
@@ -371,14 +456,23 @@ func CalibrateSeeds(ctx context.Context, cases []CalibrationCase, first uint64, 
 		cs := cases[items[k].c].Name
 		for i := range r.truths {
 			conf.add(cs, r.truths[i], r.verdicts[i])
-			if strings.HasPrefix(r.truths[i], "planet") && r.truths[i] != "planet at rotation" || NonPlanetary(r.truths[i]) {
-				conf.Points = append(conf.Points, ProbPoint{Prob: r.probs[i], Score: r.scores[i], Planet: strings.HasPrefix(r.truths[i], "planet"),
-					Truth: r.truths[i], Blocked: r.blocked[i], Significant: r.signif[i]})
+			if r.inCurve[i] {
+				conf.Points = append(conf.Points, r.points[i])
 			}
 		}
 		conf.Missed[cs] += r.missed
 	}
 	return conf, nil
+}
+
+// probPoint returns the calibration point of a signal sg judged with
+// truth tr; ok is false for the truths the calibration curve leaves out
+// (a planet at P_rot or P_rot/2, whose right answer is not "planet", and
+// labels other than planets' and NonPlanetary's).
+func probPoint(tr string, sg *Signal, fapThreshold float64) (p ProbPoint, ok bool) {
+	p = ProbPoint{Prob: float64(sg.Probability), Score: sg.Score, Planet: strings.HasPrefix(tr, "planet"), Truth: tr,
+		Blocked: sg.Caveat != "", Significant: float64(sg.FAP) <= fapThreshold, Kind: sg.CaveatKind}
+	return p, p.Planet && tr != "planet at rotation" || NonPlanetary(tr)
 }
 
 // near reports whether period p lies within frac (relative) of any of ps.

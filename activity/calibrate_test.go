@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"os"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -98,8 +99,7 @@ func TestCalibration(t *testing.T) {
 		for _, c := range train {
 			pts = append(pts, c.Points...)
 		}
-		l := FitLogistic(pts)
-		t.Logf("training seeds: logistic fitted A = %.3f, B = %.3f (in use: A = %.3f, B = %.3f)", l.A, l.B, defaultLogisticA, defaultLogisticB)
+		t.Logf("training seeds: calibration of P(planet) fitted, beside the one in use:\n%s", calibrationTable(FitCalibration(pts)))
 		for _, thr := range []float64{0.1, 0.125, 0.15, 0.175, 0.2} {
 			fp, det := RatesAt(pts, thr)
 			t.Logf("training seeds, threshold %.3f: non-planetary planet-like %.1f%%, detectable planets planet-like %.1f%%", thr, 100*fp, 100*det)
@@ -164,6 +164,22 @@ func TestCalibration(t *testing.T) {
 	t.Logf("calibration curve, held-out seeds of both generators:\n%s", b.String())
 }
 
+// calibrationTable prints a fitted Calibration beside the one in use, one
+// kind of caveat per line.
+func calibrationTable(c Calibration) string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%-14s %8s %8s %8s %8s\n", "caveat kind", "A", "B", "A in use", "B in use")
+	for _, k := range sortedKeysOf(c) {
+		name := k
+		if name == "" {
+			name = "(none)"
+		}
+		l, d := c[k], defaultCalibration[k]
+		fmt.Fprintf(&b, "%-14s %8.3f %8.3f %8.3f %8.3f\n", name, l.A, l.B, d.A, d.B)
+	}
+	return b.String()
+}
+
 // A small sample of both generators always runs: the harness works, the
 // generators are deterministic, and none of these planets placed exactly
 // at P_rot or P_rot/2 comes out planet-like.
@@ -192,6 +208,20 @@ func TestCalibrationSmoke(t *testing.T) {
 	}
 	if k := c.PerCase["FF' planet at P_rot or P_rot/2"]["planet at rotation"][PlanetLike]; k > 0 {
 		t.Errorf("%d planets at P_rot or P_rot/2 came out planet-like", k)
+	}
+	// Every caveat names its kind, whose mapping gives its probability.
+	blocked := 0
+	for _, p := range c.Points {
+		if !p.Blocked {
+			continue
+		}
+		blocked++
+		if !slices.Contains([]string{CaveatRelative, CaveatAlias, CaveatRotation, CaveatCycle, CaveatBaseline, CaveatSignificance}, p.Kind) {
+			t.Errorf("a %s signal has a caveat of kind %q, not one of the Caveat… kinds", p.Truth, p.Kind)
+		}
+	}
+	if blocked == 0 {
+		t.Error("no signal of the sample has a caveat: the check of their kinds checked nothing")
 	}
 }
 

@@ -73,9 +73,9 @@ type Options struct {
 	// IndicatorAlpha is the Holm-corrected level at which an indicator
 	// varies with the signal; zero means DefaultIndicatorAlpha.
 	IndicatorAlpha float64
-	// Probability maps the score to P(planetary); the zero value means the
-	// calibrated mapping.
-	Probability Logistic
+	// Probability maps the score and the kind of caveat to P(planetary);
+	// nil means the calibrated mapping.
+	Probability Calibration
 }
 
 // weights returns the weights in force.
@@ -282,7 +282,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		}
 		if r := rels[k]; r != nil {
 			sig.RelatedTo = r.label
-			sig.Caveat = "it is " + r.label
+			sig.Caveat, sig.CaveatKind = "it is "+r.label, CaveatRelative
 		}
 		// An eccentric orbit's phase is that of its first Fourier term,
 		// the sinusoid the tests at the period fit.
@@ -310,6 +310,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		if r := rivals[k]; r != nil {
 			if sig.Caveat == "" || sig.Caveat == tr.caveat {
 				sig.Caveat = fmt.Sprintf("its period is ambiguous: the %s at %.4g d fits the data about as well", r.label, 1/r.freq)
+				sig.CaveatKind = CaveatAlias
 			}
 			how := "is about as probable as"
 			if r.odds() < 0 {
@@ -338,6 +339,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 				}
 			}
 			if !survives {
+				sig.CaveatKind = CaveatSignificance
 				sig.Caveat = fmt.Sprintf("the signal is not significant once the residuals' correlated noise is allowed for (false-alarm probability %.2g with errors scaled by β = %.2f) and neither the GP activity model nor the stacked periodogram (with the residuals' own noise) confirms it", float64(sig.FAPCorrelated), jointBeta[k])
 			}
 		}
@@ -347,6 +349,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		// claimed over one full cycle at least; common practice). It says
 		// more than the missing indicators' caveat, which it replaces.
 		if (sig.Caveat == "" || sig.Caveat == noCycleIndicatorCaveat) && 1/sg.freq > d.T {
+			sig.CaveatKind = CaveatBaseline
 			sig.Caveat = fmt.Sprintf("its period, %.4g d, is longer than the %.4g d the data span: they do not cover one cycle, and a companion on a wider orbit, a magnetic cycle or an instrument's drift would trace the same arc", 1/sg.freq, d.T)
 		}
 		Score(&sig, &o)
@@ -599,10 +602,11 @@ type trial struct {
 	// of a rotation hypothesis; gpDegenerate is the share of the rotation
 	// hypotheses at one of whose harmonics up to P_rot/4 it sits, where a
 	// sinusoid fits activity as well as an orbit; caveat is why the
-	// signal cannot be planet-like.
+	// signal cannot be planet-like, caveatKind its kind (Signal.CaveatKind).
 	strongRotation bool
 	gpDegenerate   float64
 	caveat         string
+	caveatKind     string
 	// det collects what the report draws.
 	det  signalDetails
 	ev   []Evidence
@@ -637,6 +641,6 @@ func (tr *trial) run(sig *Signal) {
 	sig.Evidence = tr.ev
 	sig.Skipped = tr.skip
 	if tr.caveat != "" && sig.Caveat == "" {
-		sig.Caveat = tr.caveat
+		sig.Caveat, sig.CaveatKind = tr.caveat, tr.caveatKind
 	}
 }

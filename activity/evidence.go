@@ -212,6 +212,7 @@ func (tr *trial) rotationMatch() {
 			// or of its half, may be the rotation.
 			for _, n := range []float64{1, 2} {
 				if math.Abs(math.Log(n/(prot*tr.f))) <= 2*perr/prot {
+					tr.caveatKind = CaveatRotation
 					tr.caveat = fmt.Sprintf("the rotation period is not measured, and the signal lies within twice the scatter of the activity-rotation relations' prediction (%.3g d ± %.0f%%) or its half", prot, 100*perr/prot)
 				}
 			}
@@ -278,6 +279,7 @@ func (tr *trial) rotationMatch() {
 				if bars {
 					tr.strongRotation = true
 					tr.caveat = fmt.Sprintf("the period sits at %s of the rotation hypothesis %.4g d", match.label, prot)
+					tr.caveatKind = CaveatRotation
 				}
 			}
 			if match.gpReach() && hy.Share >= 0.1 && ww >= 0.5 {
@@ -338,7 +340,7 @@ func (tr *trial) cycleMatch() {
 		if !(tr.amp > cycleRVMax) {
 			e.Reason = fmt.Sprintf("no activity indicator that follows the magnetic cycle (S-index, log R'HK, Hα, FWHM, ...) was given: at %.4g d, beyond %g d, only one could tell an orbit from a cycle, which moves the RVs by up to about %g m/s", p, cycleMinPeriod, cycleRVMax)
 			if tr.caveat == "" {
-				tr.caveat = noCycleIndicatorCaveat
+				tr.caveat, tr.caveatKind = noCycleIndicatorCaveat, CaveatCycle
 			}
 		} else {
 			e.Reason = fmt.Sprintf("no activity indicator that follows the magnetic cycle was given, but the amplitude (%.3g m/s) is beyond what a cycle moves the RVs by (about %g m/s at most)", tr.amp, cycleRVMax)
@@ -359,7 +361,7 @@ func (tr *trial) cycleMatch() {
 		e.Points, e.Weight = TowardActivity, tr.d.w.CycleMatch*ww
 		e.Reason = fmt.Sprintf("the period %.4g d matches the magnetic cycle seen in %s (%.4g ± %.2g d, false-alarm probability %.2g), a window covering %.1f%% of the periods searched (weight ×%.2f)", p, c.Indicator, c.Period, c.Err, c.FAP, 100*q, ww)
 		if ww >= 0.5 && tr.caveat == "" {
-			tr.caveat = cycleCaveat(c.Indicator)
+			tr.caveat, tr.caveatKind = cycleCaveat(c.Indicator), CaveatCycle
 		}
 	} else {
 		e.Points = TowardNeither
@@ -411,7 +413,7 @@ func (tr *trial) cycleApart(indicator, why string) {
 		e.Points, e.Weight = TowardNeither, 0
 		e.Reason += fmt.Sprintf(", but %s %s: the period shares the cycle's by chance", indicator, why)
 		if tr.caveat == cycleCaveat(indicator) {
-			tr.caveat = ""
+			tr.caveat, tr.caveatKind = "", ""
 		}
 	}
 }

@@ -183,13 +183,7 @@ func Score(sig *Signal, opts *Options) {
 	total := w.totalWeight()
 	sig.Score = sum / total
 	sig.Coverage = cov / total
-	// A signal with a caveat cannot be planet-like: its planet-side
-	// evidence is set aside in its probability too.
-	if sig.Caveat != "" {
-		sig.Probability = Num(o.Probability.of(math.Max(sig.Score, 0)))
-	} else {
-		sig.Probability = Num(o.Probability.of(sig.Score))
-	}
+	sig.Probability = Num(o.Probability.of(sig.Caveat != "", sig.CaveatKind, sig.Score))
 	thr := o.VerdictThreshold
 	blocked := sig.Caveat != ""
 	switch {
@@ -259,22 +253,73 @@ func (w *Weights) familyWeight(fam string) float64 {
 //	P(planet) = 1 / (1 + exp(A + B·score))
 //
 // fitted by maximum likelihood to the verdicts of simulated stars whose
-// truth is known (Platt scaling; Platt 1999). The zero value means the
-// calibrated defaults.
+// truth is known (Platt scaling; Platt 1999).
 type Logistic struct {
 	A, B float64
 }
 
-// The calibrated mapping: fitted by FitLogistic to the signals of the
-// training seeds (TestCalibration prints the fit beside these values).
-const defaultLogisticA, defaultLogisticB = 0.21, 7.9
-
 // of returns the probability of score s.
 func (l Logistic) of(s float64) float64 {
-	if l == (Logistic{}) {
-		l = Logistic{A: defaultLogisticA, B: defaultLogisticB}
-	}
 	return 1 / (1 + math.Exp(l.A+l.B*s))
+}
+
+// Calibration maps a signal's score to the probability that it is
+// planetary with one Logistic per kind of caveat (the key; "" for signals
+// without one). A caveat is information the score does not carry: on
+// the training seeds, signals that are an alias or harmonic of a
+// stronger signal were planets at their own period far less often than
+// signals at the same score whose only doubt is their own alias, and
+// these far less often than signals with no caveat (docs/methods.md
+// §14.16). A nil Calibration, or a kind missing from it, means the
+// default of that kind.
+//
+// Only the kinds of calibratedKinds are calibrated. The others — a period
+// at a rotation harmonic, at the magnetic cycle or beyond the data span,
+// or a signal that is not significant with correlated noise — are
+// caveats where the data cannot tell the two explanations apart, so the
+// share of planets among such signals is set by how often planets and
+// activity land there, which a simulated case mix (one case in three
+// puts a planet at P_rot) cannot tell: they keep the uncaveated mapping
+// with the planet-side evidence set aside (score at least 0), at most
+// even odds.
+type Calibration map[string]Logistic
+
+// calibratedKinds are the caveat kinds with a logistic of their own (""
+// for signals without a caveat): those where the caveat is a doubt about
+// the period or about which signal is the real one.
+var calibratedKinds = []string{"", CaveatRelative, CaveatAlias}
+
+// defaultCalibration is the mapping in use, fitted by FitCalibration to
+// the signals of training seeds: the FF' generator's seeds 21–212 with
+// their indicators and 21–116 from their RVs alone, and the simulator's
+// seeds 1–15 (TestCalibrationMisses prints the fit of the seeds it runs;
+// the README gives the figures).
+var defaultCalibration = Calibration{
+	"":             {A: -0.196, B: 12.35},
+	CaveatRelative: {A: 2.78, B: 4.73},
+	CaveatAlias:    {A: 2.01, B: 5.52},
+}
+
+// of returns the probability of a signal with score s and, when caveat,
+// a caveat of the given kind. A caveat of a kind with no mapping keeps
+// the mapping of signals without one with the signal's planet-side
+// evidence set aside (score at least 0).
+func (c Calibration) of(caveat bool, kind string, s float64) float64 {
+	if !caveat {
+		kind = ""
+	}
+	l, ok := c[kind]
+	if !ok {
+		l, ok = defaultCalibration[kind]
+	}
+	if !ok || caveat && kind == "" {
+		open, ok := c[""]
+		if !ok {
+			open = defaultCalibration[""]
+		}
+		return open.of(math.Max(s, 0))
+	}
+	return l.of(s)
 }
 
 // chi2Survival returns P(χ²_dof ≥ x).

@@ -26,6 +26,19 @@ const (
 	TowardNeither  = "neither"
 )
 
+// Kinds of caveat (Signal.CaveatKind): what keeps a signal from being
+// planet-like whatever its score. Each kind has its own calibrated
+// probability (Calibration): an alias of a stronger signal is seldom a
+// planet at its own period, a signal at a rotation harmonic more often.
+const (
+	CaveatRelative     = "relative"     // an alias or harmonic of a stronger signal's period
+	CaveatAlias        = "period_alias" // its own 1-day or 1-year alias fits about as well
+	CaveatRotation     = "rotation"     // at a harmonic of a rotation hypothesis, or where the activity–rotation relations put the rotation
+	CaveatCycle        = "cycle"        // at the magnetic cycle, or long with no indicator that follows a cycle
+	CaveatBaseline     = "baseline"     // longer than the data span
+	CaveatSignificance = "significance" // not significant once correlated noise is allowed for
+)
+
 // Caution is the sentence every verdict output carries.
 const Caution = "This verdict is a statistical diagnosis of the data given; it informs, and does not replace, the team's scientific judgement."
 
@@ -133,12 +146,15 @@ type Signal struct {
 	// Coverage is the fraction of the total test weight that could run.
 	Coverage float64 `json:"coverage"`
 	// Probability is the calibrated probability that the signal is
-	// planetary, from its score (see Logistic); null when not computed.
+	// planetary, from its score and the kind of its caveat (see
+	// Calibration); null when not computed.
 	Probability Num `json:"probability"`
 	// Caveat, when set, says why the signal cannot be planet-like whatever
 	// its score: it sits at P_rot or P_rot/2 of a rotation hypothesis, or
-	// it is an alias or a harmonic of a stronger signal.
-	Caveat string `json:"caveat,omitempty"`
+	// it is an alias or a harmonic of a stronger signal, among others;
+	// CaveatKind names its kind (one of the Caveat… constants).
+	Caveat     string `json:"caveat,omitempty"`
+	CaveatKind string `json:"caveat_kind,omitempty"`
 	// RelatedTo, when set, names the stronger signal this one is an alias
 	// or harmonic of (e.g. "1-day alias of signal 1 (12.92 d)").
 	RelatedTo string `json:"related_to,omitempty"`
