@@ -110,6 +110,19 @@ func fmtP(p float64, upper bool) string {
 	return strconv.FormatFloat(p, 'g', 2, 64)
 }
 
+// FormatProbability formats a calibrated probability (Signal.Probability)
+// as the report does: fmtProb.
+func FormatProbability(p float64) string { return fmtProb(p) }
+
+// fmtProb formats a calibrated probability to two decimals ("0.55"; the
+// calibration is no finer), "—" when unknown.
+func fmtProb(p float64) string {
+	if !isFinite(p) {
+		return "—"
+	}
+	return strconv.FormatFloat(p, 'f', 2, 64)
+}
+
 // roundUp rounds p up to two significant digits (an upper limit must not
 // shrink when rounded): 1/201 = 0.004975 → 0.005.
 func roundUp(p float64) float64 {

@@ -51,4 +51,13 @@ func TestNumberFormats(t *testing.T) {
 			t.Errorf("fmtSig(%g, 6) = %q, want %q", c.x, got, c.want)
 		}
 	}
+	// A calibrated probability: two decimals, unknown as "—", never 0.
+	for _, c := range []struct {
+		p    float64
+		want string
+	}{{0.549, "0.55"}, {0.0004, "0.00"}, {1, "1.00"}, {math.NaN(), "—"}} {
+		if got := fmtProb(c.p); got != c.want {
+			t.Errorf("fmtProb(%g) = %q, want %q", c.p, got, c.want)
+		}
+	}
 }

@@ -125,7 +125,7 @@ type reportView struct {
 }
 
 type summaryRow struct {
-	Signal, Period, K, FAP, Verdict, Badge, Score, Why string
+	Signal, Period, K, FAP, Verdict, Badge, Score, Prob, Why string
 }
 
 type orbitView struct {
@@ -295,14 +295,14 @@ func buildReport(r *Report) (*reportView, []renderedFigure, error) {
 			P = fmtSig(float64(sg.Period), 6)
 		}
 		v.Summary = append(v.Summary, summaryRow{Signal: fmt.Sprintf("S%d", k+1), Period: P, K: K,
-			FAP: fmtP(float64(sg.FAP), false), Verdict: sg.Verdict, Badge: badgeOf(sg.Verdict), Score: fmt.Sprintf("%+.2f", sg.Score), Why: VisibleText(sg.Summary)})
+			FAP: fmtP(float64(sg.FAP), false), Verdict: sg.Verdict, Badge: badgeOf(sg.Verdict), Score: fmt.Sprintf("%+.2f", sg.Score), Prob: fmtProb(float64(sg.Probability)), Why: VisibleText(sg.Summary)})
 	}
 	v.AdoptedK = adoptedKText(dg)
 	v.Activity = activityModel(dg, insts)
 	// Evidence.
 	for k, sg := range dg.Signals {
 		ev := evidenceView{Title: fmt.Sprintf("S%d: P = %s d", k+1, fmtSig(float64(sg.Period), 6)), Verdict: sg.Verdict, Badge: badgeOf(sg.Verdict),
-			Heading: fmt.Sprintf("score %+.2f, %.0f%% of the tests ran", sg.Score, 100*sg.Coverage)}
+			Heading: fmt.Sprintf("score %+.2f, P(planet) %s, %.0f%% of the tests ran", sg.Score, fmtProb(float64(sg.Probability)), 100*sg.Coverage)}
 		for _, e := range sg.Evidence {
 			ev.Rows = append(ev.Rows, [6]string{VisibleText(e.Name), evidenceValue(e), fmtSig(float64(e.Threshold), 3), e.Points, fmt.Sprintf("%+.2f", e.Weight), VisibleText(e.Reason)})
 		}
@@ -491,8 +491,8 @@ code { font-family: "Liberation Mono", "DejaVu Sans Mono", monospace; font-size:
 <h2>Verdict summary</h2>
 {{if .Summary}}
 <table>
-<tr><th>signal</th><th>period (d)</th><th>K (m/s)</th><th>FAP</th><th>verdict</th><th>score</th><th>why</th></tr>
-{{range .Summary}}<tr><td>{{.Signal}}</td><td class="n">{{.Period}}</td><td class="n">{{.K}}</td><td class="n">{{.FAP}}</td><td><span class="verdict {{.Badge}}">{{.Verdict}}</span></td><td class="n">{{.Score}}</td><td>{{.Why}}</td></tr>
+<tr><th>signal</th><th>period (d)</th><th>K (m/s)</th><th>FAP</th><th>verdict</th><th>score</th><th>P(planet)</th><th>why</th></tr>
+{{range .Summary}}<tr><td>{{.Signal}}</td><td class="n">{{.Period}}</td><td class="n">{{.K}}</td><td class="n">{{.FAP}}</td><td><span class="verdict {{.Badge}}">{{.Verdict}}</span></td><td class="n">{{.Score}}</td><td class="n">{{.Prob}}</td><td>{{.Why}}</td></tr>
 {{end}}</table>
 <p id="adopted-k">{{.AdoptedK}}</p>
 {{else}}<p>No signal to judge.</p>{{end}}
@@ -653,9 +653,9 @@ func writePDF(w io.Writer, v *reportView, figs []renderedFigure) error {
 	} else {
 		var rows [][]string
 		for _, s := range v.Summary {
-			rows = append(rows, []string{s.Signal, s.Period, s.K, s.FAP, s.Verdict, s.Score, s.Why})
+			rows = append(rows, []string{s.Signal, s.Period, s.K, s.FAP, s.Verdict, s.Score, s.Prob, s.Why})
 		}
-		table([]float64{12, 27, 22, 15, 22, 12, 70}, []string{"signal", "period (d)", "K (m/s)", "FAP", "verdict", "score", "why"}, rows, 8.5, map[int]bool{1: true, 2: true, 3: true, 5: true})
+		table([]float64{12, 27, 22, 15, 22, 12, 14, 56}, []string{"signal", "period (d)", "K (m/s)", "FAP", "verdict", "score", "P(planet)", "why"}, rows, 8.5, map[int]bool{1: true, 2: true, 3: true, 5: true, 6: true})
 		body(9, v.AdoptedK)
 	}
 	for _, n := range v.Notes {

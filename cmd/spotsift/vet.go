@@ -156,7 +156,7 @@ func printDiagnosis(w io.Writer, dg *activity.Diagnosis) {
 	for i, s := range dg.Signals {
 		fmt.Fprintf(w, "\nsignal %d: P = %.5g d, K = %s m/s (%s), false-alarm probability %.2g (%s)\n",
 			i+1, float64(s.Period), activity.FormatValErr(float64(s.K), float64(s.KErr)), kFromText(s.KFrom), float64(s.FAP), s.Source)
-		fmt.Fprintf(w, "  verdict: %s (score %+.2f, %.0f%% of the tests ran)\n", s.Verdict, s.Score, 100*s.Coverage)
+		fmt.Fprintf(w, "  verdict: %s (score %+.2f, P(planet) %s, %.0f%% of the tests ran)\n", s.Verdict, s.Score, activity.FormatProbability(float64(s.Probability)), 100*s.Coverage)
 		fmt.Fprintf(w, "  because: %s\n", s.Summary)
 		for _, ev := range s.Evidence {
 			fmt.Fprintf(w, "    %-8s %+5.2f  %s\n", ev.Points, ev.Weight, ev.Reason)
