@@ -16,7 +16,7 @@ import (
 
 // SchemaVersion is stored in the catalogue as PRAGMA user_version; it
 // changes whenever Schema does.
-const SchemaVersion = 1
+const SchemaVersion = 2
 
 // Schema is the SQL schema of the catalogue (SQLite). Numbers that are not
 // known (NaN) are NULL. Stars, signals and evidence items are numbered in
@@ -83,9 +83,10 @@ CREATE TABLE signals (
   score         REAL,                   -- in [-1, 1], positive toward activity
   coverage      REAL,                   -- fraction of the test weight that ran
   summary       TEXT,
-  probability   REAL,                   -- calibrated P(planetary), from the score
+  probability   REAL,                   -- calibrated P(planetary), from the score and the caveat's kind
   fap_correlated REAL,                  -- false-alarm probability with the red-noise factor
   caveat        TEXT,                   -- why it cannot be planet-like, if it cannot
+  caveat_kind   TEXT,                   -- relative, period_alias, rotation, cycle, baseline, significance
   related_to    TEXT                    -- the stronger signal it is an alias or harmonic of
 );
 CREATE TABLE evidence (
@@ -180,7 +181,7 @@ func writeCatalogue(path string, recs []record, runs []RunRecord) (err error) {
 	if err != nil {
 		return err
 	}
-	insSig, err := tx.Prepare(`INSERT INTO signals VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`)
+	insSig, err := tx.Prepare(`INSERT INTO signals VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`)
 	if err != nil {
 		return err
 	}
@@ -229,7 +230,7 @@ func writeCatalogue(path string, recs []record, runs []RunRecord) (err error) {
 			_, err = insSig.Exec(sigID, starID, k+1, num(float64(s.Period)), num(float64(s.Freq)), s.Source, num(float64(s.Power)),
 				num(float64(s.FAP)), num(float64(s.K)), num(float64(s.KErr)), num(float64(s.Period)/rotP),
 				s.Verdict, num(s.Score), num(s.Coverage), nullText(s.Summary),
-				num(float64(s.Probability)), num(float64(s.FAPCorrelated)), nullText(s.Caveat), nullText(s.RelatedTo))
+				num(float64(s.Probability)), num(float64(s.FAPCorrelated)), nullText(s.Caveat), nullText(s.CaveatKind), nullText(s.RelatedTo))
 			if err != nil {
 				return fmt.Errorf("survey: catalogue star %q signal %d: %w", r.Name, k+1, err)
 			}
