@@ -165,7 +165,7 @@ same seed and version reuses the tables and the verdicts.`)
 		}
 		fmt.Fprintf(e.stdout, "%s: %d epochs (%s), report %s\n", st.Name, st.Epochs, how, st.Report)
 		for i, s := range st.Signals {
-			fmt.Fprintf(e.stdout, "  S%d  P = %8.4g d  K = %s m/s (%s)  %-14s %s\n", i+1, float64(s.Period), activity.FormatValErr(float64(s.K), float64(s.KErr)), kFromText(s.KFrom), s.Verdict, s.Summary)
+			fmt.Fprintf(e.stdout, "  S%d  P = %8.4g d  K = %s m/s (%s)  %-14s P(planet) %s  %s\n", i+1, float64(s.Period), activity.FormatValErr(float64(s.K), float64(s.KErr)), kFromText(s.KFrom), s.Verdict, activity.FormatProbability(float64(s.Probability)), s.Summary)
 		}
 	}
 	fmt.Fprintf(e.stdout, "\nWrote %s (%s): per star the simulated table and star file (*/simulated/), the measured table (*/measured.csv); the survey with a report per star, summary tables, catalogue and index (%s/).\n",
