@@ -2,6 +2,7 @@ package activity
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -96,6 +97,8 @@ func TestHeldAwayPartialEvidence(t *testing.T) {
 		{-6, true, false, TowardNeither, 0},
 		{-14, true, false, TowardPlanet, 1},
 		{-14, false, true, TowardPlanet, 1},
+		// The end of the free GP's range on the signal: it chose it.
+		{-6, true, true, TowardNeither, 0},
 	} {
 		// ΔBIC = −2 (ln L_held − ln L_GP) + k ln N.
 		r0 := gpResult{lnL: 0, period: 10, ok: true}
@@ -110,6 +113,9 @@ func TestHeldAwayPartialEvidence(t *testing.T) {
 		}
 		if e.Points != c.points || math.Abs(e.Weight+c.frac*w.ModelComparison.Planet) > 1e-9 {
 			t.Errorf("ΔBIC %g, settled %v: %s %+.3f, want %s %+.3f (%s)", c.dBIC, c.settled, e.Points, e.Weight, c.points, -c.frac*w.ModelComparison.Planet, e.Reason)
+		}
+		if c.settled && strings.Contains(e.Reason, "finds none") {
+			t.Errorf("ΔBIC %g, settled at a bound: the reason says the GP found no period and that it chose this one: %s", c.dBIC, e.Reason)
 		}
 	}
 }

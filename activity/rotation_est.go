@@ -926,7 +926,11 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 	}
 	both := -2 * (r1.lnL - held.lnL)
 	what := fmt.Sprintf("no rotation period is known and a GP with a free period settles on the signal (%.3g d); a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
-	if atBound {
+	switch {
+	case atBound && settled:
+		// The end of the GP's period range lies on the signal's period.
+		what = fmt.Sprintf("no rotation period is known and a GP with a free period runs to the end of its range, on the signal's period (%.3g d); a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
+	case atBound:
 		what = fmt.Sprintf("no rotation period is known and a GP with a free period finds none; held on the signal (%.3g d) it models it, but a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
 	}
 	switch {
