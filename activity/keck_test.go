@@ -85,7 +85,7 @@ func TestKeckPlanetsBlind(t *testing.T) {
 			T := float64(dg.Baseline)
 			var got []string
 			for _, sg := range dg.Signals {
-				got = append(got, fmt.Sprintf("%.5g d %s", float64(sg.Period), sg.Verdict))
+				got = append(got, fmt.Sprintf("%.5g d %s (P(planet) %s)", float64(sg.Period), sg.Verdict, fmtProb(float64(sg.Probability))))
 			}
 			for _, p := range st.periods {
 				if !foundPlanetLike(dg.Signals, p, T) {
