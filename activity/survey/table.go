@@ -16,6 +16,7 @@ type summaryRow struct {
 	idx                                 int
 	period, amp, ampErr, fap, power     float64
 	score, coverage, rot, rotErr, ratio float64
+	prob                                float64
 	nEpochs                             int
 	baseline, rvRMS                     float64
 }
@@ -23,7 +24,7 @@ type summaryRow struct {
 // summaryColumns name the summary table's columns, with their units.
 var summaryColumns = []struct{ name, unit string }{
 	{"star", ""}, {"signal", ""}, {"period", "d"}, {"amplitude", "m/s"}, {"amplitude_err", "m/s"},
-	{"fap", ""}, {"power", ""}, {"verdict", ""}, {"score", ""}, {"coverage", ""}, {"source", ""},
+	{"fap", ""}, {"power", ""}, {"verdict", ""}, {"score", ""}, {"probability", ""}, {"coverage", ""}, {"source", ""},
 	{"rotation_period", "d"}, {"rotation_err", "d"}, {"rotation_source", ""}, {"p_over_prot", ""},
 	{"n_epochs", ""}, {"baseline", "d"}, {"rv_rms", "m/s"},
 }
@@ -40,7 +41,7 @@ func summaryRows(recs []record) []summaryRow {
 		for k, s := range r.Diag.Signals {
 			rows = append(rows, summaryRow{star: r.Name, idx: k + 1, verdict: s.Verdict, source: s.Source, rotSource: r.Diag.Rotation.Source,
 				period: float64(s.Period), amp: float64(s.K), ampErr: float64(s.KErr), fap: float64(s.FAP), power: float64(s.Power),
-				score: s.Score, coverage: s.Coverage, rot: rot, rotErr: float64(r.Diag.Rotation.Err), ratio: float64(s.Period) / rot,
+				score: s.Score, prob: float64(s.Probability), coverage: s.Coverage, rot: rot, rotErr: float64(r.Diag.Rotation.Err), ratio: float64(s.Period) / rot,
 				nEpochs: r.Diag.NEpochs, baseline: float64(r.Diag.Baseline), rvRMS: float64(r.State.RVRMS)})
 		}
 	}
@@ -74,7 +75,7 @@ func writeSummaryCSV(w io.Writer, rows []summaryRow, creator string) error {
 	cw.Write(head)
 	for _, r := range rows {
 		cw.Write([]string{r.star, strconv.Itoa(r.idx), fmtNum(r.period), fmtNum(r.amp), fmtNum(r.ampErr), fmtNum(r.fap), fmtNum(r.power),
-			r.verdict, fmtNum(r.score), fmtNum(r.coverage), r.source, fmtNum(r.rot), fmtNum(r.rotErr), r.rotSource, fmtNum(r.ratio),
+			r.verdict, fmtNum(r.score), fmtNum(r.prob), fmtNum(r.coverage), r.source, fmtNum(r.rot), fmtNum(r.rotErr), r.rotSource, fmtNum(r.ratio),
 			strconv.Itoa(r.nEpochs), fmtNum(r.baseline), fmtNum(r.rvRMS)})
 	}
 	cw.Flush()
@@ -140,6 +141,8 @@ func writeSummaryFITS(w io.Writer, rows []summaryRow, creator string) error {
 			fc.Float = float(func(r summaryRow) float64 { return r.power })
 		case "score":
 			fc.Float = float(func(r summaryRow) float64 { return r.score })
+		case "probability":
+			fc.Float = float(func(r summaryRow) float64 { return r.prob })
 		case "coverage":
 			fc.Float = float(func(r summaryRow) float64 { return r.coverage })
 		case "rotation_period":
