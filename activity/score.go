@@ -293,7 +293,7 @@ var calibratedKinds = []string{"", CaveatRelative, CaveatAlias}
 // the signals of training seeds: the FF' generator's seeds 21–212 with
 // their indicators and 21–116 from their RVs alone, and the simulator's
 // seeds 1–15 (TestCalibrationMisses prints the fit of the seeds it runs;
-// the README gives the figures).
+// docs/methods.md §14.16 gives the counts and checks).
 var defaultCalibration = Calibration{
 	"":             {A: -0.196, B: 12.35},
 	CaveatRelative: {A: 2.78, B: 4.73},

@@ -27,9 +27,10 @@ const (
 )
 
 // Kinds of caveat (Signal.CaveatKind): what keeps a signal from being
-// planet-like whatever its score. Each kind has its own calibrated
-// probability (Calibration): an alias of a stronger signal is seldom a
-// planet at its own period, a signal at a rotation harmonic more often.
+// planet-like whatever its score. The kinds that doubt the period
+// (relative, period_alias) have a calibrated probability of their own; the
+// others, where the data cannot tell a planet from activity, get at most
+// even odds (Calibration).
 const (
 	CaveatRelative     = "relative"     // an alias or harmonic of a stronger signal's period
 	CaveatAlias        = "period_alias" // its own 1-day or 1-year alias fits about as well
