@@ -76,7 +76,8 @@ verdicts. The spectra (about 450 MB in all) are written to a temporary
 folder 32 at a time, measured and deleted, so at most about 40 MB of
 them are on disk at once; --keep-spectra keeps them all in the output
 folder instead. The output folder holds about 15 MB. A rerun with the
-same seed and version reuses the tables and the verdicts.`)
+same seed and version (the release and its build: spotsift version)
+reuses the tables and the verdicts.`)
 	c.addRun(fs)
 	out := fs.String("out", "spotsift-demo", "output `directory`")
 	tables := fs.Bool("tables-only", false, "simulate tables instead of spectra (faster; skips the measurement step)")
@@ -101,7 +102,7 @@ same seed and version reuses the tables and the verdicts.`)
 	// verdicts' provenance is the same wherever the demo runs.
 	m := &survey.Manifest{File: "demo", Dir: *out}
 	prev := readDemoState(filepath.Join(*out, demoStateFile))
-	cur := &demoState{Version: version, Seed: c.seed, Spectra: !*tables, Stars: map[string]demoStar{}}
+	cur := &demoState{Version: version(), Seed: c.seed, Spectra: !*tables, Stars: map[string]demoStar{}}
 	reused := 0
 	for _, d := range demos {
 		if ps, ok := reusable(prev, cur, *out, d.Scenario.Name); ok && !*keep {
@@ -132,7 +133,7 @@ same seed and version reuses the tables and the verdicts.`)
 	// Without Force the survey skips every star whose table, star file,
 	// settings and version are unchanged since its last run.
 	sum, err := survey.Run(ctx, m, filepath.Join(*out, demoSurveyDir), &survey.Options{
-		Workers: c.workers, Seed: c.seed, Progress: bar.Set, Version: version, Command: demoCommand(c.seed, *tables)})
+		Workers: c.workers, Seed: c.seed, Progress: bar.Set, Version: version(), Command: demoCommand(c.seed, *tables)})
 	bar.Done()
 	if err != nil {
 		return fail(e, exitFailed, err)
@@ -233,7 +234,7 @@ func demoStarRun(ctx context.Context, e *env, c *common, d starsim.Demo, out str
 	tsc := *res.Scenario
 	tsc.Spectrum.Full = false
 	tablesOnly.Scenario = &tsc
-	if err := tablesOnly.WriteFiles(simDir, &starsim.WriteOptions{Workers: c.workers, Creator: "spotsift " + version}); err != nil {
+	if err := tablesOnly.WriteFiles(simDir, &starsim.WriteOptions{Workers: c.workers, Creator: "spotsift " + version()}); err != nil {
 		return survey.Entry{}, err
 	}
 	entry := survey.Entry{Name: sc.Name, Data: filepath.Join(simRel, starsim.TableFile), StarFile: filepath.Join(simRel, starsim.StarFile)}
@@ -277,7 +278,7 @@ func demoStarRun(ctx context.Context, e *env, c *common, d starsim.Demo, out str
 	}
 	reportFailures(e, failures, c.quiet)
 	entry.Data = filepath.Join(d.Name, "measured.csv")
-	if err := rvfit.WriteTable(filepath.Join(out, entry.Data), s, &rvfit.WriteOptions{Creator: "spotsift " + version}); err != nil {
+	if err := rvfit.WriteTable(filepath.Join(out, entry.Data), s, &rvfit.WriteOptions{Creator: "spotsift " + version()}); err != nil {
 		return survey.Entry{}, err
 	}
 	return entry, nil

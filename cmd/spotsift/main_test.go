@@ -7,6 +7,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"spotsift/activity"
 )
 
 // runCmd runs the program with args and returns the exit code and output.
@@ -50,6 +52,26 @@ func TestHelp(t *testing.T) {
 	}
 	if code, stdout, _ := runCmd("version"); code != exitOK || !strings.HasPrefix(stdout, "spotsift ") {
 		t.Errorf("version: exit %d, %q", code, stdout)
+	}
+}
+
+// TestVersionNamesTheBuild: the version carries the running executable's
+// digest beside the release (outputs of two builds of one release are not
+// taken for each other), the same at every call.
+func TestVersionNamesTheBuild(t *testing.T) {
+	exe, err := os.Executable()
+	if err != nil {
+		t.Skipf("the executable cannot be located here (%v): the version is the release alone", err)
+	}
+	sum, err := activity.HashFile(exe)
+	if err != nil {
+		t.Skipf("the executable cannot be read here (%v): the version is the release alone", err)
+	}
+	if got, want := version(), release+"+"+sum[:12]; got != want {
+		t.Errorf("version %q, want %q (the release and the SHA-256 of %s)", got, want, exe)
+	}
+	if version() != version() {
+		t.Error("the version changes between calls")
 	}
 }
 

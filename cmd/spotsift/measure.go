@@ -122,7 +122,7 @@ that fail on an otherwise good spectrum.`)
 		}
 		return fail(e, exitFailed, err)
 	}
-	if err := rvfit.WriteTable(*out, s, &rvfit.WriteOptions{Creator: "spotsift " + version}); err != nil {
+	if err := rvfit.WriteTable(*out, s, &rvfit.WriteOptions{Creator: "spotsift " + version()}); err != nil {
 		return fail(e, exitFailed, err)
 	}
 	if c.json {

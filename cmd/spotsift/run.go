@@ -9,8 +9,10 @@ import (
 	"os"
 	"os/signal"
 	"strings"
+	"sync"
 	"syscall"
 
+	"spotsift/activity"
 	"spotsift/internal/worker"
 )
 
@@ -21,8 +23,27 @@ const (
 	exitUsage  = 2 // bad usage or bad input
 )
 
-// version is the program version recorded in every output file.
-const version = "0.1.0-dev"
+// release is the program's release.
+const release = "0.1.0-dev"
+
+// version returns the program version recorded in every output file and
+// among the inputs a rerun checks before it reuses a verdict: the release
+// and the first 12 hex digits of the SHA-256 of the running executable. A
+// release is built many times as it evolves, and a verdict reused across
+// builds would be an older build's verdict presented as this one's; Go's
+// builds are reproducible, so the same code built again keeps its digest.
+// The release alone when the executable cannot be read.
+var version = sync.OnceValue(func() string {
+	exe, err := os.Executable()
+	if err != nil {
+		return release
+	}
+	sum, err := activity.HashFile(exe)
+	if err != nil {
+		return release
+	}
+	return release + "+" + sum[:12]
+})
 
 // env is what a subcommand may touch: its output streams.
 type env struct {
@@ -72,7 +93,7 @@ func run(args []string, stdout, stderr io.Writer) (code int) {
 		usage(stderr)
 		return exitOK
 	case "version", "--version":
-		fmt.Fprintf(stdout, "spotsift %s\n", version)
+		fmt.Fprintf(stdout, "spotsift %s\n", version())
 		return exitOK
 	}
 	for _, c := range commands {

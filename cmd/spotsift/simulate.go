@@ -76,7 +76,7 @@ sector; 30-minute cadence, sectors of 27 d with 1-d gaps, the RV seasons,
 	if res.Scenario.Spectrum.Full {
 		prog = newProgress(e.stderr, res.Len(), "spectra", c.quiet)
 	}
-	wopts := &starsim.WriteOptions{Workers: c.workers, Creator: "spotsift " + version, Float32: *float32}
+	wopts := &starsim.WriteOptions{Workers: c.workers, Creator: "spotsift " + version(), Float32: *float32}
 	if prog != nil {
 		wopts.Progress = prog.Set
 	}
@@ -102,7 +102,7 @@ sector; 30-minute cadence, sectors of 27 d with 1-d gaps, the RV seasons,
 		enc.SetIndent("", "  ")
 		if err := enc.Encode(map[string]any{
 			"star": res.Scenario.Name, "seed": res.Seed, "epochs": res.Len(),
-			"spectra": res.Scenario.Spectrum.Full, "out": *out, "files": files, "version": version,
+			"spectra": res.Scenario.Spectrum.Full, "out": *out, "files": files, "version": version(),
 		}); err != nil {
 			return fail(e, exitFailed, err)
 		}
@@ -139,5 +139,5 @@ func writeLightCurve(res *starsim.Result, path string, noise float64) error {
 	if err != nil {
 		return err
 	}
-	return photometry.Write(path, &photometry.LightCurve{Name: path, Time: lc.Time, Flux: lc.Flux, Err: lc.Err, Sector: lc.Sector}, "spotsift "+version)
+	return photometry.Write(path, &photometry.LightCurve{Name: path, Time: lc.Time, Flux: lc.Flux, Err: lc.Err, Sector: lc.Sector}, "spotsift "+version())
 }

@@ -101,7 +101,7 @@ partial survey), 2 bad usage or a bad manifest.`)
 	opts := &survey.Options{
 		Workers: c.workers, Seed: c.seed, Shard: sh, SkipModels: *noGP, Force: *force, RetryFailed: *retry,
 		Diagnose: &activity.Options{FAPThreshold: *fap, MaxSignals: *maxSig},
-		Version:  version, Command: "spotsift survey " + strings.Join(args, " "), StarTimeout: *starTimeout,
+		Version:  version(), Command: "spotsift survey " + strings.Join(args, " "), StarTimeout: *starTimeout,
 		Notify: func(msg string) {
 			if !c.quiet {
 				fmt.Fprintf(e.stderr, "spotsift: %s\n", msg)

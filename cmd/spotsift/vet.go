@@ -130,7 +130,7 @@ func nonEmpty(s string) []string {
 
 // provenance records the version, seed, command line and input hashes.
 func provenance(c common, inputs, argv []string) activity.Provenance {
-	p := activity.Provenance{Version: version, Seed: c.seed, Command: "spotsift " + strings.Join(argv, " ")}
+	p := activity.Provenance{Version: version(), Seed: c.seed, Command: "spotsift " + strings.Join(argv, " ")}
 	for _, in := range inputs {
 		h, err := activity.HashFile(in)
 		if err != nil {
