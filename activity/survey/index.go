@@ -156,7 +156,7 @@ type indexStar struct {
 }
 
 type indexSignal struct {
-	Text, Verdict, Colour, Summary string
+	Text, Verdict, Prob, Colour, Summary string
 }
 
 var indexTmpl = template.Must(template.New("index").Parse(`<!DOCTYPE html>
@@ -179,7 +179,7 @@ Tables: <a href="summary.csv">summary.csv</a>, <a href="summary.fits">summary.fi
 {{end}}</table>{{end}}
 <h2>Stars</h2>
 <table><tr><th>star</th><th>status</th><th>rotation</th><th>signals</th></tr>
-{{range .Stars}}<tr><td>{{if .Link}}<a href="{{.Link}}">{{.Name}}</a>{{else}}{{.Name}}{{end}}</td><td{{if eq .Status "failed"}} class="failed"{{end}}>{{.Status}}</td><td>{{.Rotation}}</td><td>{{range .Signals}}<span class="v" style="background:{{.Colour}}" title="{{.Summary}}">{{.Text}}: {{.Verdict}}</span><br>{{end}}</td></tr>
+{{range .Stars}}<tr><td>{{if .Link}}<a href="{{.Link}}">{{.Name}}</a>{{else}}{{.Name}}{{end}}</td><td{{if eq .Status "failed"}} class="failed"{{end}}>{{.Status}}</td><td>{{.Rotation}}</td><td>{{range .Signals}}<span class="v" style="background:{{.Colour}}" title="{{.Summary}}">{{.Text}}: {{.Verdict}}, P(planet) {{.Prob}}</span><br>{{end}}</td></tr>
 {{end}}</table>
 <p>Written by {{.Creator}}.</p>
 </body></html>
@@ -235,7 +235,7 @@ func writeIndex(w io.Writer, outDir string, recs []record, creator string) error
 					p.NInconclusive++
 				}
 				c := verdictColour[s.Verdict]
-				is.Signals = append(is.Signals, indexSignal{Text: fmt.Sprintf("%.4g d", float64(s.Period)), Verdict: s.Verdict, Colour: c, Summary: activity.VisibleText(s.Summary)})
+				is.Signals = append(is.Signals, indexSignal{Text: fmt.Sprintf("%.4g d", float64(s.Period)), Verdict: s.Verdict, Prob: activity.FormatProbability(float64(s.Probability)), Colour: c, Summary: activity.VisibleText(s.Summary)})
 				f1 = append(f1, point{x: rot, y: float64(s.Period), colour: c, title: fmt.Sprintf("%s signal %d: %.4g d, %s", r.Name, k+1, float64(s.Period), s.Verdict)})
 			}
 			kind := starKind(r.Diag)

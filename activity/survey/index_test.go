@@ -36,6 +36,7 @@ func TestIndexPage(t *testing.T) {
 	nan := activity.Num(math.NaN())
 	sig := func(p float64, v string) activity.Signal { return activity.Signal{Period: activity.Num(p), Verdict: v} }
 	host := &activity.Diagnosis{Signals: []activity.Signal{sig(7.3, activity.PlanetLike), sig(12.5, activity.ActivityLike)}, Rotation: activity.Rotation{Period: 25, Err: 2.5, Source: "star file"}}
+	host.Signals[0].Probability, host.Signals[1].Probability = 0.966, nan
 	if k := starKind(host); k != activity.PlanetLike {
 		t.Errorf("planet host coloured %s", k)
 	}
@@ -73,6 +74,10 @@ func TestIndexPage(t *testing.T) {
 	}
 	if strings.Contains(page, "NaN") || strings.Contains(page, "Inf") {
 		t.Error("the page holds NaN or Inf")
+	}
+	// P(planet) beside each verdict; unknown as "—", never 0.
+	if !strings.Contains(page, "planet-like, P(planet) 0.97") || !strings.Contains(page, "activity-like, P(planet) —") {
+		t.Error("a signal's P(planet) is missing beside its verdict, or an unknown one is not shown as —")
 	}
 }
 
