@@ -192,9 +192,8 @@ func FitCalibration(pts []ProbPoint) Calibration {
 	}
 	c := Calibration{}
 	for k, ps := range by {
-		n, planets := 0, 0
+		n, planets := len(ps), 0
 		for _, p := range ps {
-			n++
 			if p.Planet {
 				planets++
 			}

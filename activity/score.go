@@ -306,20 +306,24 @@ var defaultCalibration = Calibration{
 // evidence set aside (score at least 0).
 func (c Calibration) of(caveat bool, kind string, s float64) float64 {
 	if !caveat {
-		kind = ""
+		l, _ := c.mapping("")
+		return l.of(s)
 	}
-	l, ok := c[kind]
-	if !ok {
-		l, ok = defaultCalibration[kind]
+	if l, ok := c.mapping(kind); ok && kind != "" {
+		return l.of(s)
 	}
-	if !ok || caveat && kind == "" {
-		open, ok := c[""]
-		if !ok {
-			open = defaultCalibration[""]
-		}
-		return open.of(math.Max(s, 0))
+	open, _ := c.mapping("")
+	return open.of(math.Max(s, 0))
+}
+
+// mapping returns the Logistic of a kind: c's, else the default's; ok is
+// false when neither has one.
+func (c Calibration) mapping(kind string) (l Logistic, ok bool) {
+	if l, ok = c[kind]; ok {
+		return l, true
 	}
-	return l.of(s)
+	l, ok = defaultCalibration[kind]
+	return l, ok
 }
 
 // chi2Survival returns P(χ²_dof ≥ x).
