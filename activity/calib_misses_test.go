@@ -133,6 +133,9 @@ func TestCalibrationMisses(t *testing.T) {
 						for _, e := range sg.Evidence {
 							fmt.Fprintf(&b, "      %-30s %+6.3f %-8s %s\n", e.Name, e.Weight, e.Points, e.Reason)
 						}
+						for _, s := range sg.Skipped {
+							fmt.Fprintf(&b, "      %-30s skipped         %s\n", s.Name, s.Why)
+						}
 					}
 				}
 				out[k] = b.String()
