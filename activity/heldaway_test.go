@@ -9,17 +9,31 @@ import (
 )
 
 // TestOnSignal checks the windows in which a rotation kernel's period has
-// a mode on a signal: the period, its double and its half, ±heldAwayLn in
-// ln P (docs/methods.md §14.10).
+// a mode on a signal: the period, its double and its half, and the
+// signal's 1-day aliases, ±heldAwayLn in ln P (docs/methods.md §14.10).
 func TestOnSignal(t *testing.T) {
-	f := 1 / 10.0
 	for _, c := range []struct {
-		p    float64
-		want bool
-	}{{10, true}, {12.5, true}, {20, true}, {5, true}, {4, true}, {14, false}, {7, false}, {30, false}, {3, false}} {
-		if got := onSignal(c.p, f); got != c.want {
-			t.Errorf("onSignal(%g d, 1/10 d) = %v, want %v", c.p, got, c.want)
+		p, signal float64
+		want      bool
+	}{
+		{10, 10, true}, {12.5, 10, true}, {20, 10, true}, {5, 10, true}, {4, 10, true},
+		{14, 10, false}, {7, 10, false}, {30, 10, false}, {3, 10, false},
+		// The 1-day alias of 1.34 d is 1/(1.0027379 − 1/1.34) = 3.90 d
+		// (sidereal day, common practice).
+		{3.98, 1.34, true}, {5.5, 1.34, false}, {7.8, 1.34, false}, {12, 1.34, false},
+		// A 10 d signal's aliases lie near 1.1 d and 0.9 d; a long
+		// period's near 1 d, and a 2 d kernel stays off it.
+		{1.11, 10, true}, {2, 557, false}, {1.6, 557, false},
+	} {
+		if got := onSignal(c.p, 1/c.signal); got != c.want {
+			t.Errorf("onSignal(%g d, 1/%g d) = %v, want %v", c.p, c.signal, got, c.want)
 		}
+	}
+	if got := aliasNote(3.98, 1/1.34); got == "" {
+		t.Error("a kernel at 3.98 d sits on a 1.34 d signal by its 1-day alias, and the text should say so")
+	}
+	if got := aliasNote(2.68, 1/1.34); got != "" {
+		t.Errorf("a kernel at 2.68 d sits on a 1.34 d signal at its double, not by an alias, yet the text says %q", got)
 	}
 }
 

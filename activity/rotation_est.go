@@ -891,9 +891,37 @@ func (tr *trial) multiComparison(prot, perr float64) (without, with *GPActivityF
 }
 
 // heldAwayLn is the half-width in ln P of the windows about the signal's
-// period, its double and its half where a GP period counts as sitting on
-// the signal: a rotation kernel there has a mode that can model it.
+// period, its double and its half (and their 1-day aliases, signalWindows)
+// where a GP period counts as sitting on the signal: a rotation kernel
+// there has a mode that can model it.
 const heldAwayLn = 0.25
+
+// signalWindows returns the periods about which a rotation kernel's period
+// counts as sitting on a signal of frequency f: the signal's period, its
+// double and its half, then the signal's 1-day (sidereal) aliases
+// 1/|f − 1 c/d| and 1/(f + 1 c/d). Nightly sampling hardly tells a
+// variation at one of these frequencies from one at the other, so a
+// kernel whose fundamental sits on the alias models the signal as one on
+// the period does. Example (FF' training star 43, RVs alone, no star
+// file): activity at P_rot/2 found as a 1.34 d signal, and a GP with a
+// free period settling at 3.98 d, by the 1-day alias of 1.34 d (3.90 d);
+// taken for activity elsewhere, it left a Keplerian at 1.34 d "still
+// needed" (ΔBIC = −13.0), and the signal came out planet-like. The
+// kernel's second mode is not followed through the alias: with the
+// windows' ±25 % it would put a window near 2 d for every signal longer
+// than a few days (a 2 d kernel's 1 d mode, aliased, spans all long
+// periods), and a window that holds every signal tells none apart.
+// Only signals shorter than about 3 d have an alias the GP's periods
+// reach.
+func signalWindows(f float64) []float64 {
+	out := []float64{1 / f, 2 / f, 0.5 / f}
+	for _, g := range []float64{math.Abs(f - siderealFreq), f + siderealFreq} {
+		if g > 0 {
+			out = append(out, 1/g)
+		}
+	}
+	return out
+}
 
 // heldAwayEvidence (docs/methods.md §14.10) sets e for a signal whose
 // free GP settled on it or found nothing: r0 is the GP alone held on the
@@ -925,13 +953,14 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 		sn = fmt.Sprintf("%.1f", snr)
 	}
 	both := -2 * (r1.lnL - held.lnL)
-	what := fmt.Sprintf("no rotation period is known and a GP with a free period settles on the signal (%.3g d); a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
+	away := "held away from it, its double, its half and its 1-day aliases"
+	what := fmt.Sprintf("no rotation period is known and a GP with a free period settles on the signal (%.3g d%s); a Keplerian at the period with the GP %s", r0.period, aliasNote(r0.period, tr.f), away)
 	switch {
 	case atBound && settled:
 		// The end of the GP's period range lies on the signal's period.
-		what = fmt.Sprintf("no rotation period is known and a GP with a free period runs to the end of its range, on the signal's period (%.3g d); a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
+		what = fmt.Sprintf("no rotation period is known and a GP with a free period runs to the end of its range, on the signal's period (%.3g d%s); a Keplerian at the period with the GP %s", r0.period, aliasNote(r0.period, tr.f), away)
 	case atBound:
-		what = fmt.Sprintf("no rotation period is known and a GP with a free period finds none; held on the signal (%.3g d) it models it, but a Keplerian at the period with the GP held away from it, its double and its half", r0.period)
+		what = fmt.Sprintf("no rotation period is known and a GP with a free period finds none; held on the signal (%.3g d%s) it models it, but a Keplerian at the period with the GP %s", r0.period, aliasNote(r0.period, tr.f), away)
 	}
 	switch {
 	case onSignal(r1.period, tr.f) && both <= -10:
@@ -960,7 +989,7 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 }
 
 // heldAwayFit fits m with a sinusoid at frequency f and the GP's period
-// held away from 1/f, 2/f and 1/(2f) (outside the heldAwayLn windows),
+// held away from the signal's windows (signalWindows, ±heldAwayLn),
 // over the rest of m's period range, and returns the best fit; alt, a fit
 // of the same model with a free GP period, counts when its period falls
 // outside the windows. ok is false when no part of the range is left or
@@ -969,7 +998,7 @@ func heldAwayFit(m *gpModel, f float64, alt gpResult) gpResult {
 	lo, hi := m.pLo, m.pHi
 	type box struct{ lo, hi float64 }
 	boxes := []box{{lo, hi}}
-	for _, c := range []float64{0.5 / f, 1 / f, 2 / f} {
+	for _, c := range signalWindows(f) {
 		a, b := c*math.Exp(-heldAwayLn), c*math.Exp(heldAwayLn)
 		var next []box
 		for _, x := range boxes {
@@ -1007,25 +1036,40 @@ func heldAwayFit(m *gpModel, f float64, alt gpResult) gpResult {
 }
 
 // onSignal reports whether a rotation kernel of period p has a mode on a
-// signal of frequency f: p within heldAwayLn (in ln P) of 1/f, 2/f or
-// 1/(2f).
+// signal of frequency f: p within heldAwayLn (in ln P) of one of the
+// signal's windows (signalWindows).
 func onSignal(p, f float64) bool {
-	for _, mult := range []float64{1, 2, 0.5} {
-		if math.Abs(math.Log(p*f*mult)) < heldAwayLn {
+	for _, c := range signalWindows(f) {
+		if math.Abs(math.Log(p/c)) < heldAwayLn {
 			return true
 		}
 	}
 	return false
 }
 
+// aliasNote returns, for a kernel period p on the signal of frequency f
+// only by the signal's 1-day alias, the words that say so; else "".
+func aliasNote(p, f float64) string {
+	for _, c := range signalWindows(f)[:3] {
+		if math.Abs(math.Log(p/c)) < heldAwayLn {
+			return ""
+		}
+	}
+	if !onSignal(p, f) {
+		return ""
+	}
+	return ", by the 1-day alias of the period"
+}
+
 // onSignalFit fits m alone (no sinusoid) with the GP's period held within
-// heldAwayLn of 1/f, 2/f or 1/(2f), inside m's period range, and returns
+// heldAwayLn of one of the signal's windows (signalWindows), inside m's
+// period range, and returns
 // the best fit; alt, a fit of the same model with a free period, counts
 // when its period falls in a window. ok is false when no window meets the
 // range or no fit converged.
 func onSignalFit(m *gpModel, f float64, alt gpResult) gpResult {
 	best := gpResult{lnL: math.Inf(-1)}
-	for _, c := range []float64{1 / f, 2 / f, 0.5 / f} {
+	for _, c := range signalWindows(f) {
 		lo, hi := math.Max(m.pLo, c*math.Exp(-heldAwayLn)), math.Min(m.pHi, c*math.Exp(heldAwayLn))
 		if hi < 1.1*lo {
 			continue
