@@ -4,7 +4,9 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"testing"
 
+	"spotsift/indicators"
 	"spotsift/rvfit"
 )
 
@@ -22,7 +24,8 @@ import (
 // faculae. (The paper writes the convective term with F²; the linear form
 // used here keeps it proportional to the covered area, a deliberate
 // choice.) The indicators are derived from the same spots: the S-index
-// from the visible facular area plus the magnetic cycle, the FWHM from the
+// from the visible facular area plus the magnetic cycle, about a mean level
+// that follows the rotation and colour (ffMeanS), the FWHM from the
 // convective term, the bisector span from the rotational term seen with a
 // small lag. Spots live from days to many rotations, rotation runs from 2
 // to 150 days (M dwarfs included), a magnetic cycle modulates emergence,
@@ -96,6 +99,17 @@ func ffGenerate(seed uint64, kind ffKind) (*rvfit.Series, *Star, func(float64) s
 		rsun = 0.2 + 0.4*rng.Float64() // slow rotators here are M dwarfs
 	}
 	st.rStar = rsun * 6.957e8
+	// The star's colour goes with its radius, and its chromospheric level
+	// with its rotation and colour: the mean S-index puts log R'HK where
+	// the activity–rotation relation of Noyes et al. (1984) puts a star of
+	// this colour and rotation, with the relation's own scatter (0.1 dex in
+	// period, the figure RelationEstimates assigns; from memory) drawn from
+	// a stream of its own, so that every other draw of the seed is kept.
+	bv := 0.6 + 0.3*(1.2-rsun)/0.5
+	if rsun < 0.6 {
+		bv = 1.4
+	}
+	sBase := ffMeanS(bv, st.prot*math.Pow(10, 0.1*rand.New(rand.NewPCG(seed, 0x5157)).NormFloat64()))
 	st.lag = 0.1 * st.prot * rng.Float64()
 	// Sampling: one to five seasons of 100–240 nights, 40–200 visits,
 	// one to three instruments in successive eras.
@@ -179,7 +193,7 @@ func ffGenerate(seed uint64, kind ffKind) (*rvfit.Series, *Star, func(float64) s
 		pl2, _ := st.flux(t - st.lag + h)
 		rvRotLag := -p0 * (pl2 - pl) / (2 * h) / 86400 * st.rStar / st.contrast
 		cyc := st.cycleA * st.cycle(t)
-		sIdx.Value[i] = 0.2 + cS*fac + 0.05*cyc + sErr*rng.NormFloat64()
+		sIdx.Value[i] = sBase + cS*fac + 0.05*cyc + sErr*rng.NormFloat64()
 		sIdx.Err[i] = sErr
 		fwhm.Value[i] = 6000 + cFW*rvC + 5*cyc + fwErr*rng.NormFloat64()
 		fwhm.Err[i] = fwErr
@@ -233,11 +247,7 @@ func ffGenerate(seed uint64, kind ffKind) (*rvfit.Series, *Star, func(float64) s
 	s.Indicators = []rvfit.Indicator{sIdx, fwhm, bis}
 	var star *Star
 	if rng.Float64() < 0.5 {
-		// What an observer knows: a colour that goes with the radius.
-		bv := 0.6 + 0.3*(1.2-rsun)/0.5
-		if rsun < 0.6 {
-			bv = 1.4
-		}
+		// What an observer knows: the colour.
 		star = &Star{Name: s.Name, BV: bv}
 	}
 	if rng.Float64() < 0.4 {
@@ -291,6 +301,36 @@ func ffGenerate(seed uint64, kind ffKind) (*rvfit.Series, *Star, func(float64) s
 	return s, star, truth, nil
 }
 
+// ffMeanS returns the Mount Wilson S-index of a star of colour bv whose
+// log R'HK the relation of Noyes et al. (1984) maps onto the rotation
+// period prot (RotationNoyes, decreasing in log R'HK), both found by
+// bisection. Before, every FF' star had S = 0.2 whatever its rotation,
+// and the relations' estimate of an FF' star's rotation was wrong by
+// construction.
+func ffMeanS(bv, prot float64) float64 {
+	lo, hi := -6.5, -3.0
+	for range 60 {
+		mid := 0.5 * (lo + hi)
+		if RotationNoyes(mid, bv) > prot {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	lrhk := 0.5 * (lo + hi)
+	sLo, sHi := 1e-3, 50.0
+	for range 60 {
+		mid := 0.5 * (sLo + sHi)
+		v, _, err := indicators.LogRPrimeHK(mid, 0, indicators.RHKOptions{BV: bv, Extrapolate: true})
+		if err != nil || v < lrhk {
+			sLo = mid
+		} else {
+			sHi = mid
+		}
+	}
+	return 0.5 * (sLo + sHi)
+}
+
 func sortFloats(v []float64) {
 	for i := 1; i < len(v); i++ {
 		for j := i; j > 0 && v[j] < v[j-1]; j-- {
@@ -317,5 +357,24 @@ func ffCases() []CalibrationCase {
 		mk("FF' activity only", ffActivity),
 		mk("FF' planets around active stars", ffPlanets),
 		mk("FF' planet at P_rot or P_rot/2", ffAtRotation),
+	}
+}
+
+// TestFFMeanSFollowsRotation checks the FF' stars' mean S-index: turned
+// into log R'HK and through the relation of Noyes et al. (1984), it gives
+// back the rotation it was drawn for.
+func TestFFMeanSFollowsRotation(t *testing.T) {
+	for _, bv := range []float64{0.6, 0.75, 0.9, 1.4} {
+		for _, p := range []float64{2, 10, 30, 150} {
+			s := ffMeanS(bv, p)
+			lr, _, err := indicators.LogRPrimeHK(s, 0, indicators.RHKOptions{BV: bv, Extrapolate: true})
+			if err != nil {
+				t.Fatalf("B−V %.2f, P_rot %g d: S = %.4g: %v", bv, p, s, err)
+			}
+			if got := RotationNoyes(lr, bv); math.Abs(got/p-1) > 0.01 {
+				t.Errorf("B−V %.2f, P_rot %g d: S = %.4g, log R'HK = %.3f gives back %.4g d", bv, p, s, lr, got)
+			}
+			t.Logf("B−V %.2f  P_rot %5g d  S = %.4f  log R'HK = %.3f", bv, p, s, lr)
+		}
 	}
 }
