@@ -891,9 +891,9 @@ func (tr *trial) multiComparison(prot, perr float64) (without, with *GPActivityF
 }
 
 // heldAwayLn is the half-width in ln P of the windows about the signal's
-// period, its double and its half (and their 1-day aliases, signalWindows)
-// where a GP period counts as sitting on the signal: a rotation kernel
-// there has a mode that can model it.
+// period, its double and its half (and about the signal's 1-day aliases,
+// signalWindows) where a GP period counts as sitting on the signal: a
+// rotation kernel there has a mode that can model it.
 const heldAwayLn = 0.25
 
 // signalWindows returns the periods about which a rotation kernel's period
@@ -1063,10 +1063,9 @@ func aliasNote(p, f float64) string {
 
 // onSignalFit fits m alone (no sinusoid) with the GP's period held within
 // heldAwayLn of one of the signal's windows (signalWindows), inside m's
-// period range, and returns
-// the best fit; alt, a fit of the same model with a free period, counts
-// when its period falls in a window. ok is false when no window meets the
-// range or no fit converged.
+// period range, and returns the best fit; alt, a fit of the same model
+// with a free period, counts when its period falls in a window. ok is
+// false when no window meets the range or no fit converged.
 func onSignalFit(m *gpModel, f float64, alt gpResult) gpResult {
 	best := gpResult{lnL: math.Inf(-1)}
 	for _, c := range signalWindows(f) {
