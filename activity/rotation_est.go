@@ -954,13 +954,14 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 	}
 	both := -2 * (r1.lnL - held.lnL)
 	away := "held away from it, its double, its half and its 1-day aliases"
-	what := fmt.Sprintf("no rotation period is known and a GP with a free period settles on the signal (%.3g d%s); a Keplerian at the period with the GP %s", r0.period, aliasNote(r0.period, tr.f), away)
+	note := aliasNote(r0.period, tr.f)
+	what := fmt.Sprintf("no rotation period is known and a GP with a free period settles on the signal (%.3g d%s); a Keplerian at the period with the GP %s", r0.period, note, away)
 	switch {
 	case atBound && settled:
 		// The end of the GP's period range lies on the signal's period.
-		what = fmt.Sprintf("no rotation period is known and a GP with a free period runs to the end of its range, on the signal's period (%.3g d%s); a Keplerian at the period with the GP %s", r0.period, aliasNote(r0.period, tr.f), away)
+		what = fmt.Sprintf("no rotation period is known and a GP with a free period runs to the end of its range, on the signal's period (%.3g d%s); a Keplerian at the period with the GP %s", r0.period, note, away)
 	case atBound:
-		what = fmt.Sprintf("no rotation period is known and a GP with a free period finds none; held on the signal (%.3g d%s) it models it, but a Keplerian at the period with the GP %s", r0.period, aliasNote(r0.period, tr.f), away)
+		what = fmt.Sprintf("no rotation period is known and a GP with a free period finds none; held on the signal (%.3g d%s) it models it, but a Keplerian at the period with the GP %s", r0.period, note, away)
 	}
 	switch {
 	case onSignal(r1.period, tr.f) && both <= -10:
@@ -1050,15 +1051,15 @@ func onSignal(p, f float64) bool {
 // aliasNote returns, for a kernel period p on the signal of frequency f
 // only by the signal's 1-day alias, the words that say so; else "".
 func aliasNote(p, f float64) string {
-	for _, c := range signalWindows(f)[:3] {
+	for i, c := range signalWindows(f) {
 		if math.Abs(math.Log(p/c)) < heldAwayLn {
-			return ""
+			if i < 3 { // the period, its double or its half
+				return ""
+			}
+			return ", by the 1-day alias of the period"
 		}
 	}
-	if !onSignal(p, f) {
-		return ""
-	}
-	return ", by the 1-day alias of the period"
+	return ""
 }
 
 // onSignalFit fits m alone (no sinusoid) with the GP's period held within
