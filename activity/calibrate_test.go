@@ -216,7 +216,7 @@ func TestCalibrationSmoke(t *testing.T) {
 			continue
 		}
 		blocked++
-		if !slices.Contains([]string{CaveatRelative, CaveatAlias, CaveatRotation, CaveatCycle, CaveatBaseline, CaveatSignificance}, p.Kind) {
+		if !slices.Contains([]string{CaveatRelative, CaveatAlias, CaveatRotation, CaveatCycle, CaveatBaseline, CaveatSignificance, CaveatYear}, p.Kind) {
 			t.Errorf("a %s signal has a caveat of kind %q, not one of the Caveat… kinds", p.Truth, p.Kind)
 		}
 	}

@@ -30,7 +30,7 @@ func TestProbabilityByCaveatKind(t *testing.T) {
 	}
 	// Where the data cannot tell a planet from activity (a rotation
 	// harmonic, the cycle, beyond the baseline), no more than even odds.
-	for _, k := range []string{CaveatRotation, CaveatCycle, CaveatBaseline, CaveatSignificance} {
+	for _, k := range []string{CaveatRotation, CaveatCycle, CaveatBaseline, CaveatSignificance, CaveatYear} {
 		if got, want := c.of(true, k, s), defaultCalibration[""].of(0); got != want || got > 0.6 {
 			t.Errorf("a %s caveat at score %g: %.3f, want the uncaveated mapping at 0, %.3f, at most even odds", k, s, got, want)
 		}

@@ -57,6 +57,49 @@ const (
 	yearFreq     = 1 / 365.25
 )
 
+// nearYear reports whether a signal of frequency f (c/d), measured at
+// snr = K/σ_K over data spanning T days with red-noise factor beta, is
+// consistent with one cycle per year: within twice its frequency's error,
+//
+//	σ_f = √3 β / (π T snr)
+//
+// (a sinusoid's frequency error, σ_f = √(6/N) σ/(π T A) with σ_A = σ √(2/N);
+// Montgomery & O'Donoghue 1999, from memory), and never more than one
+// resolution element, 1/T. A yearly systematic's period is exact, so the
+// signal's own precision decides. Instruments' systematics follow the
+// Earth's orbit: the barycentric correction moves the spectrum across the
+// detector over the year (HARPS's CCD stitching gives a spurious one-year
+// signal in some stars; Dumusque et al. 2015, ApJ 808, 171, from memory),
+// and telluric lines drift through the stellar ones with it. Such a signal
+// repeats as steadily as an orbit, so nothing in one instrument's RVs
+// tells it from a planet. Only signals up to yearRVMax count: such
+// systematics are metres per second, not tens.
+func nearYear(f, T, snr, beta float64) bool {
+	if !(T > 0) {
+		return false
+	}
+	if !(beta >= 1) { // unknown, or below 1: white noise
+		beta = 1
+	}
+	tol := 1 / T
+	if snr > 0 {
+		tol = math.Min(tol, 2*math.Sqrt(3)*beta/(math.Pi*T*snr))
+	}
+	return math.Abs(f-yearFreq) <= tol
+}
+
+// yearRVMax is the largest RV semi-amplitude an instrument's yearly
+// systematic is taken to reach: HARPS's stitching signal is a few m/s
+// (Dumusque et al. 2015, from memory), and telluric lines in red spectra
+// of M dwarfs can shift RVs by several m/s; 20 m/s leaves a wide margin.
+const yearRVMax = 20.0
+
+// yearCaveat is the caveat of a signal of period p (days) near one year,
+// in data spanning T days.
+func yearCaveat(p, T float64) string {
+	return fmt.Sprintf("its period, %.4g d, is within the resolution of the data (1/%.4g d) of one year, where instruments' systematics that follow the Earth's orbit (the spectrum moving across the detector with the barycentric correction, telluric lines) repeat as steadily as an orbit; RVs of the star from another instrument, or of other stars from this one, can tell", p, T)
+}
+
 type harmonic struct {
 	label string
 	freq  float64
