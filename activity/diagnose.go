@@ -354,7 +354,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		}
 		if (sig.Caveat == "" || sig.Caveat == noCycleIndicatorCaveat) && nearYear(sg.freq, d.T, amp/ampErr, jointBeta[k]) && !(amp > yearRVMax) {
 			sig.CaveatKind = CaveatYear
-			sig.Caveat = yearCaveat(1/sg.freq, d.T)
+			sig.Caveat = yearCaveat(sg.freq, yearWindow(d.T, amp/ampErr, jointBeta[k]))
 		}
 		Score(&sig, &o)
 		diag.Signals = append(diag.Signals, sig)

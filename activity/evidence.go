@@ -75,8 +75,15 @@ const (
 // tells it from a planet. Only signals up to yearRVMax count: such
 // systematics are metres per second, not tens.
 func nearYear(f, T, snr, beta float64) bool {
+	tol := yearWindow(T, snr, beta)
+	return tol > 0 && math.Abs(f-yearFreq) <= tol
+}
+
+// yearWindow is nearYear's half-width in frequency (c/d): twice σ_f, one
+// resolution element at most (0 without a span).
+func yearWindow(T, snr, beta float64) float64 {
 	if !(T > 0) {
-		return false
+		return 0
 	}
 	if !(beta >= 1) { // unknown, or below 1: white noise
 		beta = 1
@@ -85,7 +92,7 @@ func nearYear(f, T, snr, beta float64) bool {
 	if snr > 0 {
 		tol = math.Min(tol, 2*math.Sqrt(3)*beta/(math.Pi*T*snr))
 	}
-	return math.Abs(f-yearFreq) <= tol
+	return tol
 }
 
 // yearRVMax is the largest RV semi-amplitude an instrument's yearly
@@ -94,10 +101,10 @@ func nearYear(f, T, snr, beta float64) bool {
 // of M dwarfs can shift RVs by several m/s; 20 m/s leaves a wide margin.
 const yearRVMax = 20.0
 
-// yearCaveat is the caveat of a signal of period p (days) near one year,
-// in data spanning T days.
-func yearCaveat(p, T float64) string {
-	return fmt.Sprintf("its period, %.4g d, is within the resolution of the data (1/%.4g d) of one year, where instruments' systematics that follow the Earth's orbit (the spectrum moving across the detector with the barycentric correction, telluric lines) repeat as steadily as an orbit; RVs of the star from another instrument, or of other stars from this one, can tell", p, T)
+// yearCaveat is the caveat of a signal of frequency f (c/d) near one year,
+// with tol the window's half-width (yearWindow).
+func yearCaveat(f, tol float64) string {
+	return fmt.Sprintf("its period, %.4g d, is one year within its precision (its frequency %.2g c/d from one cycle per year, where twice its error allows %.2g), and instruments' systematics that follow the Earth's orbit (the spectrum moving across the detector with the barycentric correction, telluric lines) repeat there as steadily as an orbit; RVs of the star from another instrument, or of other stars from this one, can tell", 1/f, math.Abs(f-yearFreq), tol)
 }
 
 type harmonic struct {

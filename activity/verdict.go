@@ -38,7 +38,7 @@ const (
 	CaveatCycle        = "cycle"        // at the magnetic cycle, or long with no indicator that follows a cycle
 	CaveatBaseline     = "baseline"     // longer than the data span
 	CaveatSignificance = "significance" // not significant once correlated noise is allowed for
-	CaveatYear         = "year"         // within the resolution of one year, where instruments' systematics repeat
+	CaveatYear         = "year"         // one year within its precision, where instruments' systematics repeat
 )
 
 // Caution is the sentence every verdict output carries.

@@ -3,6 +3,7 @@ package activity
 import (
 	"context"
 	"math"
+	"strings"
 	"testing"
 )
 
@@ -26,7 +27,8 @@ func TestNearYear(t *testing.T) {
 		{340, 6000, 2, 1, false},   // 9.2e-5
 		{340, 2000, 0.5, 1, true},  // 1.1e-3, capped at 1/T = 5e-4
 		{300, 2000, 0.5, 1, false}, // 6.0e-4 away: beyond the cap
-		// Unknown precision or red noise: the resolution, 1/T.
+		// Unknown precision: the resolution, 1/T; an unknown red-noise
+		// factor counts as 1 (white noise).
 		{340, 2000, nan, 1, true}, {340, 2000, 10, nan, false},
 		// One season (120 d): a strong 94 d signal is not a yearly one.
 		{94, 120, 20, 1, false},
@@ -57,7 +59,7 @@ func TestNearYear(t *testing.T) {
 			t.Fatal(err)
 		}
 		sg := dg.Signals[0]
-		if got := sg.CaveatKind == CaveatYear; got != c.wantYear {
+		if got := sg.CaveatKind == CaveatYear; got != c.wantYear || got && !strings.Contains(sg.Caveat, "one year within its precision") {
 			t.Errorf("%s: caveat %q (%s), want the year's: %v\n%s", c.name, sg.Caveat, sg.CaveatKind, c.wantYear, dump(sg))
 		}
 		if c.wantYear && !(sg.Score < 0) {
