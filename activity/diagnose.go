@@ -352,9 +352,9 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 			sig.CaveatKind = CaveatBaseline
 			sig.Caveat = fmt.Sprintf("its period, %.4g d, is longer than the %.4g d the data span: they do not cover one cycle, and a companion on a wider orbit, a magnetic cycle or an instrument's drift would trace the same arc", 1/sg.freq, d.T)
 		}
-		if (sig.Caveat == "" || sig.Caveat == noCycleIndicatorCaveat) && nearYear(sg.freq, d.T, amp/ampErr, jointBeta[k]) && !(amp > yearRVMax) {
+		if near, tol := nearYear(sg.freq, d.T, amp/ampErr, jointBeta[k]); near && !(amp > yearRVMax) && (sig.Caveat == "" || sig.Caveat == noCycleIndicatorCaveat) {
 			sig.CaveatKind = CaveatYear
-			sig.Caveat = yearCaveat(sg.freq, yearWindow(d.T, amp/ampErr, jointBeta[k]))
+			sig.Caveat = yearCaveat(sg.freq, tol)
 		}
 		Score(&sig, &o)
 		diag.Signals = append(diag.Signals, sig)

@@ -72,27 +72,23 @@ const (
 // signal in some stars; Dumusque et al. 2015, ApJ 808, 171, from memory),
 // and telluric lines drift through the stellar ones with it. Such a signal
 // repeats as steadily as an orbit, so nothing in one instrument's RVs
-// tells it from a planet. Only signals up to yearRVMax count: such
-// systematics are metres per second, not tens.
-func nearYear(f, T, snr, beta float64) bool {
-	tol := yearWindow(T, snr, beta)
-	return tol > 0 && math.Abs(f-yearFreq) <= tol
-}
-
-// yearWindow is nearYear's half-width in frequency (c/d): twice σ_f, one
-// resolution element at most (0 without a span).
-func yearWindow(T, snr, beta float64) float64 {
+// tells it from a planet. (The caveat also needs an amplitude up to
+// yearRVMax: such systematics are metres per second, not tens.)
+//
+// tol is the window's half-width in frequency (c/d), for the caveat's
+// text.
+func nearYear(f, T, snr, beta float64) (ok bool, tol float64) {
 	if !(T > 0) {
-		return 0
+		return false, 0
 	}
 	if !(beta >= 1) { // unknown, or below 1: white noise
 		beta = 1
 	}
-	tol := 1 / T
+	tol = 1 / T
 	if snr > 0 {
 		tol = math.Min(tol, 2*math.Sqrt(3)*beta/(math.Pi*T*snr))
 	}
-	return tol
+	return math.Abs(f-yearFreq) <= tol, tol
 }
 
 // yearRVMax is the largest RV semi-amplitude an instrument's yearly
@@ -102,7 +98,7 @@ func yearWindow(T, snr, beta float64) float64 {
 const yearRVMax = 20.0
 
 // yearCaveat is the caveat of a signal of frequency f (c/d) near one year,
-// with tol the window's half-width (yearWindow).
+// with tol the window's half-width (nearYear).
 func yearCaveat(f, tol float64) string {
 	return fmt.Sprintf("its period, %.4g d, is one year within its precision (its frequency %.2g c/d from one cycle per year, where twice its error allows %.2g), and instruments' systematics that follow the Earth's orbit (the spectrum moving across the detector with the barycentric correction, telluric lines) repeat there as steadily as an orbit; RVs of the star from another instrument, or of other stars from this one, can tell", 1/f, math.Abs(f-yearFreq), tol)
 }

@@ -37,7 +37,7 @@ func TestNearYear(t *testing.T) {
 		// No span, no resolution.
 		{365.25, 0, 10, 1, false},
 	} {
-		if got := nearYear(1/c.p, c.T, c.snr, c.beta); got != c.want {
+		if got, _ := nearYear(1/c.p, c.T, c.snr, c.beta); got != c.want {
 			t.Errorf("nearYear(1/%g d, T = %g d, snr %g, β %g) = %v, want %v", c.p, c.T, c.snr, c.beta, got, c.want)
 		}
 	}
