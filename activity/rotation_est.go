@@ -1039,27 +1039,26 @@ func heldAwayFit(m *gpModel, f float64, alt gpResult) gpResult {
 // onSignal reports whether a rotation kernel of period p has a mode on a
 // signal of frequency f: p within heldAwayLn (in ln P) of one of the
 // signal's windows (signalWindows).
-func onSignal(p, f float64) bool {
-	for _, c := range signalWindows(f) {
-		if math.Abs(math.Log(p/c)) < heldAwayLn {
-			return true
-		}
-	}
-	return false
-}
+func onSignal(p, f float64) bool { return signalWindow(p, f) >= 0 }
 
 // aliasNote returns, for a kernel period p on the signal of frequency f
 // only by the signal's 1-day alias, the words that say so; else "".
 func aliasNote(p, f float64) string {
-	for i, c := range signalWindows(f) {
-		if math.Abs(math.Log(p/c)) < heldAwayLn {
-			if i < 3 { // the period, its double or its half
-				return ""
-			}
-			return ", by the 1-day alias of the period"
-		}
+	if signalWindow(p, f) >= 3 { // past the period, its double and its half
+		return ", by the 1-day alias of the period"
 	}
 	return ""
+}
+
+// signalWindow returns the index in signalWindows(f) of the first window
+// within heldAwayLn (in ln P) of the kernel period p, or −1.
+func signalWindow(p, f float64) int {
+	for i, c := range signalWindows(f) {
+		if math.Abs(math.Log(p/c)) < heldAwayLn {
+			return i
+		}
+	}
+	return -1
 }
 
 // onSignalFit fits m alone (no sinusoid) with the GP's period held within
