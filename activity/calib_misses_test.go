@@ -58,6 +58,9 @@ func TestCalibrationMisses(t *testing.T) {
 	}
 	if only == "" || only == "ff" {
 		for _, cs := range ffCases() {
+			if c := os.Getenv("SPOTSIFT_CALIBRATION_MISSES_CASE"); c != "" && !strings.Contains(cs.Name, c) {
+				continue
+			}
 			for s := first; s < first+2*n; s++ {
 				items = append(items, item{cs, uint64(s)})
 			}
@@ -126,9 +129,9 @@ func TestCalibrationMisses(t *testing.T) {
 					if miss {
 						tag = "MISS"
 					}
-					fmt.Fprintf(&b, "%s %s seed %d: P = %.4g d (truth %s) %s score %+.3f FAP %.2g FAPcorr %.2g K = %.2f ± %.2f caveat %q; rotation %.4g ± %.2g (%s) hyps %d; source %s; coverage %.3f; P(planet) %s\n",
+					fmt.Fprintf(&b, "%s %s seed %d: P = %.4g d (truth %s) %s score %+.3f FAP %.2g FAPcorr %.2g K = %.2f ± %.2f caveat %q; rotation %.4g ± %.2g (%s) hyps %d; source %s; coverage %.3f; P(planet) %s; T = %.0f d\n",
 						tag, it.cs.Name, it.seed, float64(sg.Period), tr, sg.Verdict, sg.Score, float64(sg.FAP), float64(sg.FAPCorrelated), float64(sg.Amplitude), float64(sg.AmplitudeErr), sg.Caveat,
-						float64(dg.Rotation.Period), float64(dg.Rotation.Err), dg.Rotation.Source, len(dg.Rotation.Hypotheses), sg.Source, sg.Coverage, fmtProb(float64(sg.Probability)))
+						float64(dg.Rotation.Period), float64(dg.Rotation.Err), dg.Rotation.Source, len(dg.Rotation.Hypotheses), sg.Source, sg.Coverage, fmtProb(float64(sg.Probability)), float64(dg.Baseline))
 					if miss || os.Getenv("SPOTSIFT_CALIBRATION_MISSES") == "all" {
 						for _, e := range sg.Evidence {
 							fmt.Fprintf(&b, "      %-30s %+6.3f %-8s %s\n", e.Name, e.Weight, e.Points, e.Reason)
