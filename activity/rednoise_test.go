@@ -12,7 +12,7 @@ import (
 
 // seasonSeries returns seasons of 150 nights (a share keep of them
 // observed, one RV a night with 1.5 m/s errors) of the RVs rv(t) beside a
-// flat S-index, the data of the red-noise tests.
+// flat S-index: the data of TestRedNoiseDrifts.
 func seasonSeries(seed uint64, seasons int, keep float64, rv func(float64) float64) *rvfit.Series {
 	rng := rand.New(rand.NewPCG(seed, 7))
 	s := &rvfit.Series{Name: fmt.Sprintf("seasons %d", seed)}
