@@ -38,6 +38,8 @@ func TestKernelValues(t *testing.T) {
 		{"SHO Q=1/2", SHO{1.5, 0.9, 0.5}, 1.7, 0.5 * 1.5 * 0.9 * math.Exp(-0.9*1.7) * (1 + 0.9*1.7), 1e-14},
 		// Matérn-3/2 closed form (Rasmussen & Williams 2006, eq. 4.17).
 		{"Matern32", Matern32{2, 3}, 1.5, 4 * (1 + math.Sqrt(3)*0.5) * math.Exp(-math.Sqrt(3)*0.5), 1e-14},
+		// Exponential (Matérn-1/2) closed form, σ² e^(−|τ|/τ₀).
+		{"Exponential", Exponential{2, 3}, -1.5, 4 * math.Exp(-0.5), 1e-15},
 		{"White off zero lag", White{2}, 0, 0, 0},
 		{"RotationSHO k(0)=amp^2", RotationSHO{Amp: 1.7, Period: 11, Quality: 1.3, QualityGap: 4, Mix: 0.6}, 0, 1.7 * 1.7, 1e-13},
 	} {
@@ -150,7 +152,7 @@ func TestRotationSHOFrequencies(t *testing.T) {
 
 func TestParamsRoundTrip(t *testing.T) {
 	for _, k := range []Kernel{
-		QuasiPeriodic{1, 2, 3, 4}, Matern32{1, 2}, SHO{1, 2, 3}, RotationTerm{1, 2, 3, 4},
+		QuasiPeriodic{1, 2, 3, 4}, Matern32{1, 2}, SHO{1, 2, 3}, RotationTerm{1, 2, 3, 4}, Exponential{1, 2},
 		RotationSHO{1, 2, 3, 4, 5}, White{1}, Sum{QuasiPeriodic{1, 2, 3, 4}, White{5}},
 	} {
 		p := k.Params(nil)
@@ -180,6 +182,7 @@ func TestBadParams(t *testing.T) {
 		{"QP negative period", QuasiPeriodic{1, 2, -3, 4}},
 		{"QP NaN", QuasiPeriodic{math.NaN(), 2, 3, 4}},
 		{"Matern Inf", Matern32{1, math.Inf(1)}},
+		{"Exponential Tau=0", Exponential{1, 0}},
 		{"SHO Q=0", SHO{1, 1, 0}},
 		{"RotationTerm L<0", RotationTerm{1, 0, -1, 2}},
 		{"RotationTerm C<0", RotationTerm{1, -0.5, 1, 2}},
@@ -213,6 +216,7 @@ func TestKernelMatricesPD(t *testing.T) {
 		for _, k := range []Kernel{
 			QuasiPeriodic{u(0.1, 10), u(1, 200), u(1, 60), u(0.2, 3)},
 			Matern32{u(0.1, 10), u(0.1, 100)},
+			Exponential{u(0.1, 10), u(0.1, 1000)},
 			SHO{u(0.1, 10), u(0.05, 5), u(0.1, 20)},
 			RotationTerm{u(0.1, 10), u(0.01, 5), u(1, 100), u(1, 60)},
 			RotationSHO{u(0.1, 10), u(1, 60), u(0.1, 5), u(0.01, 10), u(0.01, 2)},

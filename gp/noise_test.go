@@ -36,6 +36,7 @@ func TestLogLikelihoodGrad(t *testing.T) {
 	}{
 		{"QP", Noise{Kernel: QuasiPeriodic{2, 30, 11, 0.9}, Jitter: []float64{0.5, 1.2}}, false},
 		{"Matern+White", Noise{Kernel: Sum{Matern32{1.5, 7}, White{0.4}}, Jitter: []float64{0.5, 0.8}}, false},
+		{"Exponential+QP", Noise{Kernel: Sum{Exponential{1.3, 40}, QuasiPeriodic{1, 60, 23, 1.1}}, Jitter: []float64{0.5, 0.8}}, false},
 		{"RotationTerm+QP", Noise{Kernel: Sum{RotationTerm{2, 0.4, 25, 9}, QuasiPeriodic{1, 60, 23, 1.1}}, Jitter: []float64{0.2, 0.3}}, false},
 		// No analytic gradients: finite differences of Cov inside.
 		{"SHO+White (numeric)", Noise{Kernel: Sum{SHO{2, 0.9, 2.5}, White{0.3}}, Jitter: []float64{0.5, 0.8}}, false},

@@ -64,6 +64,7 @@ func TestSemisepMatchesDense(t *testing.T) {
 		{"short scales", Sum{SHO{1, 200, 5}, RotationTerm{0.5, 0.2, 0.01, 0.05}}},
 		{"long scales", Sum{SHO{1e-6, 1e-3, 0.6}, RotationTerm{3, 1, 1e5, 4e4}}},
 		{"with White", Sum{RotationTerm{1, 0.5, 30, 11}, White{0.4}}},
+		{"RotationSHO+Exponential", Sum{RotationSHO{2, 13, 0.8, 6, 0.5}, Exponential{3, 900}}},
 	}
 	for _, n := range sizes {
 		ts := make([]float64, n)
