@@ -141,6 +141,13 @@ type data struct {
 	// ecc are the signals the blind search models as eccentric orbits
 	// (eccentricSearch); fitRV gives each its shape.
 	ecc []eccSignal
+	// comps holds each signal's fitted curve at the epochs (the joint
+	// fit's), freqs its frequency, and orbitLike whether the signal has been found to need a
+	// Keplerian even against red noise (redNoiseCheck), so that later
+	// signals are judged with it taken out as an orbit.
+	comps     [][]float64
+	freqs     []float64
+	orbitLike []bool
 }
 
 // Diagnose judges every signal of a star's time series: does it track the
@@ -255,6 +262,14 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 			sigs[k].fapCorr = fap(jointPow[k] / math.Max(1, jointBeta[k]*jointBeta[k]))
 		}
 	}
+	d.comps, d.orbitLike, d.freqs = make([][]float64, len(sigs)), make([]bool, len(sigs)), make([]float64, len(sigs))
+	for k, sg := range sigs {
+		d.freqs[k] = sg.freq
+		d.comps[k] = make([]float64, len(d.t))
+		for i, ti := range d.t {
+			d.comps[k][i] = all.component(k, ti)
+		}
+	}
 	for k, sg := range sigs {
 		if err := ctx.Err(); err != nil {
 			return nil, err
@@ -263,14 +278,14 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 		// signal's fitted curve (a sinusoid, or an eccentric orbit's).
 		own := make([]float64, len(d.t))
 		comp := make([]float64, len(d.t))
-		for i, ti := range d.t {
+		for i := range d.t {
 			own[i] = d.rv[i] - all.Offset[d.inst[i]]
 			for j := range freqs {
 				if j != k {
-					own[i] -= all.component(j, ti)
+					own[i] -= d.comps[j][i]
 				}
 			}
-			comp[i] = all.component(k, ti)
+			comp[i] = d.comps[k][i]
 		}
 		amp, ampErr := all.amplitude(k)
 		sig := Signal{Period: Num(1 / sg.freq), Freq: Num(sg.freq), Source: sg.source, Power: Num(sg.power), FAP: Num(sg.fap),
@@ -292,7 +307,7 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 				phase = fund.phase(0)
 			}
 		}
-		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: phase, shape: all.shape(k), rot: diag.Rotation, beta: jointBeta[k], rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
+		tr := &trial{d: d, f: sg.freq, own: own, comp: comp, amp: amp, ampErr: ampErr, phase: phase, shape: all.shape(k), rot: diag.Rotation, beta: jointBeta[k], k: k, rng: rand.New(rand.NewPCG(o.Seed, uint64(k+1)))}
 		tr.run(&sig)
 		// With the activity modelled by the GP of the model comparison,
 		// the aliases are weighed again, and that answer replaces the
@@ -587,6 +602,7 @@ type trial struct {
 	d      *data
 	f      float64
 	own    []float64 // the signal's own data (offsets and other signals removed)
+	k      int       // the signal's index in d.comps
 	comp   []float64 // the fitted curve at each epoch (sinusoid or eccentric orbit)
 	amp    float64
 	ampErr float64

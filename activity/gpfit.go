@@ -39,6 +39,13 @@ type gpModel struct {
 	pLo, pHi        float64
 	lnPMu, lnPSigma float64 // lnPSigma = 0: log-uniform on [pLo, pHi]
 	scale           float64 // a typical amplitude of y, for the bounds
+	// redNoise, when true, adds to the rotation kernel a red-noise term
+	// (gp.Exponential: a damped random walk of free amplitude and time
+	// scale, from the longest rotation period of the model to ten data
+	// spans), with its two parameters after the jitters: variation slower
+	// than rotation with no period at all, such as slow drifts of the star
+	// or the instrument (see redNoiseCheck).
+	redNoise bool
 	// ctx, when not nil, stops the fits soon after it is cancelled.
 	ctx context.Context
 }
@@ -60,7 +67,21 @@ type gpResult struct {
 // gap, weight of the P/2 mode, then one jitter per instrument.
 const gpKernelParams = 5
 
-func (m *gpModel) nParams() int { return gpKernelParams + m.ninst }
+func (m *gpModel) nParams() int {
+	if m.redNoise {
+		return gpKernelParams + m.ninst + 2
+	}
+	return gpKernelParams + m.ninst
+}
+
+// span returns the time the data cover (days).
+func (m *gpModel) span() float64 {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, ti := range m.t {
+		lo, hi = math.Min(lo, ti), math.Max(hi, ti)
+	}
+	return math.Max(hi-lo, 1)
+}
 
 // space returns the parameters with their transforms; the bounds are the
 // supports of the priors of lnPrior.
@@ -76,6 +97,11 @@ func (m *gpModel) space() mapfit.Space {
 	for k := 0; k < m.ninst; k++ {
 		s = append(s, mapfit.Param{Name: "jitter", Kind: mapfit.Bounded, Lo: 0, Hi: 10 * sc})
 	}
+	if m.redNoise {
+		s = append(s,
+			mapfit.Param{Name: "rn_amp", Kind: mapfit.LogBounded, Lo: 1e-3 * sc, Hi: 20 * sc},
+			mapfit.Param{Name: "rn_tau", Kind: mapfit.LogBounded, Lo: m.rnTauLo(), Hi: math.Max(10*m.span(), 2*m.rnTauLo())})
+	}
 	return s
 }
 
@@ -83,6 +109,10 @@ func (m *gpModel) space() mapfit.Space {
 func (m *gpModel) noise(theta []float64) *gp.Noise {
 	k := gp.RotationSHO{Amp: theta[0], Period: theta[1], Quality: theta[2], QualityGap: theta[3], Mix: theta[4]}
 	jit := append([]float64(nil), theta[gpKernelParams:gpKernelParams+m.ninst]...)
+	if m.redNoise {
+		rn := theta[gpKernelParams+m.ninst:]
+		return &gp.Noise{Kernel: gp.Sum{k, gp.Exponential{Sigma: rn[0], Tau: rn[1]}}, Jitter: jit}
+	}
 	return &gp.Noise{Kernel: k, Jitter: jit}
 }
 
@@ -215,6 +245,11 @@ func glsSolved(kx, cols [][]float64, y []float64, wantCov bool) (beta []float64,
 // in ln P (density in P).
 func (m *gpModel) lnPrior(theta []float64) float64 {
 	lp := -math.Log(theta[0]) - math.Log(theta[2]) - math.Log(theta[3])
+	if m.redNoise {
+		// Log-uniform in the red noise's amplitude and time scale.
+		rn := theta[gpKernelParams+m.ninst:]
+		lp -= math.Log(rn[0]) + math.Log(rn[1])
+	}
 	lnP := math.Log(theta[1])
 	lp -= lnP
 	if m.lnPSigma > 0 {
@@ -278,6 +313,9 @@ func (m *gpModel) start(p float64) []float64 {
 	th := []float64{m.scale, p, 1, 2, 0.5}
 	for k := 0; k < m.ninst; k++ {
 		th = append(th, 0.3*m.scale)
+	}
+	if m.redNoise {
+		th = append(th, 0.3*m.scale, m.span()/3)
 	}
 	for i, q := range sp {
 		if q.Kind == mapfit.Bounded || q.Kind == mapfit.LogBounded {
@@ -1083,3 +1121,9 @@ func constInts(n, v int) []int {
 	}
 	return out
 }
+
+// rnTauLo is the shortest time scale of the red-noise term: the longest
+// rotation period the model's rotation kernel may take, so that the term
+// stands for variation slower than any rotation and never for white noise
+// or for the rotation itself.
+func (m *gpModel) rnTauLo() float64 { return math.Max(1, m.pHi) }
