@@ -744,9 +744,23 @@ func (tr *trial) modelComparison() {
 		atP = onSignalFit(m, tr.f, r0)
 	}
 	atBound := free && r0.ok && (r0.period < 1.05*m.pLo || r0.period > 0.95*m.pHi)
-	if atBound && !atP.ok {
-		// A free GP whose period runs to a bound found no rotation to
-		// model: the comparison would be against white noise.
+	// slowBound: the signal lies beyond every period the rotation kernel
+	// may take (its half too, so no fit held on it exists), and the free
+	// GP ran to the longest of them. There the kernel's low-frequency
+	// plateau (below its period's frequency the power of a damped
+	// oscillator is flat) is a model of slow red noise: the activity's
+	// best account of a slow signal when no rotation is known, and the
+	// comparison with and without the Keplerian asks whether the signal
+	// is smoother and steadier than that noise. Its plateau is short of
+	// a random walk's rising power, so a pull toward a planet is checked
+	// again with a damped random walk beside it (redNoiseCheck). The path
+	// needs an activity indicator beside the RVs: a magnetic cycle is as
+	// smooth as an orbit, and only an indicator can show one (the
+	// indicator tests weigh it).
+	slowBound := atBound && !atP.ok && r0.period > 0.95*m.pHi && 1/tr.f > 2*m.pHi && len(d.s.Indicators) > 0
+	if atBound && !atP.ok && !slowBound {
+		// A free GP whose period runs to its lower bound found no
+		// rotation to model: the comparison would be against white noise.
 		tr.skipped("model_comparison", fmt.Sprintf("no rotation period is known and a GP with a free period found none (it ran to %.3g d, a bound)", r0.period))
 		return
 	}
@@ -776,7 +790,10 @@ func (tr *trial) modelComparison() {
 		return
 	}
 	gpWhat := "P_rot"
-	if free {
+	switch {
+	case slowBound:
+		gpWhat = fmt.Sprintf("a free period (no rotation period known; it runs to its longest, %.3g d, and models the slow variations as red noise)", m.pHi)
+	case free:
 		gpWhat = "a free period (no rotation period known)"
 	}
 	// A free GP that settled on the signal, or found nothing, makes the
@@ -867,6 +884,9 @@ func (tr *trial) modelComparison() {
 	default:
 		e.Points = TowardNeither
 		e.Reason = fmt.Sprintf("with activity modelled, a Keplerian improves the fit only moderately: ΔBIC = %.1f, its amplitude %.1fσ from zero", dBIC, snr)
+	}
+	if slowBound && e.Points == TowardPlanet && d.ctx.Err() == nil {
+		tr.redNoiseCheck(&e, m, r0, r1, extra)
 	}
 	tr.add(e)
 }
@@ -987,6 +1007,96 @@ func (tr *trial) heldAwayEvidence(e *Evidence, r0, r1, held gpResult, extra floa
 			e.Reason += "; the indicators vary at the period"
 		}
 	}
+}
+
+// redNoiseCheck asks of a slow signal the model comparison pulls toward
+// a planet (slowBound: no rotation period known, the signal beyond every
+// period the rotation kernel may take) whether the Keplerian is still
+// needed when the activity model also has red noise: a damped random walk
+// (gp.Exponential) of free amplitude and time scale, from the longest
+// period the rotation kernel may take to ten data spans, beside the
+// rotation kernel, in the null model and beside the Keplerian alike. The
+// rotation kernel has nowhere to put variation slower than its coherence
+// or without a period, such as slow drifts of the star or the instrument
+// that no indicator shares; a periodogram finds their strongest Fourier
+// component, and against the rotation kernel alone it then needs a
+// Keplerian as much as an orbit does. A damped random walk has the
+// spectrum of such noise but rough paths: it cannot take a smooth periodic
+// signal, whatever its period, while it absorbs one picked out of red noise
+// (docs/methods.md §14.10). The test's pull is cut to what the evidence
+// against red noise supports, by the rule of the comparison itself (full
+// at ΔBIC ≤ −10, in proportion between −2 and −10, none above −2). The
+// check only ever lowers the pull toward a planet: red noise is not
+// activity, and a signal it explains is not thereby activity-like.
+//
+// (Run on every signal pulled toward a planet, with a known rotation too,
+// the check cost published planets whose slow companions it put back as
+// red noise; docs/methods.md §14.10, fifteenth pass.)
+func (tr *trial) redNoiseCheck(e *Evidence, m *gpModel, r0, r1 gpResult, extra float64) {
+	d := tr.d
+	if !r0.ok || !r1.ok || len(r0.theta) != m.nParams() || len(r1.theta) != m.nParams() {
+		return
+	}
+	mr := *m
+	mr.redNoise, mr.freq = true, 0
+	T := mr.span()
+	with := func(theta []float64, amp, tau float64) []float64 {
+		return append(append([]float64(nil), theta...), amp, tau)
+	}
+	sc := math.Max(m.scale, 1e-12)
+	// The other signals slower than any rotation the model allows go back
+	// into the data, except those already found to need a Keplerian
+	// against red noise: several slow peaks found one after the other in
+	// red noise are its Fourier components, and judged each with the
+	// others taken out as orbits, each looks like one. Faster signals
+	// stay out, as the comparison took them.
+	mr.y = append([]float64(nil), m.y...)
+	for j, c := range d.comps {
+		if j != tr.k && !d.orbitLike[j] && 1/d.freqs[j] > mr.rnTauLo() {
+			for i := range mr.y {
+				mr.y[i] += c[i]
+			}
+		}
+	}
+	n0 := mr.fit([][]float64{with(r0.theta, 0.3*sc, math.Max(T/3, 2*mr.rnTauLo())), with(r0.theta, 0.3*sc, math.Max(30, 1.2*mr.rnTauLo()))})
+	mr1 := mr
+	mr1.freq = tr.f
+	starts := [][]float64{with(r1.theta, 0.05*sc, math.Max(T/3, 2*mr.rnTauLo()))}
+	if n0.ok {
+		// The null's own optimum is a start too, so that the pair stays
+		// nested: the Keplerian can only add to the likelihood.
+		starts = append(starts, with(r1.theta, n0.theta[len(n0.theta)-2], n0.theta[len(n0.theta)-1]), n0.theta)
+	}
+	n1 := mr1.fit(starts)
+	if !n0.ok || !n1.ok || d.ctx.Err() != nil {
+		return
+	}
+	l0, l1 := n0.lnL, math.Max(n1.lnL, n0.lnL)
+	dBIC := -2*(l1-l0) + extra*math.Log(float64(len(d.t)))
+	K, kErr := sinusoidAmplitude(n1.beta, n1.covBeta)
+	snr := K / kErr
+	tau := n0.theta[len(n0.theta)-1]
+	what := fmt.Sprintf("against the same activity model with red noise beside it (a damped random walk, time scale %.3g d in the fit without the Keplerian)", tau)
+	frac := 1.0
+	switch {
+	case dBIC <= -10 && snr >= 3:
+		e.Reason += fmt.Sprintf("; %s the Keplerian is still needed: ΔBIC = %.1f", what, dBIC)
+		d.orbitLike[tr.k] = true
+		return
+	case dBIC < -2 && snr >= 3:
+		frac = -dBIC / 10
+	default:
+		frac = 0
+	}
+	if limit := tr.d.w.ModelComparison.Planet * frac; frac > 0 {
+		if -e.Weight > limit {
+			e.Weight = -limit
+		}
+		e.Reason += fmt.Sprintf("; but %s the Keplerian improves the fit less: ΔBIC = %.1f, its amplitude %.1fσ from zero, so the test counts %.0f%% of a full pull", what, dBIC, snr, -100*e.Weight/tr.d.w.ModelComparison.Planet)
+		return
+	}
+	e.Points, e.Weight = TowardNeither, 0
+	e.Reason += fmt.Sprintf("; but %s a Keplerian is not needed (ΔBIC = %+.1f, its amplitude %.1fσ from zero): slow red noise, which no indicator need share, explains the signal as well as an orbit", what, dBIC, snr)
 }
 
 // heldAwayFit fits m with a sinusoid at frequency f and the GP's period
