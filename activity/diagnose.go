@@ -142,9 +142,10 @@ type data struct {
 	// (eccentricSearch); fitRV gives each its shape.
 	ecc []eccSignal
 	// comps holds each signal's fitted curve at the epochs (the joint
-	// fit's), freqs its frequency, and orbitLike whether the signal has been found to need a
-	// Keplerian even against red noise (redNoiseCheck), so that later
-	// signals are judged with it taken out as an orbit.
+	// fit's), freqs its frequency, and orbitLike whether the signal has
+	// been found to need a Keplerian even against red noise
+	// (redNoiseCheck), so that later signals are judged with it taken out
+	// as an orbit.
 	comps     [][]float64
 	freqs     []float64
 	orbitLike []bool

@@ -759,8 +759,10 @@ func (tr *trial) modelComparison() {
 	// indicator tests weigh it).
 	slowBound := atBound && !atP.ok && r0.period > 0.95*m.pHi && 1/tr.f > 2*m.pHi && len(d.s.Indicators) > 0
 	if atBound && !atP.ok && !slowBound {
-		// A free GP whose period runs to its lower bound found no
-		// rotation to model: the comparison would be against white noise.
+		// Otherwise a free GP whose period runs to a bound found no
+		// rotation to model: at the short end the comparison would be
+		// against white noise, and from RVs alone an orbit could not be
+		// told from a magnetic cycle.
 		tr.skipped("model_comparison", fmt.Sprintf("no rotation period is known and a GP with a free period found none (it ran to %.3g d, a bound)", r0.period))
 		return
 	}
