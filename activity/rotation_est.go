@@ -754,10 +754,10 @@ func (tr *trial) modelComparison() {
 	// is smoother and steadier than that noise. Its plateau is short of
 	// a random walk's rising power, so a pull toward a planet is checked
 	// again with a damped random walk beside it (redNoiseCheck). The path
-	// needs an activity indicator beside the RVs: a magnetic cycle is as
-	// smooth as an orbit, and only an indicator can show one (the
-	// indicator tests weigh it).
-	slowBound := atBound && !atP.ok && r0.period > 0.95*m.pHi && 1/tr.f > 2*m.pHi && len(d.s.Indicators) > 0
+	// needs an indicator that can follow a magnetic cycle beside the RVs
+	// (hasCycleIndicator): a cycle is as smooth as an orbit, and only such
+	// an indicator can show one (the indicator tests weigh it).
+	slowBound := atBound && !atP.ok && r0.period > 0.95*m.pHi && 1/tr.f > 2*m.pHi && d.hasCycleIndicator()
 	if atBound && !atP.ok && !slowBound {
 		// Otherwise a free GP whose period runs to a bound found no
 		// rotation to model: at the short end the comparison would be
