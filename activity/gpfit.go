@@ -74,14 +74,8 @@ func (m *gpModel) nParams() int {
 	return gpKernelParams + m.ninst
 }
 
-// span returns the time the data cover (days).
-func (m *gpModel) span() float64 {
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for _, ti := range m.t {
-		lo, hi = math.Min(lo, ti), math.Max(hi, ti)
-	}
-	return math.Max(hi-lo, 1)
-}
+// span returns the time the data cover (days, at least one).
+func (m *gpModel) span() float64 { return math.Max(rvSpan(m.t), 1) }
 
 // space returns the parameters with their transforms; the bounds are the
 // supports of the priors of lnPrior.
