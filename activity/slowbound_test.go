@@ -18,6 +18,9 @@ import (
 // without this comparison: the orbit's test was skipped and the signal
 // inconclusive.
 func TestSlowSignalWithoutRotation(t *testing.T) {
+	if testing.Short() {
+		t.Skip("diagnoses three simulated series; skipped with -short")
+	}
 	orbit := func(t float64) float64 { return 8 * math.Sin(2*math.Pi*(t-2460000)/620+0.4) }
 	s := seasonSeries(11, 5, 0.3, orbit)
 	dg, err := Diagnose(context.Background(), s, &Options{Seed: 3})
