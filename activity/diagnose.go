@@ -263,9 +263,8 @@ func Diagnose(ctx context.Context, s *rvfit.Series, opts *Options) (*Diagnosis, 
 			sigs[k].fapCorr = fap(jointPow[k] / math.Max(1, jointBeta[k]*jointBeta[k]))
 		}
 	}
-	d.comps, d.orbitLike, d.freqs = make([][]float64, len(sigs)), make([]bool, len(sigs)), make([]float64, len(sigs))
-	for k, sg := range sigs {
-		d.freqs[k] = sg.freq
+	d.comps, d.orbitLike, d.freqs = make([][]float64, len(sigs)), make([]bool, len(sigs)), freqs
+	for k := range sigs {
 		d.comps[k] = make([]float64, len(d.t))
 		for i, ti := range d.t {
 			d.comps[k][i] = all.component(k, ti)

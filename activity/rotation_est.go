@@ -1079,7 +1079,7 @@ func (tr *trial) redNoiseCheck(e *Evidence, m *gpModel, r0, r1 gpResult, extra f
 	snr := K / kErr
 	tau := n0.theta[len(n0.theta)-1]
 	what := fmt.Sprintf("against the same activity model with red noise beside it (a damped random walk, time scale %.3g d in the fit without the Keplerian)", tau)
-	frac := 1.0
+	var frac float64
 	switch {
 	case dBIC <= -10 && snr >= 3:
 		e.Reason += fmt.Sprintf("; %s the Keplerian is still needed: ΔBIC = %.1f", what, dBIC)
@@ -1087,8 +1087,6 @@ func (tr *trial) redNoiseCheck(e *Evidence, m *gpModel, r0, r1 gpResult, extra f
 		return
 	case dBIC < -2 && snr >= 3:
 		frac = -dBIC / 10
-	default:
-		frac = 0
 	}
 	if limit := tr.d.w.ModelComparison.Planet * frac; frac > 0 {
 		if -e.Weight > limit {
