@@ -219,7 +219,9 @@ func TestFastRotatorAliasUnresolved(t *testing.T) {
 // cannot tell from an orbit (P_rot/3 = 19.16 d, within its window); the
 // 30.56 d hypothesis leaves it clear, and the 105.3 d one reaches it only
 // through an alias. The model comparison's pull toward a planet then
-// counts for the other 49 %, not for nothing.
+// counts for the other 49 %, not for nothing. With that one hypothesis
+// alone, the comparison's activity model has a mode at the signal's
+// period instead (gpModel.mode).
 func TestGPDegenerateShare(t *testing.T) {
 	s := synth(3, 1, sine(3, 20.42, 0.1), nil, nil)
 	d, err := newData(context.Background(), s, (&Options{}).withDefaults())
@@ -236,10 +238,21 @@ func TestGPDegenerateShare(t *testing.T) {
 	if tr.caveat != "" {
 		t.Errorf("P_rot/3 must not bar a planet-like verdict: %q", tr.caveat)
 	}
-	// One hypothesis at the harmonic holds the whole share.
+	if tr.gpHarmonic != 0 {
+		t.Errorf("three hypotheses: the model comparison got a mode at P_rot/%d", tr.gpHarmonic)
+	}
+	// One hypothesis at P_rot/3: the comparison's activity model gets a
+	// mode at the signal's period instead of taking no side.
 	tr = &trial{d: d, f: 1 / 20.42, rot: Rotation{Period: 57.48, Err: 3.4, Source: starFileSource, Hypotheses: []RotationHypothesis{{Period: 57.48, Err: 3.4, Share: 1}}}}
 	tr.rotationMatch()
-	if tr.gpDegenerate != 1 {
-		t.Errorf("one hypothesis: degenerate share %g, want 1", tr.gpDegenerate)
+	if tr.gpDegenerate != 0 || tr.gpHarmonic != 3 {
+		t.Errorf("one hypothesis at P_rot/3: degenerate share %g and harmonic %d, want 0 and 3", tr.gpDegenerate, tr.gpHarmonic)
+	}
+	// At P_rot/2 the kernel has a mode already, and a sinusoid fits the
+	// coherent part of the activity as well as an orbit: no side.
+	tr = &trial{d: d, f: 2 / 57.48, rot: Rotation{Period: 57.48, Err: 3.4, Source: starFileSource, Hypotheses: []RotationHypothesis{{Period: 57.48, Err: 3.4, Share: 1}}}}
+	tr.rotationMatch()
+	if tr.gpDegenerate != 1 || tr.gpHarmonic != 0 {
+		t.Errorf("one hypothesis at P_rot/2: degenerate share %g and harmonic %d, want 1 and 0", tr.gpDegenerate, tr.gpHarmonic)
 	}
 }

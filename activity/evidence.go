@@ -328,7 +328,13 @@ func (tr *trial) rotationMatch() {
 					tr.caveatKind = CaveatRotation
 				}
 			}
-			if match.gpReach() && hy.Share >= 0.1 && ww >= 0.5 {
+			switch {
+			case match.gpReach() && (match.n == 3 || match.n == 4) && len(hyps) == 1 && ww >= 0.5:
+				// One rotation period and the signal at its third or
+				// fourth harmonic: the model comparison gives its
+				// activity model a mode there (gpModel.harmonic).
+				tr.gpHarmonic = int(match.n)
+			case match.gpReach() && hy.Share >= 0.1 && ww >= 0.5:
 				tr.gpDegenerate = math.Min(1, tr.gpDegenerate+hy.Share)
 			}
 		default:

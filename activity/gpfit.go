@@ -46,6 +46,15 @@ type gpModel struct {
 	// than rotation with no period at all, such as slow drifts of the star
 	// or the instrument (see redNoiseCheck).
 	redNoise bool
+	// mode, when positive, adds to the rotation kernel an oscillator at
+	// that frequency (c/d) with its own amplitude (one parameter, last)
+	// and the fundamental mode's damping time (modeSHO): activity there as
+	// coherent as the rotation signal itself and no more. The model
+	// comparison uses it for a signal at P_rot/3 or P_rot/4, where the
+	// kernel's two modes have no power; the oscillator sits at the
+	// signal's own frequency, since spots at other latitudes put their
+	// harmonics up to the differential rotation's spread away from n/P_rot.
+	mode float64
 	// ctx, when not nil, stops the fits soon after it is cancelled.
 	ctx context.Context
 }
@@ -68,11 +77,18 @@ type gpResult struct {
 const gpKernelParams = 5
 
 func (m *gpModel) nParams() int {
+	n := gpKernelParams + m.ninst
 	if m.redNoise {
-		return gpKernelParams + m.ninst + 2
+		n += 2
 	}
-	return gpKernelParams + m.ninst
+	if m.mode > 0 {
+		n++
+	}
+	return n
 }
+
+// harmIdx is the index of the added oscillator's amplitude in θ (mode).
+func (m *gpModel) harmIdx() int { return m.nParams() - 1 }
 
 // span returns the time the data cover (days, at least one).
 func (m *gpModel) span() float64 { return math.Max(rvSpan(m.t), 1) }
@@ -96,6 +112,9 @@ func (m *gpModel) space() mapfit.Space {
 			mapfit.Param{Name: "rn_amp", Kind: mapfit.LogBounded, Lo: 1e-3 * sc, Hi: 20 * sc},
 			mapfit.Param{Name: "rn_tau", Kind: mapfit.LogBounded, Lo: m.rnTauLo(), Hi: math.Max(10*m.span(), 2*m.rnTauLo())})
 	}
+	if m.mode > 0 {
+		s = append(s, mapfit.Param{Name: "gp_mode_amp", Kind: mapfit.LogBounded, Lo: 1e-3 * sc, Hi: 20 * sc})
+	}
 	return s
 }
 
@@ -103,11 +122,33 @@ func (m *gpModel) space() mapfit.Space {
 func (m *gpModel) noise(theta []float64) *gp.Noise {
 	k := gp.RotationSHO{Amp: theta[0], Period: theta[1], Quality: theta[2], QualityGap: theta[3], Mix: theta[4]}
 	jit := append([]float64(nil), theta[gpKernelParams:gpKernelParams+m.ninst]...)
+	terms := gp.Sum{k}
 	if m.redNoise {
 		rn := theta[gpKernelParams+m.ninst:]
-		return &gp.Noise{Kernel: gp.Sum{k, gp.Exponential{Sigma: rn[0], Tau: rn[1]}}, Jitter: jit}
+		terms = append(terms, gp.Exponential{Sigma: rn[0], Tau: rn[1]})
 	}
-	return &gp.Noise{Kernel: k, Jitter: jit}
+	if m.mode > 0 {
+		terms = append(terms, modeSHO(k, m.mode, theta[m.harmIdx()]))
+	}
+	if len(terms) == 1 {
+		return &gp.Noise{Kernel: k, Jitter: jit}
+	}
+	return &gp.Noise{Kernel: terms, Jitter: jit}
+}
+
+// modeSHO returns an oscillator of standard deviation amp that oscillates
+// at frequency f (c/d) and decays as fast as k's fundamental mode: spots
+// that live for a time τ shape every harmonic of the rotation signal with
+// the same envelope. An SHO of frequency ω0 and quality Q oscillates at
+// ω0 √(1 − 1/(4Q²)) and decays at the rate ω0/(2Q); k's fundamental
+// oscillates at 2π/P and decays at 2π/(P √(4Q_1² − 1)), so an equal decay
+// rate at 2πf needs √(4Q² − 1) = f P √(4Q_1² − 1). Its variance is S0 ω0 Q.
+func modeSHO(k gp.RotationSHO, f, amp float64) gp.SHO {
+	q1 := 0.5 + k.Quality + k.QualityGap
+	g := f * k.Period * math.Sqrt(4*q1*q1-1)
+	q := 0.5 * math.Sqrt(1+g*g)
+	w := 2 * math.Pi * f * 2 * q / g
+	return gp.SHO{S0: amp * amp / (w * q), W0: w, Q: q}
 }
 
 // design returns the columns of X.
@@ -244,6 +285,9 @@ func (m *gpModel) lnPrior(theta []float64) float64 {
 		rn := theta[gpKernelParams+m.ninst:]
 		lp -= math.Log(rn[0]) + math.Log(rn[1])
 	}
+	if m.mode > 0 {
+		lp -= math.Log(theta[m.harmIdx()])
+	}
 	lnP := math.Log(theta[1])
 	lp -= lnP
 	if m.lnPSigma > 0 {
@@ -310,6 +354,9 @@ func (m *gpModel) start(p float64) []float64 {
 	}
 	if m.redNoise {
 		th = append(th, 0.3*m.scale, m.span()/3)
+	}
+	if m.mode > 0 {
+		th = append(th, 0.3*m.scale)
 	}
 	for i, q := range sp {
 		if q.Kind == mapfit.Bounded || q.Kind == mapfit.LogBounded {

@@ -725,6 +725,9 @@ func (tr *trial) modelComparison() {
 		mi := &gpModel{t: d.t, y: tr.own, sigma: d.err, inst: d.inst, ninst: d.ninst, t0: d.t0,
 			pLo: math.Max(0.5, pa*math.Exp(-4*lnSig)), pHi: pa * math.Exp(4*lnSig), lnPMu: math.Log(pa), lnPSigma: lnSig,
 			scale: math.Max(stddev(tr.own), 1e-12), ctx: d.ctx, shape: tr.shape}
+		if tr.gpHarmonic > 0 {
+			mi.mode = tr.f
+		}
 		if free {
 			mi.pLo, mi.pHi, mi.lnPMu, mi.lnPSigma = rotPMin, math.Max(3, math.Min(rotPMax, d.T/2)), 0, 0
 		}
@@ -792,6 +795,9 @@ func (tr *trial) modelComparison() {
 		return
 	}
 	gpWhat := "P_rot"
+	if tr.gpHarmonic > 0 {
+		gpWhat = fmt.Sprintf("P_rot, with a mode at the signal's period (near P_rot/%d) as coherent as the rotation's,", tr.gpHarmonic)
+	}
 	switch {
 	case slowBound:
 		gpWhat = fmt.Sprintf("a free period (no rotation period known; it runs to its longest, %.3g d, and models the slow variations as red noise)", m.pHi)
@@ -826,7 +832,7 @@ func (tr *trial) modelComparison() {
 	// indicators allow it.
 	// (The multi-output model fits a sinusoid: an eccentric orbit keeps
 	// the RV-only comparison, which fits its shape.)
-	if !free && !d.opts.SingleOutput && tr.shape.e == 0 && d.ctx.Err() == nil {
+	if !free && !d.opts.SingleOutput && tr.shape.e == 0 && tr.gpHarmonic == 0 && d.ctx.Err() == nil {
 		if w0, w1, ok := tr.multiComparison(prot, perr); ok {
 			tr.det.multi = w1
 			dlnL = w1.LogLikelihood - w0.LogLikelihood
