@@ -621,13 +621,14 @@ type trial struct {
 	// strongRotation reports whether the period sits at P_rot or P_rot/2
 	// of a rotation hypothesis; gpDegenerate is the share of the rotation
 	// hypotheses at one of whose harmonics up to P_rot/4 it sits, where a
-	// sinusoid fits activity as well as an orbit (but see gpHarmonic); caveat is why the
-	// signal cannot be planet-like, caveatKind its kind (Signal.CaveatKind).
+	// sinusoid fits activity as well as an orbit (but see gpHarmonic);
+	// caveat is why the signal cannot be planet-like, caveatKind its kind
+	// (Signal.CaveatKind).
 	strongRotation bool
 	gpDegenerate   float64
 	// gpHarmonic is 3 or 4 when the one rotation period puts the signal
 	// at P_rot/3 or P_rot/4: the model comparison's activity model then
-	// has an oscillator there too (gpModel.harmonic), instead of the test
+	// has an oscillator there too (gpModel.mode), instead of the test
 	// taking no side.
 	gpHarmonic int
 	caveat     string

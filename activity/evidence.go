@@ -332,7 +332,7 @@ func (tr *trial) rotationMatch() {
 			case match.gpReach() && (match.n == 3 || match.n == 4) && len(hyps) == 1 && ww >= 0.5:
 				// One rotation period and the signal at its third or
 				// fourth harmonic: the model comparison gives its
-				// activity model a mode there (gpModel.harmonic).
+				// activity model a mode there (gpModel.mode).
 				tr.gpHarmonic = int(match.n)
 			case match.gpReach() && hy.Share >= 0.1 && ww >= 0.5:
 				tr.gpDegenerate = math.Min(1, tr.gpDegenerate+hy.Share)

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
@@ -87,8 +88,25 @@ func (m *gpModel) nParams() int {
 	return n
 }
 
-// harmIdx is the index of the added oscillator's amplitude in θ (mode).
-func (m *gpModel) harmIdx() int { return m.nParams() - 1 }
+// modeIdx is the index of the added oscillator's amplitude in θ (mode).
+func (m *gpModel) modeIdx() int { return m.nParams() - 1 }
+
+// withoutMode returns the model and its fit r without the oscillator of
+// mode (the same when there is none): the model comparison's fit as the
+// later tests reuse it (the alias check, the season test's errors, the
+// report's GP curve). A noise mode at the signal's frequency would answer
+// their questions for them: an alias check with activity allowed at one
+// of the two candidate periods favours the other. The oscillator's
+// amplitude is θ's last parameter, so the rest keeps its meaning.
+func withoutMode(m *gpModel, r gpResult) (*gpModel, *gpResult) {
+	if m.mode <= 0 {
+		return m, &r
+	}
+	mm := *m
+	mm.mode = 0
+	r.theta = slices.Clone(r.theta[:mm.nParams()])
+	return &mm, &r
+}
 
 // span returns the time the data cover (days, at least one).
 func (m *gpModel) span() float64 { return math.Max(rvSpan(m.t), 1) }
@@ -128,7 +146,7 @@ func (m *gpModel) noise(theta []float64) *gp.Noise {
 		terms = append(terms, gp.Exponential{Sigma: rn[0], Tau: rn[1]})
 	}
 	if m.mode > 0 {
-		terms = append(terms, modeSHO(k, m.mode, theta[m.harmIdx()]))
+		terms = append(terms, modeSHO(k, m.mode, theta[m.modeIdx()]))
 	}
 	if len(terms) == 1 {
 		return &gp.Noise{Kernel: k, Jitter: jit}
@@ -286,7 +304,7 @@ func (m *gpModel) lnPrior(theta []float64) float64 {
 		lp -= math.Log(rn[0]) + math.Log(rn[1])
 	}
 	if m.mode > 0 {
-		lp -= math.Log(theta[m.harmIdx()])
+		lp -= math.Log(theta[m.modeIdx()])
 	}
 	lnP := math.Log(theta[1])
 	lp -= lnP

@@ -129,3 +129,25 @@ func TestModelComparisonThirdHarmonic(t *testing.T) {
 		}
 	}
 }
+
+// TestWithoutMode: the model comparison's fit, as the later tests reuse
+// it, loses the added oscillator and its amplitude (θ's last parameter),
+// and keeps everything else.
+func TestWithoutMode(t *testing.T) {
+	m := &gpModel{ninst: 2, mode: 1 / 7.9, redNoise: true}
+	theta := []float64{3, 24, 1, 2, 0.5, 0.4, 0.6, 1.1, 300, 2.2}
+	if len(theta) != m.nParams() {
+		t.Fatalf("test θ has %d parameters, the model %d", len(theta), m.nParams())
+	}
+	mm, rr := withoutMode(m, gpResult{theta: theta, ok: true})
+	if mm.mode != 0 || !mm.redNoise || mm.ninst != 2 || m.mode == 0 {
+		t.Errorf("model without the mode: %+v (the original's mode %g)", mm, m.mode)
+	}
+	if len(rr.theta) != mm.nParams() || rr.theta[len(rr.theta)-1] != 300 || !rr.ok {
+		t.Errorf("θ without the mode: %v, want the first %d of %v", rr.theta, mm.nParams(), theta)
+	}
+	plain := &gpModel{ninst: 1}
+	if p, _ := withoutMode(plain, gpResult{theta: []float64{1, 2, 3, 4, 0.5, 1}}); p != plain {
+		t.Error("a model without a mode must come back as it is")
+	}
+}

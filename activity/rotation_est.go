@@ -788,7 +788,7 @@ func (tr *trial) modelComparison() {
 	}
 	r1 := m1.fit(starts)
 	if r1.ok {
-		tr.det.gp, tr.det.gpFit = &m1, &r1
+		tr.det.gp, tr.det.gpFit = withoutMode(&m1, r1)
 	}
 	if !r0.ok || !r1.ok {
 		tr.skipped("model_comparison", "the Gaussian-process fit did not converge")
