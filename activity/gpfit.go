@@ -140,6 +140,11 @@ func (m *gpModel) space() mapfit.Space {
 func (m *gpModel) noise(theta []float64) *gp.Noise {
 	k := gp.RotationSHO{Amp: theta[0], Period: theta[1], Quality: theta[2], QualityGap: theta[3], Mix: theta[4]}
 	jit := append([]float64(nil), theta[gpKernelParams:gpKernelParams+m.ninst]...)
+	if !m.redNoise && !(m.mode > 0) {
+		// The common case: the rotation kernel alone, no Sum built on
+		// every evaluation of the likelihood.
+		return &gp.Noise{Kernel: k, Jitter: jit}
+	}
 	terms := gp.Sum{k}
 	if m.redNoise {
 		rn := theta[gpKernelParams+m.ninst:]
@@ -147,9 +152,6 @@ func (m *gpModel) noise(theta []float64) *gp.Noise {
 	}
 	if m.mode > 0 {
 		terms = append(terms, modeSHO(k, m.mode, theta[m.modeIdx()]))
-	}
-	if len(terms) == 1 {
-		return &gp.Noise{Kernel: k, Jitter: jit}
 	}
 	return &gp.Noise{Kernel: terms, Jitter: jit}
 }
