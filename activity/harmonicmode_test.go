@@ -120,7 +120,7 @@ func TestModelComparisonThirdHarmonic(t *testing.T) {
 			t.Fatalf("%s: rotation match %v, model comparison %v; skipped: %+v", tc.name, rm, mc, sg.Skipped)
 		}
 		t.Logf("%s: %s | %s", tc.name, rm.Reason, mc.Reason)
-		full := mc.Points == TowardPlanet && mc.Weight <= -2.5+1e-9
+		full := mc.Points == TowardPlanet && mc.Weight <= -DefaultWeights().ModelComparison.Planet+1e-9
 		if tc.planet && !full {
 			t.Errorf("%s: the comparison does not pull fully toward a planet: %s", tc.name, mc.Reason)
 		}
